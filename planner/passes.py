@@ -42,8 +42,8 @@ SECONDS_PER_DAY = 86400.0
 # Clearance (deg) beyond which a sampled extreme cannot cross zero between two
 # grid points: generous against the few tenths of a degree a low LEO peak moves.
 _EXTREME_SEARCH_DEG = 10.0
-_BISECTION_STEPS = 26          # 60 s bracket / 2**26 ~ 1 microsecond
-_GOLDEN_STEPS = 40             # 120 s bracket * 0.618**40 ~ 0.5 microsecond
+_BISECTION_STEPS = 22          # 60 s bracket / 2**22 ~ 15 microseconds
+_GOLDEN_STEPS = 32             # 120 s bracket * 0.618**32 ~ 25 microseconds
 _GOLDEN = (np.sqrt(5.0) - 1.0) / 2.0
 _BELOW_EVERYTHING_DEG = -180.0  # clearance used where SGP4 reports an error
 
@@ -214,7 +214,10 @@ def _golden_extreme(function, low: np.ndarray, high: np.ndarray, maximize: bool)
 
 
 def _bisect_roots(function, left: np.ndarray, right: np.ndarray) -> np.ndarray:
-    """Vectorized bisection for a zero of ``function`` in each [left, right] (signs differ)."""
+    """Vectorized bisection for a zero of ``function`` in each [left, right] (signs differ).
+
+    The bracket ends on the positive side of the zero are returned (within 15 us of it).
+    """
     left, right = left.astype(float).copy(), right.astype(float).copy()
     left_positive = function(left) > 0
     for _ in range(_BISECTION_STEPS):
@@ -222,7 +225,8 @@ def _bisect_roots(function, left: np.ndarray, right: np.ndarray) -> np.ndarray:
         same_as_left = (function(middle) > 0) == left_positive
         left = np.where(same_as_left, middle, left)
         right = np.where(same_as_left, right, middle)
-    return 0.5 * (left + right)
+    # Return the side inside the pass, so AOS and LOS samples never fall below the mask.
+    return np.where(left_positive, left, right)
 
 
 def _search_grid(duration_s: float, step_s: float) -> np.ndarray:
@@ -230,14 +234,18 @@ def _search_grid(duration_s: float, step_s: float) -> np.ndarray:
     return np.append(grid, duration_s) if len(grid) == 0 or grid[-1] < duration_s else grid
 
 
-def _pass_intervals(observer: Observer, satrec, duration_s: float, step_s: float) -> list[tuple[float, float, bool, bool]]:
+def _pass_intervals(
+    observer: Observer, target: Target, duration_s: float, step_s: float
+) -> list[tuple[float, float, bool, bool]]:
     """(aos_s, los_s, aos_clipped, los_clipped) for every interval of positive clearance."""
+    satrec = target.element_set.satrec
     grid = _search_grid(duration_s, step_s)
 
     def clearance(t):
         return observer.clearance_deg(satrec, t)[0]
 
-    values = clearance(grid)
+    values, grid_look = observer.clearance_deg(satrec, grid)
+    _report_sgp4_failure(observer, target, grid, grid_look.error)
     anchors_t, anchors_v = [grid], [values]
     if len(grid) >= 3:
         inner = np.arange(1, len(grid) - 1)
@@ -307,28 +315,26 @@ def predict_passes(
     return passes
 
 
-def _report_sgp4_failure(observer: Observer, target: Target, duration_s: float) -> None:
-    satrec = target.element_set.satrec
-    label = f"{target.display_name} ({target.element_set.norad_id})"
-    if satrec.error:
-        warn(f"{label}: SGP4 cannot start from these elements ({SGP4_ERRORS.get(satrec.error, satrec.error)}); no passes predicted")
-        return
-    grid = _search_grid(duration_s, 60.0)
-    error = observer.look(satrec, grid).error
+def _report_sgp4_failure(observer: Observer, target: Target, grid_s: np.ndarray, error: np.ndarray) -> None:
+    """Warn once per satellite from the first search-grid time at which SGP4 fails."""
     if np.any(error):
         first = int(np.argmax(error != 0))
-        when = observer.start_utc + timedelta(seconds=float(grid[first]))
+        when = observer.start_utc + timedelta(seconds=float(grid_s[first]))
         reason = SGP4_ERRORS.get(int(error[first]), f"error {int(error[first])}")
-        warn(f"{label}: SGP4 fails from {when:%Y-%m-%dT%H:%M:%SZ} on ({reason}); no passes predicted after that")
+        warn(
+            f"{target.display_name} ({target.element_set.norad_id}): SGP4 fails from "
+            f"{when:%Y-%m-%dT%H:%M:%SZ} on ({reason}); no passes predicted after that"
+        )
 
 
 def _passes_of(observer: Observer, target: Target, duration_s: float, step_s: float) -> list[Pass]:
     element_set = target.element_set
     satrec = element_set.satrec
-    _report_sgp4_failure(observer, target, duration_s)
     if satrec.error:
+        reason = SGP4_ERRORS.get(satrec.error, f"error {satrec.error}")
+        warn(f"{target.display_name} ({element_set.norad_id}): SGP4 cannot start from these elements ({reason}); no passes predicted")
         return []
-    intervals = _pass_intervals(observer, satrec, duration_s, coarse_step_s(element_set.period_s))
+    intervals = _pass_intervals(observer, target, duration_s, coarse_step_s(element_set.period_s))
     if not intervals:
         return []
     aos = np.array([i[0] for i in intervals])
