@@ -20,7 +20,7 @@ $(TEST_STAMP): pyproject.toml | $(BIN)/python
 	touch $@ $(STAMP)
 
 demo: $(STAMP)
-	$(BIN)/planner demo scenarios/demo.toml
+	$(BIN)/planner passes scenarios/demo.toml
 
 test: $(TEST_STAMP)
 	$(BIN)/python -m pytest
