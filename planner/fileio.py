@@ -22,6 +22,7 @@ def write_atomically(path: str | os.PathLike, content: str | bytes) -> Path:
     data = content.encode("utf-8") if isinstance(content, str) else content
     fd, tmp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
     try:
+        os.chmod(tmp_name, 0o666 & ~_current_umask())  # mkstemp makes it owner-only
         with os.fdopen(fd, "wb") as handle:
             handle.write(data)
             handle.flush()
@@ -34,3 +35,9 @@ def write_atomically(path: str | os.PathLike, content: str | bytes) -> Path:
             pass
         raise
     return target
+
+
+def _current_umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask

@@ -49,6 +49,12 @@ __all__ = [
     "WindowConfig",
     "SatelliteConfig",
     "Scenario",
+    "CandidateConfig",
+    "CableConfig",
+    "CriteriaConfig",
+    "FeedlineRun",
+    "ReceiverConfig",
+    "TransmitterConfig",
     "load_scenario",
     "describe_validation_error",
     "validated",
@@ -217,6 +223,44 @@ Longitude = Annotated[Real, _Range(-180, 180)]
 Altitude = Annotated[Real, _Range(-500, 9000)]
 Frequency = Annotated[Real, _Range(1, 50000)]
 
+def _resolve_file(value: Any, info: ValidationInfo, allowed: str) -> Path:
+    """A file named in the scenario: relative to the scenario's folder, and it must exist.
+
+    ``info.context`` may hold ``base_dir`` (default: the working folder) and
+    ``check_files`` (default True).
+    """
+    if isinstance(value, Path):
+        text = str(value)
+    elif isinstance(value, str):
+        text = value
+    else:
+        raise _error(f"expected a file path in quotes, got {_show(value)}", allowed)
+    if not text.strip():
+        raise _error("the path is empty", allowed)
+    if not text.isprintable():
+        raise _error(f"the path {_show(text)} holds control characters", allowed)
+    context = info.context if isinstance(info.context, Mapping) else {}
+    base = context.get("base_dir")
+    path = Path(text)
+    try:
+        path = path.expanduser()
+    except RuntimeError:  # '~user' with no such user: keep the text as written
+        pass
+    if not path.is_absolute():
+        path = Path(base if base is not None else Path.cwd()) / path
+    path = Path(os.path.normpath(path.absolute()))
+    if context.get("check_files", True):
+        try:
+            exists, is_file = path.exists(), path.is_file()
+        except (OSError, ValueError) as exc:
+            raise _error(f"file {text} cannot be checked: {exc}", allowed) from None
+        if not exists:
+            raise _error(f"file {text} does not exist (looked for {path})", allowed)
+        if not is_file:
+            raise _error(f"{text} is not a file (looked at {path})", allowed)
+    return path
+
+
 _AZIMUTH = _Range(0, 360, hi_open=True)
 _MASK_ELEVATION = _Range(-10, 90)
 
@@ -358,40 +402,16 @@ class SatelliteConfig(BaseModel):
     required_cn0_dbhz: Annotated[Real, _Range(0, lo_open=True)] | None = None
     framing_efficiency: Annotated[Real, _Range(0, 1, lo_open=True)] = 1.0
     weight: Annotated[Real, _Range(0)] = 1.0
+    # The satellite's receiver, for the uplink budget (used when uplink_mhz is given).
+    uplink_rx_gain_dbi: Annotated[Real, _Range(-20, 40)] = 0.0
+    uplink_rx_noise_temperature_k: Annotated[Real, _Range(10, 20000)] = 1000.0  # Earth fills its view
+    uplink_rx_polarization: Literal["rhcp", "lhcp", "linear", "linear-tumbling"] = "linear-tumbling"
+    uplink_required_cn0_dbhz: Annotated[Real, _Range(0, lo_open=True)] | None = None
 
     @field_validator("elements", mode="plain")
     @classmethod
     def _elements(cls, value: Any, info: ValidationInfo) -> Path:
-        if isinstance(value, Path):
-            text = str(value)
-        elif isinstance(value, str):
-            text = value
-        else:
-            raise _error(f"expected a file path in quotes, got {_show(value)}", _ALLOWED_ELEMENTS)
-        if not text.strip():
-            raise _error("the path is empty", _ALLOWED_ELEMENTS)
-        if not text.isprintable():
-            raise _error(f"the path {_show(text)} holds control characters", _ALLOWED_ELEMENTS)
-        context = info.context if isinstance(info.context, Mapping) else {}
-        base = context.get("base_dir")
-        path = Path(text)
-        try:
-            path = path.expanduser()
-        except RuntimeError:  # '~user' with no such user: keep the text as written
-            pass
-        if not path.is_absolute():
-            path = Path(base if base is not None else Path.cwd()) / path
-        path = Path(os.path.normpath(path.absolute()))
-        if context.get("check_files", True):
-            try:
-                exists, is_file = path.exists(), path.is_file()
-            except (OSError, ValueError) as exc:
-                raise _error(f"file {text} cannot be checked: {exc}", _ALLOWED_ELEMENTS) from None
-            if not exists:
-                raise _error(f"file {text} does not exist (looked for {path})", _ALLOWED_ELEMENTS)
-            if not is_file:
-                raise _error(f"{text} is not a file (looked at {path})", _ALLOWED_ELEMENTS)
-        return path
+        return _resolve_file(value, info, _ALLOWED_ELEMENTS)
 
     @property
     def downlink_frequency_hz(self) -> float:
@@ -402,6 +422,117 @@ class SatelliteConfig(BaseModel):
         return None if self.uplink_mhz is None else self.uplink_mhz * 1e6
 
 
+
+
+_ALLOWED_PATTERN = (
+    "the path of a pattern table (CSV, see patterns/README.md) in quotes; a relative path is "
+    "taken from the scenario file's folder"
+)
+LnaPosition = Literal["antenna", "receiver", "none"]
+
+
+class FeedlineRun(BaseModel):
+    """One length of cable between the antenna and the receiver (or transmitter)."""
+
+    model_config = _STRICT
+
+    cable: Name  # a catalog type (see planner.feedline.CABLES) or a [[cable]] of the scenario
+    length_m: Annotated[Real, _Range(0, 1000, lo_open=True)]
+
+
+class CableConfig(BaseModel):
+    """A user-defined cable: datasheet loss points, fitted as k1 sqrt(f) + k2 f."""
+
+    model_config = _STRICT
+
+    name: Name
+    impedance_ohm: Annotated[Real, _Range(10, 600)] = 50.0
+    velocity_factor: Annotated[Real, _Range(0.3, 1.0)] = 0.66
+    loss_db_per_100m: list[tuple[Frequency, Annotated[Real, _Range(0, 1000, lo_open=True)]]] = Field(
+        description="[[frequency_mhz, loss_db_per_100m], ...], one or more points from the datasheet"
+    )
+
+    @field_validator("loss_db_per_100m", mode="after")
+    @classmethod
+    def _points(cls, value: list[tuple[float, float]]) -> list[tuple[float, float]]:
+        if not value:
+            raise _error("no loss points are given", "one or more [frequency_mhz, loss_db_per_100m] pairs")
+        frequencies = [f for f, _ in value]
+        if len(set(frequencies)) != len(frequencies):
+            raise _error("a frequency appears twice", "each frequency once")
+        return sorted(value)
+
+
+class ReceiverConfig(BaseModel):
+    """The station's receive chain behind the antenna."""
+
+    model_config = _STRICT
+
+    lna_noise_figure_db: Annotated[Real, _Range(0, 20)] = 0.8
+    lna_gain_db: Annotated[Real, _Range(0, 60)] = 20.0
+    lna_position: LnaPosition = "antenna"  # at the antenna, at the receiver end of the feedline, or none
+    receiver_noise_figure_db: Annotated[Real, _Range(0, 30)] = 6.0
+    feedline_temperature_k: Annotated[Real, _Range(150, 350)] = 290.0
+    ground_temperature_k: Annotated[Real, _Range(150, 350)] = 290.0
+
+
+class CandidateConfig(BaseModel):
+    """One antenna set-up to compare: pattern table, feedline, connectors, LNA position."""
+
+    model_config = _STRICT
+
+    name: Name
+    pattern: Path = Field(description=_ALLOWED_PATTERN)
+    feedline: list[FeedlineRun] = []
+    connectors: Annotated[int, Strict(), _Range(0, 30)] = 2
+    connector_loss_db: Annotated[Real, _Range(0, 2)] = 0.1  # each; common practice
+    lna_position: LnaPosition | None = None  # overrides [receiver] for this candidate
+    feed_vswr: Annotated[Real, _Range(1, 20)] | None = None  # overrides the pattern header's
+
+    @field_validator("pattern", mode="plain")
+    @classmethod
+    def _pattern(cls, value: Any, info: ValidationInfo) -> Path:
+        return _resolve_file(value, info, _ALLOWED_PATTERN)
+
+
+class TransmitterConfig(BaseModel):
+    """The station's transmitter, for uplinks and the RF exposure estimate."""
+
+    model_config = _STRICT
+
+    power_w: Annotated[Real, _Range(0, 2000, lo_open=True)]
+    antenna_gain_dbi: Annotated[Real, _Range(-20, 30)] = 0.0
+    polarization: Literal["rhcp", "lhcp", "linear"] = "rhcp"
+    feedline: list[FeedlineRun] = []
+    connectors: Annotated[int, Strict(), _Range(0, 30)] = 2
+    connector_loss_db: Annotated[Real, _Range(0, 2)] = 0.1
+
+
+class CriteriaConfig(BaseModel):
+    """What makes a pass usable, and what the ranking maximizes."""
+
+    model_config = _STRICT
+
+    min_margin_db: Annotated[Real, _Range(-20, 40)] = 3.0
+    min_usable_s: Annotated[Real, _Range(0, 3600)] = 60.0
+    objective: Literal["data_volume", "usable_time"] = "data_volume"
+    fade_percentile: Annotated[Real, _Range(50, 99.9)] = 90.0  # for tumbling linear waves
+    budget_uncertainty_db: Annotated[Real, _Range(0, 20)] = 2.0  # robustness check shifts
+
+
+def _unique_names(value: list, what: str) -> list:
+    first: dict[str, int] = {}
+    for index, item in enumerate(value, start=1):
+        if item.name in first:
+            raise _error(
+                f"{_show(item.name)} is already the name of {what} #{first[item.name]}",
+                f"each {what} name once",
+                at=(index - 1, "name"),
+            )
+        first[item.name] = index
+    return value
+
+
 class Scenario(BaseModel):
     """A whole scenario file. ``source_path`` is set by :func:`load_scenario`."""
 
@@ -410,7 +541,11 @@ class Scenario(BaseModel):
     station: StationConfig
     window: WindowConfig
     satellite: list[SatelliteConfig]
-    # Later tables ([receiver], [[candidate]], [criteria]) become one field each here.
+    receiver: ReceiverConfig = ReceiverConfig()
+    candidate: list[CandidateConfig] = []
+    cable: list[CableConfig] = []
+    transmitter: TransmitterConfig | None = None
+    criteria: CriteriaConfig = CriteriaConfig()
 
     _source_path: Path | None = PrivateAttr(default=None)
 
@@ -428,16 +563,31 @@ class Scenario(BaseModel):
     def _satellites(cls, value: list[SatelliteConfig]) -> list[SatelliteConfig]:
         if not value:
             raise _error("no satellites are given", "one or more [[satellite]] tables")
-        first: dict[str, int] = {}
-        for index, sat in enumerate(value, start=1):
-            if sat.name in first:
-                raise _error(
-                    f"{_show(sat.name)} is already the name of satellite #{first[sat.name]}",
-                    "each satellite name once",
-                    at=(index - 1, "name"),
-                )
-            first[sat.name] = index
-        return value
+        return _unique_names(value, "satellite")
+
+    @field_validator("candidate", mode="after")
+    @classmethod
+    def _candidates(cls, value: list[CandidateConfig]) -> list[CandidateConfig]:
+        return _unique_names(value, "candidate")
+
+    @field_validator("cable", mode="after")
+    @classmethod
+    def _cables(cls, value: list[CableConfig]) -> list[CableConfig]:
+        return _unique_names(value, "cable")
+
+    def candidate_named(self, name: str) -> CandidateConfig:
+        for candidate in self.candidate:
+            if candidate.name == name:
+                return candidate
+        allowed = ", ".join(c.name for c in self.candidate) or "none: add [[candidate]] tables"
+        raise UserError(f"{self.source_path or 'scenario'}: no candidate named {name!r}; allowed: {allowed}")
+
+    def satellite_named(self, name: str) -> SatelliteConfig:
+        for satellite in self.satellite:
+            if satellite.name == name or (satellite.norad_id is not None and str(satellite.norad_id) == name):
+                return satellite
+        allowed = ", ".join(s.name for s in self.satellite)
+        raise UserError(f"{self.source_path or 'scenario'}: no satellite named {name!r}; allowed: {allowed}")
 
 
 # --------------------------------------------------------------------------- reports

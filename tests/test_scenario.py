@@ -19,6 +19,8 @@ import math
 from datetime import datetime, timedelta, timezone
 from pathlib import Path
 
+import shutil
+
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
@@ -99,6 +101,7 @@ def tree(tmp_path_factory: pytest.TempPathFactory) -> Path:
     (root / "scenarios").mkdir()
     (root / "sample_tle").mkdir()
     _write_generated_elements(root / "sample_tle" / "demo.tle")
+    shutil.copytree(REPO / "patterns", root / "patterns")  # candidates name shipped tables
     return root
 
 
@@ -222,10 +225,10 @@ BAD_CASES = [
         id="unknown top-level key",
     ),
     pytest.param(
-        "[station]",
-        '[receiver]\nlna_gain_db = 20\n[station]',
-        ["receiver: unknown key"],
-        id="future table not yet known",
+        "lna_gain_db = 20",
+        "lna_gain_dbb = 20",
+        ["receiver.lna_gain_dbb: unknown key", "lna_gain_db"],
+        id="unknown key in receiver",
     ),
     pytest.param(
         "[station]",
@@ -307,7 +310,7 @@ BAD_CASES = [
         id="nan",
     ),
     pytest.param(
-        "downlink_mhz = 145.84",
+        "downlink_mhz = 435.84",
         "downlink_mhz = 0",
         ["satellite #2 (TARNBECK).downlink_mhz: 0 is out of range", "1 to 50000"],
         id="downlink 0",
