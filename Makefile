@@ -20,7 +20,7 @@ $(TEST_STAMP): pyproject.toml | $(BIN)/python
 	touch $@ $(STAMP)
 
 demo: $(STAMP)
-	$(BIN)/planner passes scenarios/demo.toml
+	$(BIN)/planner compare scenarios/demo.toml --report report
 
 test: $(TEST_STAMP)
 	$(BIN)/python -m pytest

@@ -335,6 +335,140 @@ def budget(
     _print_exposure(study, sys.stdout)
 
 
+def _forecast_with_progress(study, candidates, quiet: bool):
+    """Run the forecast with a progress bar on stderr (silenced by --quiet)."""
+    from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+
+    from planner.forecast import forecast
+
+    if quiet:
+        return forecast(study, candidates)
+    progress = Progress(
+        TextColumn("budgets"), BarColumn(), TextColumn("{task.completed}/{task.total}"), TimeElapsedColumn(),
+        console=Console(stderr=True), transient=True,
+    )
+    with progress:
+        task = progress.add_task("budgets", total=None)
+
+        def report(done: int, total: int) -> None:
+            progress.update(task, completed=done, total=total)
+
+        return forecast(study, candidates, progress=report)
+
+
+def _chosen_candidates(study, candidate):
+    if not study.candidate_names:
+        raise UserError(f"{study.scenario.source_path}: no [[candidate]] tables; add at least one set-up to compare")
+    if candidate:
+        for name in candidate:
+            study.candidate(name)  # refuses unknown names with the allowed list
+        return list(candidate)
+    return study.candidate_names
+
+
+@app.command()
+def week(
+    scenario: Path = typer.Argument(..., help="Scenario TOML file."),
+    candidate: Optional[list[str]] = typer.Option(None, "--candidate", help="Only this candidate; repeatable."),
+    format: str = typer.Option("table", "--format", help="table, csv or json."),
+    output: Optional[Path] = typer.Option(None, "--output", help="Write to this file (atomically)."),
+    quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
+    allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+) -> None:
+    """Weekly forecast per candidate and satellite: passes, usable passes, minutes, data volume."""
+    from planner.export import WEEK_COLUMNS, to_csv, to_json, week_rows
+    from planner.forecast import band_table
+
+    _check_format(format)
+    study = _load_study(scenario, allow_stale)
+    result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet)
+    rows = week_rows(result.weekly)
+    if format == "csv":
+        _emit(to_csv(rows, WEEK_COLUMNS), output)
+        return
+    if format == "json":
+        _emit(to_json(rows), output)
+        return
+    if output is not None:
+        raise UserError("--output: a table is for the terminal; use --format csv or json with --output")
+    console = _stdout()
+    table = Table(title=f"{result.days:g}-day forecast at {study.station.name} (usable: margin >= "
+                  f"{study.scenario.criteria.min_margin_db:g} dB for >= {study.scenario.criteria.min_usable_s:g} s)", title_justify="left")
+    for heading in ("candidate", "satellite", "passes", "usable", "usable min", "min/day", "Mbit", "Mbit/day", "dropouts"):
+        table.add_column(heading, justify="left" if heading in ("candidate", "satellite") else "right")
+    for record in result.weekly.to_dict("records"):
+        table.add_row(
+            record["candidate"], record["satellite"], str(record["passes"]), str(record["usable_passes"]),
+            f"{record['usable_minutes']:.1f}", f"{record['usable_minutes_per_day']:.1f}",
+            f"{record['data_volume_mbit']:.1f}", f"{record['data_volume_mbit_per_day']:.1f}", str(record["dropouts"]),
+        )
+    console.print(table)
+    bands = band_table(result.outcomes)
+    pivot = bands.pivot_table(index="candidate", columns="elevation_band", values="usable_minutes", aggfunc="sum", fill_value=0.0)
+    band_view = Table(title="usable minutes by maximum elevation of the pass (deg)", title_justify="left")
+    band_view.add_column("candidate")
+    for band in pivot.columns:
+        band_view.add_column(str(band), justify="right")
+    for name, values in pivot.iterrows():
+        band_view.add_row(str(name), *[f"{v:.1f}" for v in values])
+    console.print(band_view)
+
+
+@app.command()
+def compare(
+    scenario: Path = typer.Argument(..., help="Scenario TOML file."),
+    candidate: Optional[list[str]] = typer.Option(None, "--candidate", help="Only these candidates; repeatable."),
+    format: str = typer.Option("table", "--format", help="table or json."),
+    output: Optional[Path] = typer.Option(None, "--output", help="Write the JSON to this file (atomically)."),
+    calendar: Optional[Path] = typer.Option(None, "--calendar", help="Write the recommended set-up's usable passes as iCalendar."),
+    figures: Optional[Path] = typer.Option(None, "--figures", help="Write the figures (PNG and SVG) into this folder."),
+    report: Optional[Path] = typer.Option(None, "--report", help="Write a report folder: tables, figures, calendar, summary."),
+    quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
+    allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+) -> None:
+    """Compare the candidate set-ups and recommend one, with the reasons and a robustness check."""
+    from planner.export import calendar_ics, to_json, write_figures, write_report
+    from planner.fileio import write_atomically
+    from planner.recommend import recommend
+
+    if format not in ("table", "json"):
+        raise UserError(f"--format: {format!r} is not a format here; allowed: table, json")
+    for option, folder in (("--figures", figures), ("--report", report)):
+        if folder is not None and folder.exists() and not folder.is_dir():
+            raise UserError(f"{option}: {folder} exists and is not a folder")
+    if calendar is not None and not (calendar.parent if str(calendar.parent) else Path(".")).is_dir():
+        raise UserError(f"--calendar: folder {calendar.parent} does not exist")
+    study = _load_study(scenario, allow_stale)
+    result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet)
+    decision = recommend(result, study)
+    if calendar is not None:
+        write_atomically(calendar, calendar_ics(result.outcomes, study, decision.recommended))
+        print(f"wrote {calendar}", file=sys.stderr)
+    if figures is not None:
+        written = write_figures(figures, study, result, decision)
+        print(f"wrote {len(written)} figure files in {figures}", file=sys.stderr)
+    if report is not None:
+        write_report(report, study, result, decision)
+    if format == "json":
+        _emit(to_json(decision.to_contract()), output)
+        return
+    if output is not None:
+        raise UserError("--output: the comparison table is for the terminal; use --format json with --output")
+    console = _stdout()
+    table = Table(title=f"Candidates at {study.station.name}, one receiver, {result.days:g} days", title_justify="left")
+    for heading in ("rank", "candidate", f"score ({decision.score_unit})", "usable passes", "usable min", "Mbit", "dropouts", "lost to conflicts"):
+        table.add_column(heading, justify="left" if heading == "candidate" else "right")
+    for rank, score in enumerate(decision.ranking, start=1):
+        table.add_row(
+            str(rank), score.candidate, f"{score.score:.2f}", str(score.usable_passes), f"{score.usable_minutes:.1f}",
+            f"{score.data_volume_mbit:.1f}", str(score.dropouts), f"{score.lost_to_conflicts:.2f}",
+        )
+    console.print(table)
+    console.print(decision.explanation, soft_wrap=False)
+    if report is not None:
+        console.print(f"Report written to {report}/ (summary.md, tables, figures/, calendar.ics).")
+
+
 pattern_app = typer.Typer(help="Antenna pattern tables: build them from models, inspect them.", no_args_is_help=True)
 app.add_typer(pattern_app, name="pattern")
 
@@ -366,11 +500,15 @@ def pattern_build(
     print(f"wrote {out}", file=sys.stderr)
 
 
+_WARNED: set[str] = set()
+
+
 def _show_warning(message, category, filename, lineno, file=None, line=None):
-    if issubclass(category, PlannerWarning):
-        print(f"planner: warning: {message}", file=sys.stderr)
-    else:
-        print(f"planner: warning: {category.__name__}: {message}", file=sys.stderr)
+    """One line on stderr per distinct warning (a model's validity note is said once a run)."""
+    text = f"planner: warning: {message}" if issubclass(category, PlannerWarning) else f"planner: warning: {category.__name__}: {message}"
+    if text not in _WARNED:
+        _WARNED.add(text)
+        print(text, file=sys.stderr)
 
 
 def main() -> None:

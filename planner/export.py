@@ -67,3 +67,208 @@ def to_json(data) -> str:
         return _finite(obj)
 
     return json.dumps(clean(data), indent=2) + "\n"
+
+
+WEEK_COLUMNS = ("candidate", "satellite", "passes", "usable_passes", "usable_minutes", "data_volume_mbit", "dropouts")
+
+
+def week_rows(weekly) -> list[dict]:
+    """The weekly table as the contract's rows (minutes to 0.01, megabits to 0.001)."""
+    rows = []
+    for record in weekly.to_dict("records"):
+        rows.append(
+            {
+                "candidate": record["candidate"],
+                "satellite": record["satellite"],
+                "passes": int(record["passes"]),
+                "usable_passes": int(record["usable_passes"]),
+                "usable_minutes": round(float(record["usable_minutes"]), 2),
+                "data_volume_mbit": round(float(record["data_volume_mbit"]), 3),
+                "dropouts": int(record["dropouts"]),
+            }
+        )
+    return rows
+
+
+def calendar_ics(outcomes, study, candidate: str) -> bytes:
+    """RFC 5545 iCalendar of one candidate's usable passes (one event per usable window span).
+
+    DTSTART/DTEND are the first and last usable moments of the pass; the UID is stable
+    for the same satellite and AOS, so re-importing a calendar updates rather than duplicates.
+    """
+    from icalendar import Calendar, Event
+
+    calendar = Calendar()
+    calendar.add("prodid", "-//planner//ground-station pass plan//EN")
+    calendar.add("version", "2.0")
+    calendar.add("x-wr-calname", f"{study.station.name}: usable passes ({candidate})")
+    rows = outcomes[(outcomes["candidate"] == candidate) & outcomes["usable"]].sort_values("first_usable_s")
+    for record in rows.to_dict("records"):
+        start = study.start_utc + timedelta(seconds=float(record["first_usable_s"]))
+        end = study.start_utc + timedelta(seconds=float(record["last_usable_s"]))
+        event = Event()
+        event.add("uid", f"{record['norad_id']}-{iso_utc(record['aos_utc']).replace(':', '')}@planner")
+        event.add("dtstamp", study.start_utc)
+        event.add("dtstart", start.replace(microsecond=0))
+        event.add("dtend", end.replace(microsecond=0))
+        event.add("summary", f"{record['satellite']} pass, max el {record['max_elevation_deg']:.0f} deg")
+        event.add("location", study.station.name)
+        event.add(
+            "description",
+            f"Candidate {candidate}. AOS {iso_utc(record['aos_utc'])}, TCA {iso_utc(record['tca_utc'])}, "
+            f"LOS {iso_utc(record['los_utc'])}. Usable {record['usable_s']:.0f} s, margin "
+            f"{record['min_margin_db']:.1f}/{record['median_margin_db']:.1f}/{record['max_margin_db']:.1f} dB "
+            f"(min/median/max), {record['dropouts']} dropouts, {record['data_volume_bit'] / 1e6:.2f} Mbit.",
+        )
+        calendar.add_component(event)
+    return calendar.to_ical()
+
+
+def pass_of_widest_spread(forecast) -> tuple[str, int] | None:
+    """(satellite, pass_number) of the pass whose usable time differs most between candidates.
+
+    Ties go to the higher pass; passes no candidate can use are passed over when others exist.
+    """
+    outcomes = forecast.outcomes
+    if outcomes.empty:
+        return None
+    by_pass = outcomes.groupby(["satellite", "pass_number"]).agg(
+        spread_s=("usable_s", lambda u: u.max() - u.min()),
+        best_s=("usable_s", "max"),
+        max_elevation_deg=("max_elevation_deg", "first"),
+    )
+    if (by_pass["best_s"] > 0).any():
+        by_pass = by_pass[by_pass["best_s"] > 0]
+    satellite, pass_number = by_pass.sort_values(["spread_s", "max_elevation_deg"], ascending=False).index[0]
+    return satellite, int(pass_number)
+
+
+def write_figures(folder, study, forecast, recommendation) -> list:
+    """Every report figure as PNG and SVG in ``folder``; returns the paths written."""
+    from pathlib import Path
+
+    from planner import plots
+
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    threshold = study.scenario.criteria.min_margin_db
+    written = []
+    samples = forecast.samples
+    best = recommendation.recommended
+    colours = plots.candidate_colours(list(forecast.outcomes["candidate"].unique()))
+    for satellite in samples["satellite"].unique():
+        mine = samples[(samples["candidate"] == best) & (samples["satellite"] == satellite)]
+        fig = plots.sky_chart(
+            mine, title=f"{satellite}: tracks over {study.station.name}, margin with {best}",
+            min_margin_db=threshold, horizon_mask=study.station.mask,
+        )
+        written += plots.save_figure(fig, folder, f"sky-{_slug(satellite)}")
+    patterns = {name: study.candidate(name).pattern for name in forecast.outcomes["candidate"].unique()}
+    written += plots.save_figure(plots.elevation_cuts(patterns, colours=colours), folder, "elevation-cuts")
+    chosen = pass_of_widest_spread(forecast)
+    if chosen is not None:
+        satellite, number = chosen
+        frames = {
+            name: group for name, group in samples[(samples["satellite"] == satellite) & (samples["pass_number"] == number)].groupby("candidate", sort=False)
+        }
+        title = f"{satellite} pass {number}: the pass where the candidates differ most"
+        written += plots.save_figure(plots.pass_margins(frames, title=title, min_margin_db=threshold, colours=colours), folder, "pass-margins")
+    written += plots.save_figure(plots.usable_minutes_bars(forecast.weekly, colours=colours), folder, "usable-minutes")
+    written += plots.save_figure(plots.margin_by_band(samples, min_margin_db=threshold, colours=colours), folder, "margin-by-band")
+    return written
+
+
+def _slug(text: str) -> str:
+    return "".join(c.lower() if c.isalnum() else "-" for c in text).strip("-")
+
+
+def _markdown_table(rows: list[dict]) -> str:
+    if not rows:
+        return "(none)\n"
+    keys = list(rows[0])
+    lines = ["| " + " | ".join(keys) + " |", "|" + "---|" * len(keys)]
+    lines += ["| " + " | ".join(str(r[k]) for k in keys) + " |" for r in rows]
+    return "\n".join(lines) + "\n"
+
+
+def write_report(folder, study, forecast, recommendation) -> list:
+    """A report folder: tables as CSV, figures, the recommended set-up's calendar, summary.md."""
+    from pathlib import Path
+
+    from planner.fileio import write_atomically
+    from planner.forecast import band_table, hour_table
+    from planner.safety import STATION_CAUTIONS
+
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    written = []
+    outcomes = forecast.outcomes.drop(columns=["usable_windows"], errors="ignore")
+    tables = {
+        "weekly.csv": (week_rows(forecast.weekly), WEEK_COLUMNS),
+        "passes.csv": (_records(outcomes), list(outcomes.columns)),
+        "bands.csv": (_records(band_table(forecast.outcomes)), None),
+        "hours.csv": (_records(hour_table(forecast.outcomes)), None),
+        "ranking.csv": (recommendation.to_contract()["ranking"], None),
+    }
+    for name, (rows, columns) in tables.items():
+        columns = columns or (list(rows[0]) if rows else [])
+        written.append(write_atomically(folder / name, to_csv(rows, columns)))
+    written.append(write_atomically(folder / "compare.json", to_json(recommendation.to_contract())))
+    written.append(write_atomically(folder / "calendar.ics", calendar_ics(forecast.outcomes, study, recommendation.recommended)))
+    figures = write_figures(folder / "figures", study, forecast, recommendation)
+    written += figures
+    ranking = [
+        {
+            "candidate": s.candidate,
+            f"score ({recommendation.score_unit})": f"{s.score:.2f}",
+            "usable passes": s.usable_passes,
+            "usable minutes": f"{s.usable_minutes:.1f}",
+            "data volume (Mbit)": f"{s.data_volume_mbit:.1f}",
+            "lost to conflicts": f"{s.lost_to_conflicts:.2f}",
+        }
+        for s in recommendation.ranking
+    ]
+    summary = [
+        f"# Antenna set-up for {study.station.name}",
+        "",
+        f"Window: {iso_utc(study.start_utc)} to {iso_utc(study.end_utc)}; objective: {recommendation.objective}; "
+        f"a sample counts at {study.scenario.criteria.min_margin_db:g} dB margin or more, a pass at "
+        f"{study.scenario.criteria.min_usable_s:g} s usable.",
+        "",
+        f"**Recommended: {recommendation.recommended}**" + ("" if recommendation.robust else " (sensitive to the budget; see below)"),
+        "",
+        recommendation.explanation,
+        "",
+        "## Ranking (one receiver)",
+        "",
+        _markdown_table(ranking),
+        "## Per candidate and satellite",
+        "",
+        _markdown_table(week_rows(forecast.weekly)),
+        "## Files",
+        "",
+        "- `weekly.csv`, `passes.csv`, `bands.csv`, `hours.csv`, `ranking.csv`, `compare.json`",
+        f"- `calendar.ics`: the usable passes of {recommendation.recommended} (RFC 5545)",
+        "- `figures/`: " + ", ".join(sorted({Path(p).stem for p in figures})) + " (PNG and SVG)",
+        "",
+        "## Before you build",
+        "",
+        *[f"- {c}" for c in STATION_CAUTIONS],
+        "",
+    ]
+    written.append(write_atomically(folder / "summary.md", "\n".join(summary)))
+    return written
+
+
+def _records(frame) -> list[dict]:
+    records = []
+    for record in frame.to_dict("records"):
+        clean = {}
+        for key, value in record.items():
+            if isinstance(value, datetime):
+                value = iso_utc(value)
+            elif isinstance(value, float):
+                value = round(value, 4)
+            clean[key] = value
+        records.append(clean)
+    return records

@@ -114,11 +114,9 @@ def p372_noise_factor_db(frequency_hz, category: str):
         raise UserError(f"frequency must be positive, got {frequency_hz!r}")
     low, high = GALACTIC_VALID_MHZ if key == "galactic" else MAN_MADE_VALID_MHZ
     if np.any(f_mhz < low) or np.any(f_mhz > high):
-        warn(
-            f"ITU-R P.372 {key.replace('_', ' ')} noise is given for {low:g}-{high:g} MHz; "
-            + (f"{f_mhz.min():g} MHz" if f_mhz.min() == f_mhz.max() else f"{f_mhz.min():g}-{f_mhz.max():g} MHz")
-            + " is extrapolated"
-        )
+        # Said per side of the range, not per frequency, so a run warns once, not once a satellite.
+        side = f"below {low:g}" if np.any(f_mhz < low) else f"above {high:g}"
+        warn(f"ITU-R P.372 {key.replace('_', ' ')} noise is given for {low:g}-{high:g} MHz; it is extrapolated {side} MHz here")
     c, d = P372_CONSTANTS[key]
     fa = c - d * np.log10(f_mhz)
     return float(fa) if np.ndim(fa) == 0 else fa

@@ -1,0 +1,554 @@
+"""From per-sample margins to per-pass outcomes, weekly totals and a one-receiver schedule.
+
+The pipeline, all of it vectorized over samples (loops run per pass or per candidate):
+
+1. :func:`compute_samples` predicts the passes once, builds one :class:`~planner.budget.LinkSetup`
+   per (candidate, satellite) and evaluates the budget over all that satellite's track samples in
+   one call, one row a sample.  Each sample carries ``dt_s``, the time it stands for: the
+   trapezoid-rule weights of its pass (half the gap to each neighbour), so the weights of a pass
+   sum to its duration from AOS to LOS.
+2. :func:`summarize_passes` turns samples into one row per (candidate, satellite, pass).  A
+   sample is usable when ``margin_db + margin_shift_db >= criteria.min_margin_db``.  The margin
+   is taken as linear between samples, so the usable part of a pass is the set where that
+   piecewise-linear curve is at or above the threshold: a window opens at AOS if the first
+   sample is usable, otherwise at the linearly interpolated crossing between an unusable and a
+   usable sample, and it closes likewise (at LOS if the last sample is usable).  ``usable_s`` is
+   the total length of the windows.  A *dropout* is a below-threshold gap between two usable
+   windows of the same pass, the signature of a pattern null or a polarization fade mid-pass;
+   the unusable low-elevation ends of a pass are not dropouts.  Data volume is
+   ``usable_s * data_rate_bps * framing_efficiency`` (0 for ``fm``, which carries voice: its
+   usable time still counts).  A pass is *usable* when ``usable_s >= criteria.min_usable_s``.
+3. :func:`weekly_table`, :func:`band_table` and :func:`hour_table` total the usable passes per
+   candidate and satellite, per culmination-elevation band, and per local hour.
+4. :func:`schedule` answers "with one receiver, which passes do we take?": every usable pass is
+   an interval ``[first_usable_s, last_usable_s]`` with its ``value`` (weighted data volume or
+   usable time, per ``criteria.objective``), and :func:`weighted_interval_schedule` picks the
+   non-overlapping set of greatest total value exactly (sort by end, binary-search the latest
+   compatible predecessor, dynamic programme; Kleinberg & Tardos, *Algorithm Design*, 6.1).
+
+Local hour is *mean solar time* at the station's longitude (UTC hour + longitude / 15, modulo
+24) at the pass's TCA, as an integer 0..23: the sun's hour angle without the equation of time
+(within about 16 minutes of apparent solar time), and independent of civil time zones.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import datetime, timezone
+from typing import Callable, Sequence
+
+import numpy as np
+import pandas as pd
+
+from planner.budget import downlink_setup, evaluate
+from planner.scenario import CriteriaConfig
+
+ELEVATION_BANDS_DEG = ((0, 10), (10, 30), (30, 60), (60, 90))
+ELEVATION_BAND_LABELS = tuple(f"{low}-{high}" for low, high in ELEVATION_BANDS_DEG)
+HOURS = tuple(range(24))
+VOICE_MODULATIONS = frozenset({"fm"})   # analog voice: usable time, no data volume
+
+SAMPLE_COLUMNS = (
+    "candidate", "satellite", "pass_number", "time_s", "dt_s",
+    "azimuth_deg", "elevation_deg", "range_km", "margin_db", "margin_at_fade_db",
+)
+PASS_COLUMNS = (
+    "satellite", "norad_id", "pass_number", "aos_utc", "tca_utc", "los_utc", "aos_s", "los_s",
+    "duration_s", "max_elevation_deg", "elevation_band", "local_hour", "aos_clipped", "los_clipped",
+)
+OUTCOME_COLUMNS = ("candidate",) + PASS_COLUMNS + (
+    "usable_s", "usable", "usable_windows", "first_usable_s", "last_usable_s", "dropouts",
+    "dropout_s", "min_margin_db", "median_margin_db", "max_margin_db", "data_volume_bit",
+    "weight", "value",
+)
+WEEKLY_COLUMNS = (
+    "candidate", "satellite", "passes", "usable_passes", "usable_minutes", "data_volume_mbit",
+    "dropouts", "usable_minutes_per_day", "data_volume_mbit_per_day",
+)
+TOTAL_COLUMNS = ("passes", "usable_passes", "usable_minutes", "data_volume_mbit")
+
+_KEYS = ["candidate", "satellite", "pass_number"]
+
+
+# ---------------------------------------------------------------------------- passes
+
+
+def _predicted_passes(study) -> list:
+    """The study's passes, predicted once per study and window (cached on the study)."""
+    cache = study.__dict__.setdefault("_forecast_passes", {})
+    key = (study.start_utc, study.end_utc, study.step_s)
+    if key not in cache:
+        cache.clear()
+        cache[key] = study.passes()
+    return cache[key]
+
+
+def _numbered(study) -> list[tuple[int, object]]:
+    """(pass_number, Pass) in AOS order; the number counts from 1 per satellite."""
+    counters: dict[str, int] = {}
+    result = []
+    for a_pass in _predicted_passes(study):
+        counters[a_pass.satellite] = counters.get(a_pass.satellite, 0) + 1
+        result.append((counters[a_pass.satellite], a_pass))
+    return result
+
+
+def elevation_band(max_elevation_deg) -> np.ndarray:
+    """Band label of each culmination elevation (lower edge inclusive; below 0 -> "0-10")."""
+    inner_edges = [high for _, high in ELEVATION_BANDS_DEG[:-1]]
+    index = np.searchsorted(inner_edges, np.asarray(max_elevation_deg, dtype=float), side="right")
+    return np.asarray(ELEVATION_BAND_LABELS, dtype=object)[index]
+
+
+def local_mean_solar_hour(time_utc: datetime, longitude_deg: float) -> int:
+    """Hour (0..23) of local mean solar time: UTC hour + longitude / 15, modulo 24."""
+    utc = time_utc.astimezone(timezone.utc)
+    hours = utc.hour + utc.minute / 60.0 + (utc.second + utc.microsecond * 1e-6) / 3600.0
+    return int(np.floor(np.mod(hours + longitude_deg / 15.0, 24.0))) % 24
+
+
+def pass_table(study) -> pd.DataFrame:
+    """One row per (satellite, pass_number), satellites in scenario order, passes in AOS order.
+
+    ``aos_utc``/``tca_utc``/``los_utc`` are timezone-aware python datetimes (UTC);
+    ``aos_s``/``los_s`` are seconds from ``study.start_utc``; ``local_hour`` is the hour of
+    local mean solar time (UTC + longitude / 15) at TCA, 0..23; ``elevation_band`` labels the
+    culmination elevation with :data:`ELEVATION_BANDS_DEG`.
+    """
+    numbered = _numbered(study)
+    longitude_deg = float(study.scenario.station.longitude_deg)
+    order = {s.name: i for i, s in enumerate(study.scenario.satellite)}
+    numbered.sort(key=lambda item: (order.get(item[1].satellite, len(order)), item[0]))
+    start = study.start_utc
+    rows = {
+        "satellite": [p.satellite for _, p in numbered],
+        "norad_id": np.array([p.norad_id for _, p in numbered], dtype=np.int64),
+        "pass_number": np.array([n for n, _ in numbered], dtype=np.int64),
+        "aos_utc": pd.Series([p.aos_utc for _, p in numbered], dtype=object),
+        "tca_utc": pd.Series([p.tca_utc for _, p in numbered], dtype=object),
+        "los_utc": pd.Series([p.los_utc for _, p in numbered], dtype=object),
+        "aos_s": np.array([(p.aos_utc - start).total_seconds() for _, p in numbered], dtype=float),
+        "los_s": np.array([(p.los_utc - start).total_seconds() for _, p in numbered], dtype=float),
+        "duration_s": np.array([p.duration_s for _, p in numbered], dtype=float),
+        "max_elevation_deg": np.array([p.max_elevation_deg for _, p in numbered], dtype=float),
+    }
+    rows["elevation_band"] = elevation_band(rows["max_elevation_deg"])
+    rows["local_hour"] = np.array([local_mean_solar_hour(p.tca_utc, longitude_deg) for _, p in numbered], dtype=np.int64)
+    rows["aos_clipped"] = np.array([p.aos_clipped for _, p in numbered], dtype=bool)
+    rows["los_clipped"] = np.array([p.los_clipped for _, p in numbered], dtype=bool)
+    return pd.DataFrame({column: pd.Series(rows[column]).reset_index(drop=True) for column in PASS_COLUMNS})
+
+
+# ---------------------------------------------------------------------------- samples
+
+
+def trapezoid_weights(time_s: np.ndarray, group_start: np.ndarray) -> np.ndarray:
+    """Trapezoid-rule weight of every sample; ``group_start`` marks the first sample of each pass.
+
+    Weights are half the gap to each neighbour within the pass, so a pass's weights sum to its
+    last time minus its first (a one-sample pass weighs 0).
+    """
+    time_s = np.asarray(time_s, dtype=float)
+    if len(time_s) == 0:
+        return np.zeros(0)
+    gaps = np.diff(time_s)
+    gaps[np.asarray(group_start, dtype=bool)[1:]] = 0.0   # no gap across a pass boundary
+    return 0.5 * (np.concatenate([[0.0], gaps]) + np.concatenate([gaps, [0.0]]))
+
+
+def _empty_samples() -> pd.DataFrame:
+    frame = pd.DataFrame({column: pd.Series(dtype=float) for column in SAMPLE_COLUMNS})
+    frame["candidate"] = frame["candidate"].astype(object)
+    frame["satellite"] = frame["satellite"].astype(object)
+    frame["pass_number"] = frame["pass_number"].astype(np.int64)
+    return frame
+
+
+def compute_samples(
+    study,
+    candidates: list[str] | None = None,
+    *,
+    progress: Callable[[int, int], None] | None = None,
+) -> pd.DataFrame:
+    """One row per (candidate, satellite, pass, sample) with the downlink margin.
+
+    Columns: :data:`SAMPLE_COLUMNS`.  ``time_s`` counts from ``study.start_utc``; ``dt_s`` is
+    the trapezoid weight of the sample (see :func:`trapezoid_weights`).  Passes are predicted
+    once and shared by all candidates; the budget's fixed part is set up once per (candidate,
+    satellite) and evaluated over all that satellite's samples at once.  ``progress(done,
+    total)`` is called after each (candidate, satellite).
+    """
+    names = list(study.candidate_names if candidates is None else candidates)
+    for name in names:
+        study.scenario.candidate_named(name)          # unknown names: one-line UserError
+    satellites = [s.name for s in study.scenario.satellite]
+    numbered = _numbered(study)
+    tracks: dict[str, tuple] = {}
+    for satellite in satellites:
+        mine = [(n, p) for n, p in numbered if p.satellite == satellite]
+        if not mine:
+            continue
+        lengths = np.array([len(p.track) for _, p in mine])
+        time_s = np.concatenate([p.track.time_s for _, p in mine]).astype(float)
+        first = np.zeros(len(time_s), dtype=bool)
+        first[np.cumsum(lengths)[:-1]] = True
+        first[0] = True
+        tracks[satellite] = (
+            np.repeat(np.array([n for n, _ in mine], dtype=np.int64), lengths),
+            time_s,
+            trapezoid_weights(time_s, first),
+            np.concatenate([p.track.azimuth_deg for _, p in mine]).astype(float),
+            np.concatenate([p.track.elevation_deg for _, p in mine]).astype(float),
+            np.concatenate([p.track.range_km for _, p in mine]).astype(float),
+        )
+    total = len(names) * len(satellites)
+    done = 0
+    frames = []
+    for candidate in names:
+        for satellite in satellites:
+            if satellite in tracks:
+                pass_number, time_s, dt_s, azimuth, elevation, range_km = tracks[satellite]
+                budget = evaluate(downlink_setup(study, satellite, candidate), azimuth, elevation, range_km)
+                n = len(time_s)
+                frames.append(
+                    pd.DataFrame(
+                        {
+                            "candidate": np.full(n, candidate, dtype=object),
+                            "satellite": np.full(n, satellite, dtype=object),
+                            "pass_number": pass_number,
+                            "time_s": time_s,
+                            "dt_s": dt_s,
+                            "azimuth_deg": azimuth,
+                            "elevation_deg": elevation,
+                            "range_km": range_km,
+                            "margin_db": budget["margin_db"].to_numpy(),
+                            "margin_at_fade_db": budget["margin_at_fade_db"].to_numpy(),
+                        }
+                    )
+                )
+            done += 1
+            if progress is not None:
+                progress(done, total)
+    if not frames:
+        return _empty_samples()
+    return pd.concat(frames, ignore_index=True)
+
+
+# ---------------------------------------------------------------------------- per pass
+
+
+def usable_windows(time_s, margin_db, threshold_db, group=None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Usable windows of sampled margins: (start_s, end_s, group of each window), in time order.
+
+    ``group`` (one integer per sample, samples of a group contiguous and in time order) keeps
+    windows from spanning two passes; None means one group.  Window edges are the group's first
+    or last time when that sample is usable, else the linearly interpolated threshold crossing
+    between the usable sample and its unusable neighbour.  NaN margins are unusable; an edge
+    next to one sits on the usable sample.
+    """
+    t = np.asarray(time_s, dtype=float)
+    m = np.asarray(margin_db, dtype=float)
+    g = np.zeros(len(t), dtype=np.int64) if group is None else np.asarray(group)
+    n = len(t)
+    if n == 0:
+        return np.zeros(0), np.zeros(0), np.zeros(0, dtype=g.dtype)
+    ok = m >= threshold_db
+    first = np.ones(n, dtype=bool)
+    first[1:] = g[1:] != g[:-1]
+    last = np.ones(n, dtype=bool)
+    last[:-1] = g[1:] != g[:-1]
+    previous_ok = np.zeros(n, dtype=bool)
+    previous_ok[1:] = ok[:-1]
+    next_ok = np.zeros(n, dtype=bool)
+    next_ok[:-1] = ok[1:]
+    opens = np.nonzero(ok & (first | ~previous_ok))[0]
+    closes = np.nonzero(ok & (last | ~next_ok))[0]
+
+    def crossing(inside, outside):
+        """Where the margin, linear from the usable sample to its neighbour, meets the threshold."""
+        with np.errstate(divide="ignore", invalid="ignore"):
+            fraction = (m[inside] - threshold_db) / (m[inside] - m[outside])
+        fraction = np.where(np.isfinite(fraction), np.clip(fraction, 0.0, 1.0), 0.0)
+        return t[inside] + fraction * (t[outside] - t[inside])
+
+    start_s = t[opens].copy()
+    inner = ~first[opens]
+    start_s[inner] = crossing(opens[inner], opens[inner] - 1)
+    end_s = t[closes].copy()
+    inner = ~last[closes]
+    end_s[inner] = crossing(closes[inner], closes[inner] + 1)
+    return start_s, end_s, g[opens]
+
+
+def _empty_outcomes(passes: pd.DataFrame) -> pd.DataFrame:
+    frame = pd.DataFrame({column: pd.Series(dtype=object) for column in OUTCOME_COLUMNS})
+    for column in PASS_COLUMNS:
+        frame[column] = frame[column].astype(passes[column].dtype if column in passes else object)
+    return frame
+
+
+def summarize_passes(samples: pd.DataFrame, passes: pd.DataFrame, study, *, margin_shift_db: float = 0.0) -> pd.DataFrame:
+    """One row per (candidate, satellite, pass_number): the pass table's columns and outcomes.
+
+    Candidates are those in ``samples`` (in order of appearance); every pass of ``passes``
+    appears for each.  ``margin_shift_db`` is added to every margin first (the robustness
+    check: +x dB is x dB more EIRP); it costs no budget recomputation.  ``value`` is
+    ``weight * data_volume_bit`` or ``weight * usable_s`` per ``criteria.objective`` for every
+    pass; totals and the schedule count usable passes only (filter on ``usable``).
+    """
+    criteria: CriteriaConfig = study.scenario.criteria
+    threshold_db = float(criteria.min_margin_db)
+    candidates = list(pd.unique(samples["candidate"])) if len(samples) else []
+    if not candidates or len(passes) == 0:
+        return _empty_outcomes(passes)
+    frame = samples.sort_values(_KEYS + ["time_s"], kind="stable")
+    group = frame.groupby(_KEYS, sort=False).ngroup().to_numpy()
+    keys = frame.loc[:, _KEYS].drop_duplicates().reset_index(drop=True)
+    n_groups = len(keys)
+    margin = frame["margin_db"].to_numpy(dtype=float) + float(margin_shift_db)
+    start_s, end_s, window_group = usable_windows(frame["time_s"].to_numpy(dtype=float), margin, threshold_db, group)
+
+    length = end_s - start_s
+    usable_s = np.bincount(window_group, weights=length, minlength=n_groups)
+    count = np.bincount(window_group, minlength=n_groups)
+    same = window_group[1:] == window_group[:-1]               # consecutive windows of one pass
+    gap_group = window_group[1:][same]
+    gap_s = (start_s[1:] - end_s[:-1])[same]
+    dropouts = np.bincount(gap_group, minlength=n_groups)
+    dropout_s = np.bincount(gap_group, weights=gap_s, minlength=n_groups)
+    first_usable = np.full(n_groups, np.nan)
+    last_usable = np.full(n_groups, np.nan)
+    has = count > 0
+    first_index = np.concatenate([[0], np.cumsum(count)[:-1]])
+    first_usable[has] = start_s[first_index[has]]
+    last_usable[has] = end_s[(first_index + count - 1)[has]]
+    window_pairs = list(zip(start_s.tolist(), end_s.tolist()))
+    windows = [window_pairs[a:a + c] for a, c in zip(first_index.tolist(), count.tolist())]
+    stats = pd.Series(margin).groupby(group).agg(["min", "median", "max"]).reindex(range(n_groups))
+
+    metrics = keys.assign(
+        usable_s=usable_s,
+        usable_windows=pd.Series(windows, dtype=object),
+        first_usable_s=first_usable,
+        last_usable_s=last_usable,
+        dropouts=dropouts.astype(np.int64),
+        dropout_s=dropout_s,
+        min_margin_db=stats["min"].to_numpy(),
+        median_margin_db=stats["median"].to_numpy(),
+        max_margin_db=stats["max"].to_numpy(),
+    )
+    grid = pd.DataFrame({"candidate": candidates}).merge(passes.loc[:, list(PASS_COLUMNS)], how="cross")
+    outcomes = grid.merge(metrics, on=_KEYS, how="left", validate="one_to_one")
+    missing = outcomes["usable_s"].isna().to_numpy()
+    if missing.any():                                           # a pass without samples
+        outcomes.loc[missing, ["usable_s", "dropouts", "dropout_s"]] = 0
+        outcomes["dropouts"] = outcomes["dropouts"].astype(np.int64)
+        outcomes["usable_windows"] = pd.Series(
+            [w if isinstance(w, list) else [] for w in outcomes["usable_windows"]], index=outcomes.index, dtype=object
+        )
+
+    radio = {s.name: s for s in study.scenario.satellite}
+    sat_names = outcomes["satellite"].to_numpy()
+    rate_bps = np.array([float(radio[s].data_rate_bps) for s in sat_names])
+    framing = np.array([float(radio[s].framing_efficiency) for s in sat_names])
+    voice = np.array([radio[s].modulation in VOICE_MODULATIONS for s in sat_names], dtype=bool)
+    weight = np.array([float(radio[s].weight) for s in sat_names])
+    usable_time = outcomes["usable_s"].to_numpy(dtype=float)
+    volume = np.where(voice, 0.0, usable_time * rate_bps * framing)
+    outcomes["usable"] = usable_time >= float(criteria.min_usable_s)
+    outcomes["data_volume_bit"] = volume
+    outcomes["weight"] = weight
+    outcomes["value"] = weight * (volume if criteria.objective == "data_volume" else usable_time)
+    return outcomes.loc[:, list(OUTCOME_COLUMNS)].reset_index(drop=True)
+
+
+# ---------------------------------------------------------------------------- totals
+
+
+def _totals(outcomes: pd.DataFrame, by: list[str]) -> pd.DataFrame:
+    usable = outcomes["usable"].to_numpy(dtype=bool)
+    frame = outcomes.loc[:, by].assign(
+        passes=1,
+        usable_passes=usable.astype(np.int64),
+        usable_minutes=np.where(usable, outcomes["usable_s"].to_numpy(dtype=float), 0.0) / 60.0,
+        data_volume_mbit=np.where(usable, outcomes["data_volume_bit"].to_numpy(dtype=float), 0.0) / 1e6,
+        dropouts=outcomes["dropouts"].to_numpy(dtype=np.int64),
+    )
+    return frame.groupby(by, sort=False).sum().reset_index()
+
+
+def _full_grid(totals: pd.DataFrame, by: list[str], levels: list[list]) -> pd.DataFrame:
+    """Every combination of ``levels`` (in that order), zeros where there were no passes."""
+    index = pd.MultiIndex.from_product(levels, names=by)
+    full = totals.set_index(by).reindex(index, fill_value=0).reset_index()
+    for column in ("passes", "usable_passes", "dropouts"):
+        if column in full:
+            full[column] = full[column].astype(np.int64)
+    return full
+
+
+def weekly_table(
+    outcomes: pd.DataFrame,
+    days: float,
+    *,
+    candidates: Sequence[str] | None = None,
+    satellites: Sequence[str] | None = None,
+) -> pd.DataFrame:
+    """One row per (candidate, satellite): the ``planner week`` contract columns and per-day rates.
+
+    ``passes`` counts every pass, ``usable_passes`` those with ``usable``; ``usable_minutes`` and
+    ``data_volume_mbit`` (10^6 bit) total the usable passes only; ``dropouts`` totals all passes.
+    Rows follow the order of appearance in ``outcomes``, or ``candidates`` x ``satellites`` when
+    given (then pairs without passes get zero rows).
+    """
+    days = float(days)
+    if not days > 0:
+        raise ValueError(f"days must be positive, got {days!r}")
+    by = ["candidate", "satellite"]
+    totals = _totals(outcomes, by)
+    if candidates is not None or satellites is not None:
+        levels = [
+            list(candidates) if candidates is not None else list(pd.unique(outcomes["candidate"])),
+            list(satellites) if satellites is not None else list(pd.unique(outcomes["satellite"])),
+        ]
+        totals = _full_grid(totals, by, levels)
+    totals["usable_minutes_per_day"] = totals["usable_minutes"] / days
+    totals["data_volume_mbit_per_day"] = totals["data_volume_mbit"] / days
+    return totals.loc[:, list(WEEKLY_COLUMNS)].reset_index(drop=True)
+
+
+def band_table(outcomes: pd.DataFrame) -> pd.DataFrame:
+    """Per (candidate, elevation_band), every band listed: passes, usable_passes, usable_minutes, data_volume_mbit."""
+    by = ["candidate", "elevation_band"]
+    totals = _full_grid(_totals(outcomes, by), by, [list(pd.unique(outcomes["candidate"])), list(ELEVATION_BAND_LABELS)])
+    return totals.loc[:, by + list(TOTAL_COLUMNS)]
+
+
+def hour_table(outcomes: pd.DataFrame) -> pd.DataFrame:
+    """Per (candidate, local_hour 0..23, mean solar time at TCA), every hour listed: as :func:`band_table`."""
+    by = ["candidate", "local_hour"]
+    totals = _full_grid(_totals(outcomes, by), by, [list(pd.unique(outcomes["candidate"])), list(HOURS)])
+    totals["local_hour"] = totals["local_hour"].astype(np.int64)
+    return totals.loc[:, by + list(TOTAL_COLUMNS)]
+
+
+# ---------------------------------------------------------------------------- schedule
+
+
+def weighted_interval_schedule(starts, ends, values) -> tuple[float, np.ndarray]:
+    """Non-overlapping intervals of greatest total value: (best_value, chosen indices in time order).
+
+    Exact, O(n log n): sort by (end, start), find for each interval the number of earlier ones
+    ending at or before its start by binary search, and run the dynamic programme
+    ``best[j + 1] = max(best[j], value_j + best[p_j])`` (Kleinberg & Tardos, *Algorithm Design*,
+    6.1), then walk it back.  Intervals touching at an end point do not overlap.  Intervals of
+    value <= 0 are taken only when they cost nothing.
+    """
+    starts = np.asarray(starts, dtype=float).ravel()
+    ends = np.asarray(ends, dtype=float).ravel()
+    values = np.asarray(values, dtype=float).ravel()
+    if not (len(starts) == len(ends) == len(values)):
+        raise ValueError("starts, ends and values must have the same length")
+    if not (np.all(np.isfinite(starts)) and np.all(np.isfinite(ends)) and np.all(np.isfinite(values))):
+        raise ValueError("starts, ends and values must be finite")
+    if np.any(ends < starts):
+        raise ValueError("every interval must end at or after its start")
+    n = len(starts)
+    if n == 0:
+        return 0.0, np.zeros(0, dtype=np.int64)
+    order = np.lexsort((starts, ends))
+    s, e, v = starts[order], ends[order], values[order]
+    # Earlier intervals compatible with j: those ending at or before its start (a prefix).
+    predecessor = np.minimum(np.searchsorted(e, s, side="right"), np.arange(n))
+    best = np.zeros(n + 1)
+    for j in range(n):
+        best[j + 1] = max(best[j], v[j] + best[predecessor[j]])
+    chosen = []
+    j = n
+    while j > 0:
+        k = j - 1
+        if v[k] + best[predecessor[k]] >= best[k]:
+            chosen.append(k)
+            j = int(predecessor[k])
+        else:
+            j = k
+    return float(best[n]), order[np.array(chosen[::-1], dtype=np.int64)]
+
+
+@dataclass
+class ScheduleResult:
+    """What one receiver can take of one candidate's usable passes."""
+
+    chosen: pd.DataFrame          # outcome rows taken, in time order
+    value: float                  # their total value
+    unconstrained_value: float    # total value of all usable passes (a receiver per pass)
+    lost_value: float             # unconstrained_value - value
+    lost_passes: pd.DataFrame     # usable passes dropped for an overlap, in time order
+
+
+def schedule(outcomes: pd.DataFrame) -> ScheduleResult:
+    """One receiver, one candidate: the best non-overlapping set of usable passes.
+
+    Each usable pass occupies ``[first_usable_s, last_usable_s]`` (all satellites compete) and
+    is worth its ``value``.  Raises ValueError when ``outcomes`` mixes candidates.
+    """
+    names = pd.unique(outcomes["candidate"]) if len(outcomes) else []
+    if len(names) > 1:
+        raise ValueError(f"schedule takes the outcomes of one candidate, got {len(names)}: {', '.join(map(str, names))}")
+    usable = outcomes.loc[outcomes["usable"].astype(bool)]
+    usable = usable.sort_values(["first_usable_s", "last_usable_s"], kind="stable")
+    best, chosen = weighted_interval_schedule(
+        usable["first_usable_s"].to_numpy(dtype=float),
+        usable["last_usable_s"].to_numpy(dtype=float),
+        usable["value"].to_numpy(dtype=float),
+    )
+    taken = np.zeros(len(usable), dtype=bool)
+    taken[chosen] = True
+    unconstrained = float(usable["value"].sum())
+    return ScheduleResult(
+        chosen=usable.loc[taken].reset_index(drop=True),
+        value=best,
+        unconstrained_value=unconstrained,
+        lost_value=unconstrained - best,
+        lost_passes=usable.loc[~taken].reset_index(drop=True),
+    )
+
+
+# ---------------------------------------------------------------------------- bundle
+
+
+@dataclass
+class Forecast:
+    """Everything the forecast computes for a study, ready for ranking, tables and plots."""
+
+    samples: pd.DataFrame
+    passes: pd.DataFrame
+    outcomes: pd.DataFrame
+    weekly: pd.DataFrame
+    days: float
+    criteria: CriteriaConfig
+
+    @property
+    def candidates(self) -> list[str]:
+        return list(pd.unique(self.weekly["candidate"]))
+
+    def outcomes_of(self, candidate: str) -> pd.DataFrame:
+        return self.outcomes.loc[self.outcomes["candidate"] == candidate].reset_index(drop=True)
+
+    def schedule(self, candidate: str) -> ScheduleResult:
+        return schedule(self.outcomes_of(candidate))
+
+
+def forecast(
+    study,
+    candidates: list[str] | None = None,
+    progress: Callable[[int, int], None] | None = None,
+) -> Forecast:
+    """Samples, pass table, per-pass outcomes and weekly totals of a study's candidates."""
+    names = list(study.candidate_names if candidates is None else candidates)
+    samples = compute_samples(study, names, progress=progress)
+    passes = pass_table(study)
+    outcomes = summarize_passes(samples, passes, study)
+    days = float(study.scenario.window.days)
+    weekly = weekly_table(outcomes, days, candidates=names, satellites=[s.name for s in study.scenario.satellite])
+    return Forecast(samples=samples, passes=passes, outcomes=outcomes, weekly=weekly, days=days, criteria=study.scenario.criteria)
