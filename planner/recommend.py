@@ -187,7 +187,7 @@ def explain(forecast: Forecast, ranking: list[CandidateScore], winners: dict[flo
         if b["dropouts"] != r["dropouts"]:
             fewer = "fewer" if b["dropouts"] < r["dropouts"] else "more"
             sentences.append(
-                f"Inside usable passes it shows {int(b['dropouts'])} dropouts ({b['dropout_s']:.0f} s) against "
+                f"Across all its usable passes it shows {int(b['dropouts'])} dropouts ({b['dropout_s']:.0f} s) against "
                 f"{int(r['dropouts'])} ({r['dropout_s']:.0f} s) for {runner.candidate}: {fewer} pattern nulls along the tracks."
             )
 
