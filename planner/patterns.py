@@ -822,6 +822,41 @@ def build_pattern(template: str, **params: Any) -> PatternTable:
     return builder(**kwargs)
 
 
+# Builders a pattern header may name, so a table can be rebuilt with other parameters (the
+# reflector sweep). Only functions of planner's own that return a PatternTable are allowed.
+REBUILDABLE_PREFIXES = ("planner.patterns.", "planner.synth.")
+
+
+def rebuild_pattern(builder: str, parameters: dict[str, str]) -> PatternTable:
+    """Call the builder a header names with the header's parameters (numbers as text).
+
+    Parameters holding text that is not a number (a template or material name) are passed
+    as text.
+    """
+    import importlib
+
+    if not builder.startswith(REBUILDABLE_PREFIXES) or builder.count(".") < 2:
+        raise UserError(f"pattern builder {builder!r} is not one of planner's; allowed: names under {', '.join(REBUILDABLE_PREFIXES)}")
+    module_name, _, function_name = builder.rpartition(".")
+    try:
+        function = getattr(importlib.import_module(module_name), function_name)
+    except (ImportError, AttributeError):
+        raise UserError(f"pattern builder {builder!r} does not exist in this version of planner") from None
+    kwargs: dict[str, Any] = {}
+    accepted = inspect.signature(function).parameters
+    for name, text in parameters.items():
+        if name not in accepted:
+            raise UserError(f"pattern builder {builder!r}: unknown parameter {name!r}; allowed: {', '.join(accepted)}")
+        try:
+            kwargs[name] = float(text)
+        except ValueError:
+            kwargs[name] = text
+    table = function(**kwargs)
+    if not isinstance(table, PatternTable):
+        raise UserError(f"pattern builder {builder!r} does not return a pattern table")
+    return table
+
+
 def _spacing_label(spacing_wavelengths: float) -> str:
     text = f"{spacing_wavelengths:g}"
     return text if "." in text else text + ".0"

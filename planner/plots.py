@@ -604,3 +604,37 @@ def save_figure(fig: Figure, folder: str | Path, stem: str) -> list[Path]:
             fig.savefig(buffer, format=fmt, facecolor="white", **options)
         written.append(write_atomically(folder / f"{stem}.{fmt}", buffer.getvalue()))
     return written
+
+
+def sweep_chart(table: pd.DataFrame, per_satellite: pd.DataFrame, *, title: str, best_spacing_wavelengths: float | None = None) -> Figure:
+    """Weekly usable minutes per satellite (lines) and the score (bars) against reflector spacing."""
+    fig = _new_figure()
+    ax = fig.add_subplot(1, 1, 1)
+    if _is_empty(table):
+        _no_data(ax)
+        return fig
+    _require(table, ["spacing_wavelengths", "score"], "sweep table")
+    spacing = table["spacing_wavelengths"].to_numpy()
+    width = 0.6 * (np.min(np.diff(np.sort(spacing))) if len(spacing) > 1 else 0.1)
+    score_ax = ax.twinx()
+    score_ax.bar(spacing, table["score"].to_numpy(), width=width, color="#d9d9d9", edgecolor="#8c8c8c", label="score (right axis)", zorder=0)
+    score_ax.set_ylabel("score (objective units)")
+    ax.set_zorder(score_ax.get_zorder() + 1)
+    ax.patch.set_visible(False)
+    satellites = list(dict.fromkeys(per_satellite["satellite"])) if not _is_empty(per_satellite) else []
+    styles = _styles(satellites, None)
+    for satellite in satellites:
+        rows = per_satellite[per_satellite["satellite"] == satellite].sort_values("spacing_wavelengths")
+        colour, dash = styles[satellite]
+        ax.plot(rows["spacing_wavelengths"], rows["usable_minutes"], color=colour, linestyle=dash, marker="o", markersize=3, label=satellite)
+    if best_spacing_wavelengths is not None:
+        ax.axvline(best_spacing_wavelengths, color="black", linewidth=1.0, linestyle=":", label=f"best {best_spacing_wavelengths:.3g} wl")
+    ax.set_xlabel("reflector spacing (wavelengths)")
+    ax.set_ylabel("usable minutes in the window (min)")
+    ax.set_title(title)
+    handles, labels = ax.get_legend_handles_labels()
+    bar_handles, bar_labels = score_ax.get_legend_handles_labels()
+    ax.legend(handles + bar_handles, labels + bar_labels, loc="upper center", bbox_to_anchor=(0.5, -0.14), ncol=4, frameon=False, fontsize=8)
+    ax.grid(True, alpha=0.3)
+    fig.tight_layout()
+    return fig

@@ -1,0 +1,89 @@
+"""The reflector-placement sweep: spacing parsing, rebuilding, scoring and the command."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+from scipy.constants import c
+
+from planner.errors import UserError
+from planner.forecast import forecast
+from planner.patterns import load_pattern, turnstile_over_reflector
+from planner.recommend import score_candidates
+from planner.scenario import load_scenario
+from planner.study import Study
+from planner.sweep import parse_spacing_range, rebuild_at_spacing, sweep_reflector
+
+ROOT = Path(__file__).resolve().parents[1]
+DEMO = ROOT / "scenarios" / "demo.toml"
+
+
+def short_demo(tmp_path, days=1.0):
+    text = DEMO.read_text().replace('"../', f'"{ROOT}/').replace("days = 7", f"days = {days}")
+    path = tmp_path / "short.toml"
+    path.write_text(text)
+    return path
+
+
+def test_spacing_range_in_wavelengths_and_metres():
+    assert np.allclose(parse_spacing_range("0.1:0.5:0.1", 436e6), [0.1, 0.2, 0.3, 0.4, 0.5])
+    # Metres become wavelengths through lambda = c / f (scipy.constants.c).
+    wavelength = c / 436e6
+    assert np.allclose(parse_spacing_range("0.05m:0.15m:0.05m", 436e6), np.array([0.05, 0.10, 0.15]) / wavelength)
+    for bad in ("0.1:0.5", "a:b:c", "0.5:0.1:0.1", "0.1:0.5:0", "0.1m:0.5:0.1", "0.1:9:0.1", "0.01:2:0.01"):
+        with pytest.raises(UserError):
+            parse_spacing_range(bad, 436e6)
+
+
+def test_rebuild_follows_the_header():
+    # The header records builder and parameters; rebuilding at the shipped spacing must give
+    # the shipped table back exactly (the same published image-theory model).
+    shipped = load_pattern(ROOT / "patterns" / "turnstile-h0.25wl.csv")
+    again = rebuild_at_spacing(load_pattern(ROOT / "patterns" / "turnstile-h0.75wl.csv"), 0.25)
+    assert np.array_equal(np.round(again.gain_rhcp_dbic, 3), shipped.gain_rhcp_dbic)
+    direct = turnstile_over_reflector(0.4)
+    assert np.array_equal(rebuild_at_spacing(shipped, 0.4).gain_rhcp_dbic, direct.gain_rhcp_dbic)
+
+
+def test_sweep_scores_each_spacing_as_a_candidate(tmp_path):
+    study = Study.from_scenario(load_scenario(short_demo(tmp_path)))
+    result = sweep_reflector(study, "turnstile-close", [0.25, 0.75])
+    assert list(result.table["spacing_wavelengths"]) == [0.25, 0.75]
+    # Each row equals a plain forecast of the shipped table at that spacing.
+    for spacing, name in ((0.25, "turnstile-close"), (0.75, "turnstile-far")):
+        expected = score_candidates(forecast(study, [name]).outcomes, "data_volume")[0][0]
+        row = result.table[result.table["spacing_wavelengths"] == spacing].iloc[0]
+        assert row["score"] == pytest.approx(expected.score, rel=1e-3)
+        assert row["usable_minutes"] == pytest.approx(expected.usable_minutes, rel=1e-3)
+    best = result.table["score"].max()
+    assert result.table.loc[result.table["spacing_wavelengths"] == result.best_spacing_wavelengths, "score"].iloc[0] == best
+    assert result.margin_of_victory >= 0
+    assert study.candidate("turnstile-close").pattern.header["parameters"].startswith("spacing_wavelengths=0.25")
+
+
+def test_sweep_needs_a_rebuildable_pattern(tmp_path):
+    text = (ROOT / "patterns" / "isotropic-rhcp.csv").read_text()
+    study = Study.from_scenario(load_scenario(short_demo(tmp_path)))
+    with pytest.raises(UserError, match="spacing"):
+        sweep_reflector(study, "isotropic-reference", [0.25])
+    assert "builder" in text
+
+
+def test_sweep_command_names_the_best_spacing(tmp_path):
+    result = subprocess.run(
+        [sys.executable, "-m", "planner.cli", "sweep", str(short_demo(tmp_path)), "--candidate", "turnstile-close",
+         "--reflector-spacing", "0.2:0.8:0.3", "--figure", str(tmp_path / "sweep"), "--format", "json", "--quiet"],
+        capture_output=True, text=True, cwd=ROOT,
+    )
+    assert result.returncode == 0, result.stderr
+    document = json.loads(result.stdout)
+    assert [round(r["spacing_wavelengths"], 6) for r in document["spacings"]] == [0.2, 0.5, 0.8]
+    assert document["best_spacing_wavelengths"] in (0.2, 0.5, 0.8)
+    assert "Best reflector spacing" in document["summary"]
+    assert (tmp_path / "sweep.png").read_bytes().startswith(b"\x89PNG")
+    assert (tmp_path / "sweep.svg").exists()
