@@ -534,15 +534,29 @@ pattern_app = typer.Typer(help="Antenna pattern tables: build them from models, 
 app.add_typer(pattern_app, name="pattern")
 
 
+def _key_values(items: list[str]) -> dict[str, str]:
+    values = {}
+    for item in items:
+        key, sep, value = item.partition("=")
+        if not sep or not key.strip():
+            raise UserError(f"pattern build: {item!r} is not KEY=VALUE; e.g. spacing_wavelengths=0.2")
+        values[key.strip()] = value.strip()
+    return values
+
+
 @pattern_app.command("build")
 def pattern_build(
-    template: Optional[str] = typer.Argument(None, help="Template to build (omit to regenerate every shipped table)."),
-    spacing_wl: Optional[float] = typer.Option(None, "--spacing-wl", help="Element height above the reflector, wavelengths."),
-    frequency_mhz: float = typer.Option(436.0, "--frequency-mhz", help="Design frequency, MHz."),
+    template: Optional[str] = typer.Argument(None, help="Template (omit to regenerate every shipped table): image-turnstile, isotropic-rhcp (analytic); dipole, turnstile, crossed-loops (wire model, method of moments)."),
+    parameters: Optional[list[str]] = typer.Argument(None, help="KEY=VALUE template parameters, e.g. spacing_wavelengths=0.2 reflector=pec exponent=4."),
+    spacing_wl: Optional[float] = typer.Option(None, "--spacing-wl", help="Feed height above the reflector, wavelengths (spacing_wavelengths=...)."),
+    frequency_mhz: Optional[float] = typer.Option(None, "--frequency-mhz", help="Design frequency, MHz (default 436)."),
     out: Optional[Path] = typer.Option(None, "--out", help="Output file (one template) or folder (all shipped tables)."),
+    list_parameters: bool = typer.Option(False, "--list", help="List the template's parameters with their ranges, then stop."),
 ) -> None:
     """Generate pattern tables from the project's own antenna models."""
     from planner.patterns import build_pattern, build_shipped_patterns, write_pattern
+    from planner.patterns import TEMPLATES as ANALYTIC
+    from planner.synth.templates import TEMPLATES as WIRE
 
     if template is None:
         folder = out or Path("patterns")
@@ -551,14 +565,125 @@ def pattern_build(
         for path in build_shipped_patterns(folder):
             print(f"wrote {path}", file=sys.stderr)
         return
+    if template not in ANALYTIC and template not in WIRE:
+        raise UserError(f"pattern build: template {template!r} is unknown; allowed: {', '.join([*ANALYTIC, *WIRE])}")
+    if list_parameters:
+        if template in WIRE:
+            from planner.synth.tables import FEED_PARAMETERS, GRID_PARAMETERS, TWO_PORT_TEMPLATES
+
+            specs = dict(WIRE[template][1], **GRID_PARAMETERS, **(FEED_PARAMETERS if template in TWO_PORT_TEMPLATES else {}))
+            for name, spec in specs.items():
+                print(f"{name} = {spec.default!r}  ({spec.allowed}) {spec.help}")
+        else:
+            import inspect
+
+            for name, parameter in inspect.signature(ANALYTIC[template]).parameters.items():
+                print(f"{name} = {parameter.default!r}" if parameter.default is not inspect.Parameter.empty else f"{name} (required)")
+        return
     if out is None:
         raise UserError("--out: give the file to write the pattern table to")
-    params = {"frequency_hz": frequency_mhz * 1e6}
+    values: dict[str, object] = _key_values(parameters or [])
     if spacing_wl is not None:
-        params["spacing_wavelengths"] = spacing_wl
-    table = build_pattern(template, **params)
+        values["spacing_wavelengths"] = spacing_wl
+    if frequency_mhz is not None:
+        values["frequency_hz"] = frequency_mhz * 1e6
+    if template in WIRE:
+        from planner.synth.tables import build_template_table
+
+        command = "planner pattern build " + " ".join([template, *[f"{k}={v}" for k, v in values.items()]])
+        table = build_template_table(template, values, command=command)
+    else:
+        values.setdefault("frequency_hz", 436e6)
+        table = build_pattern(template, **values)
     write_pattern(out, table)
+    for key in ("feed_impedance_ohm", "feed_vswr", "radiation_efficiency"):
+        if key in table.header:
+            print(f"{key}: {table.header[key]}", file=sys.stderr)
     print(f"wrote {out}", file=sys.stderr)
+
+
+@app.command()
+def harness(
+    frequency_mhz: float = typer.Option(..., "--frequency-mhz", help="Operating frequency, MHz."),
+    velocity_factor: float = typer.Option(0.66, "--velocity-factor", help="Velocity factor of the phasing line."),
+    measured_length_m: Optional[float] = typer.Option(None, "--measured-length-m", help="A quarter-wave line as measured (gives the implied velocity factor)."),
+    length_error_m: float = typer.Option(0.0, "--length-error-m", help="How much longer (+) or shorter (-) than a quarter wave the line is cut."),
+    z0_ohm: float = typer.Option(50.0, "--z0-ohm", help="Line impedance, ohm."),
+    load_ohm: Optional[str] = typer.Option(None, "--load-ohm", help="Load at the far end, e.g. 50 or 100-40j (gives the impedance seen through the line)."),
+    format: str = typer.Option("table", "--format", help="table or json."),
+) -> None:
+    """Phasing-harness arithmetic: quarter-wave length, implied velocity factor, and what a cutting error costs."""
+    from planner.export import to_json
+    from planner.harness import HARNESS_UNITS, harness_report
+
+    if format not in ("table", "json"):
+        raise UserError(f"--format: {format!r} is not a format here; allowed: table, json")
+    if not 1.0 <= frequency_mhz <= 50000.0:
+        raise UserError(f"--frequency-mhz: {frequency_mhz:g} is out of range; allowed 1 to 50000")
+    load = None
+    if load_ohm is not None:
+        try:
+            load = complex(load_ohm.replace(" ", "").replace("i", "j"))
+        except ValueError:
+            raise UserError(f"--load-ohm: {load_ohm!r} is not an impedance; e.g. 50 or 100-40j") from None
+    report = harness_report(frequency_mhz * 1e6, velocity_factor, measured_length_m=measured_length_m,
+                            length_error_m=length_error_m, z0_ohm=z0_ohm, load_ohm=load)
+    if format == "json":
+        clean = {k: ({"re": v.real, "im": v.imag} if isinstance(v, complex) else v) for k, v in report.items()}
+        sys.stdout.write(to_json(clean))
+        return
+    table = Table(title=f"Phasing harness at {frequency_mhz:g} MHz", title_justify="left")
+    for heading, justify in (("quantity", "left"), ("value", "right"), ("unit", "left")):
+        table.add_column(heading, justify=justify)
+    for key, value in report.items():
+        if isinstance(value, complex):
+            text = f"{value.real:.2f} {'+' if value.imag >= 0 else '-'} j{abs(value.imag):.2f}"
+        elif isinstance(value, float):
+            text = f"{value:.4g}"
+        else:
+            text = str(value)
+        table.add_row(key, text, HARNESS_UNITS.get(key, ""))
+    _stdout().print(table)
+
+
+@pattern_app.command("show")
+def pattern_show(
+    file: Path = typer.Argument(..., help="Pattern table (CSV)."),
+    azimuth_deg: float = typer.Option(0.0, "--azimuth-deg", help="Azimuth of the elevation cut, deg."),
+    step_deg: float = typer.Option(10.0, "--step-deg", help="Elevation step of the printed cut, deg."),
+    figure: Optional[Path] = typer.Option(None, "--figure", help="Also write the elevation cuts as a figure (stem; .png and .svg)."),
+) -> None:
+    """Elevation cut, axial ratio against elevation, and the feed data a pattern table carries."""
+    from planner import plots
+    from planner.patterns import load_pattern
+
+    if not 0.5 <= step_deg <= 90:
+        raise UserError(f"--step-deg: {step_deg:g} is out of range; allowed 0.5 to 90")
+    table = load_pattern(file)
+    console = _stdout()
+    for key in ("model", "parameters", "feed_impedance_ohm", "feed_vswr", "radiation_efficiency", "generated_by"):
+        if key in table.header:
+            console.print(f"{key}: {table.header[key]}", soft_wrap=True)
+    console.print(f"frequency: {table.frequency_hz / 1e6:g} MHz; {'azimuth-symmetric' if table.symmetric else 'with azimuth'}")
+    elevation = np.arange(-90.0, 90.0 + 1e-9, step_deg)
+    azimuth = np.full_like(elevation, azimuth_deg % 360.0)
+    rhcp, lhcp = table.gains_dbic(azimuth, elevation)
+    total = table.total_gain_dbi(azimuth, elevation)
+    axial = table.axial_ratio_db(azimuth, elevation)
+    sense = table.sense(azimuth, elevation)
+    cut = Table(title=f"elevation cut at azimuth {azimuth_deg % 360:g} deg", title_justify="left")
+    for heading in ("elevation deg", "RHCP dBic", "LHCP dBic", "total dBi", "axial ratio dB", "sense"):
+        cut.add_column(heading, justify="right")
+    for row in zip(elevation, rhcp, lhcp, total, axial, sense):
+        el, r, l, t, ar, sn = row
+        cut.add_row(f"{el:g}", f"{r:.2f}", f"{l:.2f}", f"{t:.2f}", f"{ar:.1f}", {1: "RHCP", -1: "LHCP"}.get(int(sn), "linear"))
+    console.print(cut)
+    if figure is not None:
+        folder = figure.parent if str(figure.parent) else Path(".")
+        if not folder.is_dir():
+            raise UserError(f"--figure: folder {folder} does not exist")
+        for path in plots.save_figure(plots.elevation_cuts({file.stem: table}, azimuth_deg=azimuth_deg), folder, figure.name):
+            print(f"wrote {path}", file=sys.stderr)
 
 
 _WARNED: set[str] = set()

@@ -795,7 +795,7 @@ def isotropic_rhcp(frequency_hz: float = DEMO_FREQUENCY_HZ, *, elevation_step_de
 
 
 TEMPLATES: dict[str, Callable[..., PatternTable]] = {
-    "turnstile": turnstile_over_reflector,
+    "image-turnstile": turnstile_over_reflector,
     "isotropic-rhcp": isotropic_rhcp,
 }
 
@@ -873,8 +873,30 @@ SHIPPED_PATTERNS: dict[str, tuple[Callable[..., PatternTable], dict[str, float]]
         for s in SHIPPED_SPACINGS_WAVELENGTHS
     },
     "isotropic-rhcp.csv": (isotropic_rhcp, {"frequency_hz": DEMO_FREQUENCY_HZ}),
+    # Crossed one-wavelength loops from the wire solver (planner.synth): a round overhead shape
+    # close to its reflector, and a tall rectangular low-angle shape with a far reflector and
+    # without one.
+    "crossed-loops-round-close.csv": (
+        lambda **kw: _wire_table("crossed-loops", **kw),
+        {"frequency_hz": DEMO_FREQUENCY_HZ, "width_to_height": 1.0, "exponent": 2.0, "reflector": "pec", "spacing_wavelengths": 0.15},
+    ),
+    "crossed-loops-tall-far.csv": (
+        lambda **kw: _wire_table("crossed-loops", **kw),
+        {"frequency_hz": DEMO_FREQUENCY_HZ, "width_to_height": 0.5, "exponent": 6.0, "reflector": "pec", "spacing_wavelengths": 0.6},
+    ),
+    "crossed-loops-tall-free.csv": (
+        lambda **kw: _wire_table("crossed-loops", **kw),
+        {"frequency_hz": DEMO_FREQUENCY_HZ, "width_to_height": 0.5, "exponent": 6.0, "reflector": "none"},
+    ),
 }
 """File name -> (builder, keyword arguments) of every table shipped in patterns/."""
+
+
+def _wire_table(template: str, **values: Any) -> PatternTable:
+    """A table from the wire solver, imported only when asked for (synth is upstream)."""
+    from planner.synth.tables import build_template_table
+
+    return build_template_table(template, values, command="planner pattern build")
 
 
 def build_shipped_patterns(folder: str | Path) -> list[Path]:

@@ -164,7 +164,7 @@ def explain(forecast: Forecast, ranking: list[CandidateScore], winners: dict[flo
     runner = ranking[1]
     if runner.score > 0:
         lead = 100.0 * (best.score - runner.score) / runner.score
-        sentences.append(f"The runner-up, {runner.candidate}, collects {runner.score:.2f} {unit}; the lead is {lead:.0f} %.")
+        sentences.append(f"The runner-up, {runner.candidate}, collects {runner.score:.2f} {unit}; the lead is {lead:.1f} %.")
     else:
         sentences.append(f"The runner-up, {runner.candidate}, collects nothing usable under these criteria.")
 

@@ -1,0 +1,333 @@
+"""Pattern tables from a solved wire model: the bridge from the solver to ``planner.patterns``.
+
+:func:`build_pattern_table` samples the solved, fed antenna's partial RHCP/LHCP gains on the
+table grid (elevation -90..90, azimuth 0..350 by default) and writes the provenance into the
+header. :func:`build_template_table` does the whole chain from a template name and its parameters
+(validate, build the model, solve, feed, tabulate); it is what ``planner pattern build TEMPLATE``
+calls. The per-template builders :func:`dipole_table`, :func:`turnstile_table` and
+:func:`crossed_loops_table` take the same parameters as keywords, so a table's header
+(``builder`` and ``parameters``) is enough to rebuild it with one parameter changed (the reflector
+sweep, ``planner.patterns.rebuild_pattern``).
+
+Gains
+-----
+The gain columns are partial gains relative to the power delivered at the feed point: the wire
+(skin-effect) loss is in them (the solver's gains are relative to the port input power) and so is
+the phasing-line loss (the table adds 10 log10 of the feed network's efficiency). The mismatch of
+the feed impedance to 50 ohm is not: it is in ``feed_vswr``, which the link budget applies.
+``radiation_efficiency`` in the header is the product of the two efficiencies (informational).
+
+Below the horizon: over an infinite PEC plane there is no field (the table holds the floor,
+``planner.patterns.GAIN_FLOOR_DBIC``); over a wire reflector or in free space it is the computed
+field, leakage around and through the screen included.
+"""
+
+from __future__ import annotations
+
+import inspect
+import math
+from typing import Any, Callable, Mapping
+
+import numpy as np
+
+from planner.errors import UserError
+from planner.feedline import quarter_wave_length_m
+from planner.patterns import GAIN_FLOOR_DBIC, PatternTable
+from planner.synth import mom
+from planner.synth.feed import FeedResult, ideal_quadrature, phasing_line, single_port
+from planner.synth.geometry import WireModel
+from planner.synth.templates import TEMPLATES, Parameter, check_parameters
+
+__all__ = [
+    "MODEL_DESCRIPTION",
+    "FEED_PARAMETERS",
+    "build_pattern_table",
+    "build_template_table",
+    "feed_model",
+    "dipole_table",
+    "turnstile_table",
+    "crossed_loops_table",
+]
+
+MODEL_DESCRIPTION = "thin-wire method of moments (Galerkin, piecewise-linear basis, reduced kernel)"
+
+FEEDS = ("quadrature", "line")
+
+FEED_PARAMETERS: dict[str, Parameter] = {
+    "feed": Parameter(str, "quadrature", FEEDS, "quadrature (ideal equal currents 90 deg apart) or line (b through a phasing line)"),
+    "sense": Parameter(str, "rhcp", ("rhcp", "lhcp"), "sense of the ideal quadrature feed"),
+    "line_length_m": Parameter(float, None, (1e-4, 10.0), "m; phasing-line length (default: a quarter wave at the velocity factor)"),
+    "line_z0_ohm": Parameter(float, 50.0, (10.0, 300.0), "ohm; phasing-line impedance"),
+    "velocity_factor": Parameter(float, 0.66, (0.3, 1.0), "phasing-line velocity factor (about 0.66 solid PE, 0.8 foam)"),
+    "line_loss_db_per_m": Parameter(float, 0.0, (0.0, 10.0), "dB/m; phasing-line matched loss"),
+}
+"""Feed options of two-port templates (a one-port template is driven at its port)."""
+
+GRID_PARAMETERS: dict[str, Parameter] = {
+    "elevation_step_deg": Parameter(float, 1.0, (0.1, 30.0), "deg; elevation grid step (must divide 180)"),
+    "azimuth_step_deg": Parameter(float, 10.0, (0.5, 90.0), "deg; azimuth grid step (must divide 360)"),
+}
+
+
+def _fmt_number(value: float) -> str:
+    value = float(value)
+    if value.is_integer() and abs(value) < 1e15:
+        return str(int(value))
+    return repr(value)
+
+
+def _fmt_value(value: Any) -> str:
+    if isinstance(value, bool) or isinstance(value, str):
+        return str(value)
+    if isinstance(value, (int, float, np.floating, np.integer)):
+        return _fmt_number(value)
+    return str(value)
+
+
+def _grid(step_deg: float, span_deg: float, name: str, closed: bool) -> np.ndarray:
+    try:
+        step = float(step_deg)
+    except (TypeError, ValueError):
+        raise UserError(f"{name}: must be a positive number of degrees, got {step_deg!r}") from None
+    if not (math.isfinite(step) and step > 0):
+        raise UserError(f"{name}: must be a positive number of degrees, got {step_deg!r}")
+    count = round(span_deg / step)
+    if count < 1 or abs(count * step - span_deg) > 1e-9 * span_deg:
+        raise UserError(f"{name}: {step:g} deg does not divide {span_deg:g} deg evenly; pick a divisor such as 1, 2, 5 or 10")
+    return np.arange(count + 1 if closed else count, dtype=float) * step
+
+
+def _parameters_text(parameters: Mapping[str, Any]) -> str:
+    items = []
+    for key, value in parameters.items():
+        if value is None:
+            continue
+        text = _fmt_value(value)
+        if any(ch in text for ch in ";=\n\r"):
+            raise ValueError(f"parameter {key!r} = {text!r} cannot go into a header")
+        items.append(f"{key}={text}")
+    return "; ".join(items)
+
+
+def _complex_text(z: complex) -> str:
+    return f"{z.real:.3f}{z.imag:+.3f}j"
+
+
+def build_pattern_table(
+    model: WireModel,
+    solution: "mom.Solution",
+    feed: FeedResult,
+    *,
+    frequency_hz: float,
+    template: str,
+    parameters: Mapping[str, Any],
+    command: str,
+    elevation_step_deg: float = 1.0,
+    azimuth_step_deg: float = 10.0,
+    builder: str | None = None,
+) -> PatternTable:
+    """Tabulate the fed antenna's partial gains and describe how they were made.
+
+    ``parameters`` (name -> value) go into the ``parameters`` header line as ``k=v; ...`` (None
+    values left out); ``command`` is written verbatim as ``generated_by``; ``builder`` (a function
+    under ``planner.synth`` taking ``parameters`` as keywords) lets the table be rebuilt.
+    """
+    frequency_hz = float(frequency_hz)
+    if not (math.isfinite(frequency_hz) and frequency_hz > 0):
+        raise UserError(f"frequency_hz: must be a positive number of hertz, got {frequency_hz!r}")
+    if abs(frequency_hz - model.frequency_hz) > 1e-9 * model.frequency_hz:
+        raise ValueError(f"frequency_hz {frequency_hz:g} differs from the model's {model.frequency_hz:g}")
+    elevation = _grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
+    azimuth = _grid(azimuth_step_deg, 360.0, "azimuth_step_deg", closed=False)
+    voltages = np.asarray(feed.port_voltages, dtype=complex)
+    rhcp, lhcp = solution.gains_dbic(azimuth[None, :], elevation[:, None], voltages)
+    network = float(feed.network_efficiency)
+    if not (math.isfinite(network) and 0.0 < network <= 1.0 + 1e-9):
+        raise ValueError(f"feed network efficiency {network!r} is not in (0, 1]")
+    network = min(network, 1.0)
+    shift = 10.0 * math.log10(network)
+    rhcp = np.nan_to_num(np.asarray(rhcp, dtype=float) + shift, nan=GAIN_FLOOR_DBIC, neginf=GAIN_FLOOR_DBIC)
+    lhcp = np.nan_to_num(np.asarray(lhcp, dtype=float) + shift, nan=GAIN_FLOOR_DBIC, neginf=GAIN_FLOOR_DBIC)
+    if model.ground == "pec":
+        below = elevation < 0.0
+        rhcp[below] = GAIN_FLOOR_DBIC
+        lhcp[below] = GAIN_FLOOR_DBIC
+    wire_efficiency = float(solution.radiation_efficiency(voltages))
+    efficiency = min(max(wire_efficiency * network, 1e-9), 1.0)
+    input_w = float(solution.input_power_w(voltages))
+    radiated_w = float(solution.radiated_power_w(voltages))
+    lost_w = float(solution.ohmic_loss_w(voltages) + solution.load_loss_w(voltages))
+    balance = radiated_w / (input_w - lost_w) if input_w - lost_w > 0 else float("nan")
+
+    z_feed = complex(feed.feed_impedance_ohm)
+    notes = dict(getattr(model, "notes", {}) or {})
+    header: dict[str, str] = {
+        "frequency_mhz": _fmt_number(frequency_hz / 1e6),
+        "model": f"{MODEL_DESCRIPTION}; template {template}",
+        "generated_by": command,
+        "parameters": _parameters_text(parameters),
+    }
+    if builder:
+        header["builder"] = builder
+    header["geometry"] = notes.get("geometry", f"{len(model.wires)} wires, ports {', '.join(model.port_names)}")
+    if "reflector" in notes:
+        header["reflector"] = notes["reflector"]
+    header["ground"] = (
+        "infinite perfectly conducting plane z = 0 (images)" if model.ground == "pec" else "none (free space)"
+    )
+    header["solver"] = solution.solver_summary() if hasattr(solution, "solver_summary") else MODEL_DESCRIPTION
+    header["frame"] = (
+        "x east, y north, z up; element a along/in the east plane, b turned +90 deg about up; azimuth_deg from north "
+        "toward east, elevation_deg above the horizon; RHCP/LHCP per IEEE Std 145 (e^{jwt})"
+    )
+    header["feed"] = feed.description or "feed network"
+    ports = ", ".join(
+        f"{name}: I={_complex_text(complex(i))} A, V={_complex_text(complex(v))} V"
+        for name, i, v in zip(model.port_names, feed.port_currents, feed.port_voltages)
+    )
+    header["port_excitation"] = ports
+    if len(feed.port_currents) == 2:
+        header["current_ratio_b_over_a"] = (
+            f"{abs(complex(feed.current_ratio)):.4f} at {feed.phase_deg:.2f} deg (ideal RHCP: 1 at -90 deg)"
+        )
+    if math.isfinite(z_feed.real) and math.isfinite(z_feed.imag) and z_feed.real > 0:
+        header["feed_impedance_ohm"] = _complex_text(z_feed)
+    if math.isfinite(feed.vswr_50):
+        header["feed_vswr"] = f"{feed.vswr_50:.3f}"
+        header["feed_mismatch_loss_db"] = f"{feed.mismatch_loss_db:.3f}"
+    header["feed_reference_ohm"] = _fmt_number(feed.reference_impedance_ohm)
+    header["radiation_efficiency"] = f"{efficiency:.4f}"
+    header["efficiency_terms"] = (
+        f"wire loss {wire_efficiency:.4f} x feed network {network:.4f} (both in the gain columns; mismatch not)"
+    )
+    header["energy_check"] = (
+        f"radiated power integrated over the far-field sphere / (input - losses) = {balance:.4f} (1 for an exact solution)"
+    )
+    header["gain_reference"] = (
+        "partial gains for RHCP and LHCP waves in dBic relative to the power delivered at the feed point (wire and "
+        "phasing-line loss included, mismatch to the feed line not: see feed_vswr); total gain is their sum"
+    )
+    header["below_horizon"] = (
+        f"an infinite perfect conductor passes no field: {_fmt_number(GAIN_FLOOR_DBIC)} dBic (the floor) below the horizon"
+        if model.ground == "pec"
+        else "computed field (a finite or absent reflector lets it through)"
+    )
+    return PatternTable(
+        path=None,
+        frequency_hz=frequency_hz,
+        header=header,
+        elevation_deg=elevation,
+        azimuth_deg=azimuth,
+        gain_rhcp_dbic=rhcp,
+        gain_lhcp_dbic=lhcp,
+        feed_vswr=float(feed.vswr_50) if math.isfinite(feed.vswr_50) else None,
+        feed_impedance_ohm=z_feed if "feed_impedance_ohm" in header else None,
+        radiation_efficiency=efficiency,
+    )
+
+
+# --------------------------------------------------------------------------------------------
+# The whole chain from a template
+# --------------------------------------------------------------------------------------------
+
+
+def _check_options(template: str, specs: Mapping[str, Parameter], values: Mapping[str, Any]) -> dict[str, Any]:
+    from planner.synth.templates import _coerce  # same validation and messages as the templates
+
+    return {name: (_coerce(template, name, spec, values[name]) if name in values else spec.default) for name, spec in specs.items()}
+
+
+def feed_model(solution: "mom.Solution", options: Mapping[str, Any], frequency_hz: float) -> FeedResult:
+    """The feed network named by ``options`` (keys of :data:`FEED_PARAMETERS`) on the solved model."""
+    z = solution.port_impedance_matrix()
+    if z.shape == (1, 1):
+        return single_port(z)
+    if options.get("feed", "quadrature") == "quadrature":
+        return ideal_quadrature(z, options.get("sense") or "rhcp")
+    vf = options.get("velocity_factor") or 0.66
+    length = options.get("line_length_m")
+    if length is None:
+        length = quarter_wave_length_m(frequency_hz, vf)
+    return phasing_line(
+        z,
+        line_length_m=length,
+        line_z0_ohm=options.get("line_z0_ohm") or 50.0,
+        velocity_factor=vf,
+        loss_db_per_m=options.get("line_loss_db_per_m") or 0.0,
+        frequency_hz=frequency_hz,
+    )
+
+
+TWO_PORT_TEMPLATES = ("turnstile", "crossed-loops")
+"""Templates with ports "a" and "b" (they take the feed options); the others have one port "feed"."""
+
+_TABLE_BUILDERS = {"dipole": "dipole_table", "turnstile": "turnstile_table", "crossed-loops": "crossed_loops_table"}
+
+
+def build_template_table(template: str, values: Mapping[str, Any] | None = None, *, command: str | None = None) -> PatternTable:
+    """Validate, build, solve, feed and tabulate a template (``values``: numbers or text).
+
+    ``values`` may hold the template's parameters (``templates.TEMPLATES``), the feed options
+    (:data:`FEED_PARAMETERS`, two-port templates only) and the grid steps ``elevation_step_deg``
+    and ``azimuth_step_deg``. ``command`` is written as ``generated_by`` (default: the call).
+    """
+    values = dict(values or {})
+    if template not in TEMPLATES:
+        raise UserError(f"template {template!r} is unknown; allowed: {', '.join(TEMPLATES)}")
+    function, specs = TEMPLATES[template]
+    two_port = template in TWO_PORT_TEMPLATES
+    extra = dict(GRID_PARAMETERS, **(FEED_PARAMETERS if two_port else {}))
+    allowed = list(specs) + list(extra)
+    unknown = [k for k in values if k not in allowed]
+    if unknown:
+        raise UserError(f"template {template!r}: unknown parameter {unknown[0]!r}; allowed: {', '.join(allowed)}")
+    params = check_parameters(template, {k: v for k, v in values.items() if k in specs})
+    options = _check_options(template, extra, {k: v for k, v in values.items() if k in extra})
+    model = function(**params)
+    solution = mom.solve(model)
+    feed = feed_model(solution, options, model.frequency_hz)
+    if two_port and options["feed"] == "line":
+        options["sense"] = None  # set by the line, not chosen
+        if options["line_length_m"] is None:
+            options["line_length_m"] = round(quarter_wave_length_m(model.frequency_hz, options["velocity_factor"]), 9)
+    if two_port and options["feed"] == "quadrature":
+        for key in ("line_length_m", "line_z0_ohm", "velocity_factor", "line_loss_db_per_m"):
+            options[key] = None  # not used: keep them out of the header
+    recorded = {**params, **options}
+    builder_name = f"planner.synth.tables.{_TABLE_BUILDERS[template]}"
+    if command is None:
+        command = f"{builder_name}({', '.join(f'{k}={_fmt_value(v)}' for k, v in recorded.items() if v is not None)})"
+    return build_pattern_table(
+        model,
+        solution,
+        feed,
+        frequency_hz=model.frequency_hz,
+        template=template,
+        parameters=recorded,
+        command=command,
+        elevation_step_deg=options["elevation_step_deg"],
+        azimuth_step_deg=options["azimuth_step_deg"],
+        builder=builder_name,
+    )
+
+
+def _table_builder(template: str, name: str) -> Callable[..., PatternTable]:
+    """A keyword-only function ``name(**parameters)`` for ``template`` with an explicit signature
+    (so ``inspect.signature`` lists every parameter, as ``rebuild_pattern`` requires)."""
+    _, specs = TEMPLATES[template]
+    two_port = template in TWO_PORT_TEMPLATES
+    extra = dict(GRID_PARAMETERS, **(FEED_PARAMETERS if two_port else {}))
+
+    def builder(**values: Any) -> PatternTable:
+        return build_template_table(template, values)
+
+    params = [inspect.Parameter(k, inspect.Parameter.KEYWORD_ONLY, default=spec.default) for k, spec in {**specs, **extra}.items()]
+    builder.__signature__ = inspect.Signature(params, return_annotation=PatternTable)  # type: ignore[attr-defined]
+    builder.__name__ = builder.__qualname__ = name
+    builder.__doc__ = f"Pattern table of the {template!r} template (see build_template_table); every parameter is a keyword."
+    return builder
+
+
+dipole_table = _table_builder("dipole", "dipole_table")
+turnstile_table = _table_builder("turnstile", "turnstile_table")
+crossed_loops_table = _table_builder("crossed-loops", "crossed_loops_table")
