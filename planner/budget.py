@@ -113,7 +113,7 @@ def _required(config, data_rate_bps):
 def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup:
     """Fixed parts of the satellite -> station link for one candidate set-up."""
     scenario = study.scenario
-    sat = scenario.satellite_named(satellite_name)
+    sat = study.satellite_config(satellite_name)
     candidate = study.candidate(candidate_name)
     receiver = scenario.receiver
     frequency_hz = sat.downlink_frequency_hz
@@ -125,7 +125,7 @@ def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup
             "the gains used are the table's"
         )
     feedline_db = _station_line_loss_db(candidate.feedline, candidate.connectors, candidate.connector_loss_db, frequency_hz)
-    antenna_noise = _antenna_noise(candidate.pattern, frequency_hz, scenario.station.noise_environment, receiver.ground_temperature_k)
+    antenna_noise = _antenna_noise(candidate.pattern, frequency_hz, study.station_config.noise_environment, receiver.ground_temperature_k)
     lna_position = candidate.lna_position or receiver.lna_position
     chain = receive_chain(
         antenna_noise.total_k,
@@ -157,7 +157,7 @@ def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup
         tx_line_loss_db=sat.line_loss_db,
         wave=WavePolarization(sat.polarization, sat.axial_ratio_db),
         fade_percentile=scenario.criteria.fade_percentile,
-        altitude_m=scenario.station.altitude_m,
+        altitude_m=study.station.altitude_m,
         data_rate_bps=sat.data_rate_bps,
         required_ebn0_db=required,
         theory_ebn0_db=theory,
@@ -175,7 +175,7 @@ def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup
 def uplink_setup(study, satellite_name: str) -> LinkSetup:
     """Fixed parts of the station -> satellite link (needs [transmitter] and uplink_mhz)."""
     scenario = study.scenario
-    sat = scenario.satellite_named(satellite_name)
+    sat = study.satellite_config(satellite_name)
     tx = scenario.transmitter
     source = scenario.source_path or "scenario"
     if tx is None:
@@ -215,7 +215,7 @@ def uplink_setup(study, satellite_name: str) -> LinkSetup:
         tx_line_loss_db=line_db,
         wave=WavePolarization(wave_kind, 0.0),
         fade_percentile=scenario.criteria.fade_percentile,
-        altitude_m=scenario.station.altitude_m,
+        altitude_m=study.station.altitude_m,
         data_rate_bps=sat.data_rate_bps,
         required_ebn0_db=required,
         theory_ebn0_db=theory,

@@ -104,11 +104,29 @@ def _adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step
     )
 
 
-def _load_study(scenario: Path, allow_stale: bool):
+def _load_study(scenario: Path, allow_stale: bool, station: Optional[str] = None):
     from planner.scenario import load_scenario
     from planner.study import Study
 
-    return Study.from_scenario(load_scenario(scenario), allow_stale=allow_stale)
+    return Study.from_scenario(load_scenario(scenario), allow_stale=allow_stale, station=station)
+
+
+def _load_studies(scenario: Path, allow_stale: bool, stations: Optional[list[str]]):
+    """One study per station asked for (default: every station of the scenario)."""
+    home = _load_study(scenario, allow_stale)
+    names = stations or home.station_names
+    for name in names:
+        home.scenario.station_named(name)  # refuse unknown names before computing anything
+    return [home if name == home.station_config.name else home.at_station(name) for name in names]
+
+
+def _with_station(rows: list[dict], study, several: bool) -> list[dict]:
+    """Rows for a network get a trailing station column; a single station keeps the contract."""
+    return [dict(row, station=study.station.name) for row in rows] if several else rows
+
+
+def _station_slug(name: str) -> str:
+    return "".join(c.lower() if c.isalnum() else "-" for c in name).strip("-")
 
 
 def _print_passes_table(study, passes) -> None:
@@ -153,6 +171,7 @@ def passes(
     min_elevation_deg: float = typer.Option(0.0, "--min-elevation-deg", help="Flat horizon mask, deg (quick look)."),
     satellite: Optional[list[str]] = typer.Option(None, "--satellite", help="Only this satellite (name or catalog number); repeatable."),
     step_s: float = typer.Option(10.0, "--step-s", help="Track step, s (quick look; a scenario sets its own)."),
+    station: Optional[list[str]] = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
     format: str = typer.Option("table", "--format", help="table, csv or json."),
     output: Optional[Path] = typer.Option(None, "--output", help="Write to this file (atomically) instead of stdout."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
@@ -161,29 +180,35 @@ def passes(
     from planner.export import PASS_COLUMNS, pass_row, to_csv, to_json
 
     _check_format(format)
+    if format == "table" and output is not None:
+        raise UserError("--output: a table is for the terminal; use --format csv or json with --output")
     if scenario is not None:
         if elements is not None:
             raise UserError("passes: give either a SCENARIO file or --elements, not both")
-        study = _load_study(scenario, allow_stale)
+        studies = _load_studies(scenario, allow_stale, station)
         if satellite:
-            names = {t.display_name for t in study.targets}
-            unknown = [s for s in satellite if s not in names and not any(str(t.element_set.norad_id) == s for t in study.targets)]
+            names = {t.display_name for t in studies[0].targets}
+            unknown = [s for s in satellite if s not in names and not any(str(t.element_set.norad_id) == s for t in studies[0].targets)]
             if unknown:
-                raise UserError(f"{scenario}: --satellite {unknown[0]!r} is not in the scenario; allowed: {', '.join(sorted(names))}")
-            study.targets = [t for t in study.targets if t.display_name in satellite or str(t.element_set.norad_id) in satellite]
+                shown = sorted(names)[:10]
+                raise UserError(f"{scenario}: --satellite {unknown[0]!r} is not in the scenario; allowed: {', '.join(shown)}")
+            for study in studies:
+                study.targets = [t for t in study.targets if t.display_name in satellite or str(t.element_set.norad_id) in satellite]
     elif elements is not None:
-        study = _adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step_s, satellite, allow_stale)
+        studies = [_adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step_s, satellite, allow_stale)]
     else:
         raise UserError("passes: give a SCENARIO file, or --elements FILE with --lat and --lon")
-    found = study.passes()
-    if format == "table" and output is None:
-        _print_passes_table(study, found)
-    elif format == "json":
-        _emit(to_json([pass_row(p) for p in found]), output)
+    several = len(studies) > 1
+    rows = []
+    for study in studies:
+        found = study.passes()
+        if format == "table":
+            _print_passes_table(study, found)
+        rows += _with_station([pass_row(p) for p in found], study, several)
+    if format == "json":
+        _emit(to_json(rows), output)
     elif format == "csv":
-        _emit(to_csv((pass_row(p) for p in found), PASS_COLUMNS), output)
-    else:
-        raise UserError("--output: a table is for the terminal; use --format csv or json with --output")
+        _emit(to_csv(rows, [*PASS_COLUMNS, *(["station"] if several else [])]), output)
 
 
 def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, range_km, azimuth_deg):
@@ -192,7 +217,7 @@ def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, 
     from planner.export import iso_utc
     from planner.passes import Observer, predict_passes
 
-    target = next(t for t in study.targets if t.display_name == study.scenario.satellite_named(satellite_name).name)
+    target = next(t for t in study.targets if t.display_name == study.satellite_config(satellite_name).name)
     chosen = [x is not None for x in (pass_number, at, elevation_deg)]
     if sum(chosen) != 1:
         raise UserError("budget: give exactly one of --pass N, --at ISO_TIME or --elevation-deg E")
@@ -236,7 +261,7 @@ def _print_exposure(study, out) -> None:
 
     if study.scenario.transmitter is None:
         return
-    for sat in study.scenario.satellite:
+    for sat in study.satellites:
         if sat.uplink_mhz is None:
             continue
         setup = uplink_setup(study, sat.name)
@@ -261,6 +286,7 @@ def budget(
     range_km: Optional[float] = typer.Option(None, "--range-km", help="Slant range with --elevation-deg (default: from the orbit height)."),
     azimuth_deg: Optional[float] = typer.Option(None, "--azimuth-deg", help="Azimuth with --elevation-deg (default 0)."),
     direction: str = typer.Option("downlink", "--direction", help="downlink (satellite to station) or uplink."),
+    station: Optional[str] = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station)."),
     format: str = typer.Option("table", "--format", help="table or json."),
     output: Optional[Path] = typer.Option(None, "--output", help="Write JSON to this file (atomically)."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
@@ -273,8 +299,8 @@ def budget(
         raise UserError(f"--format: {format!r} is not a format here; allowed: table, json")
     if direction not in ("downlink", "uplink"):
         raise UserError(f"--direction: {direction!r}; allowed: downlink, uplink")
-    study = _load_study(scenario, allow_stale)
-    sat_name = study.scenario.satellite_named(satellite).name
+    study = _load_study(scenario, allow_stale, station)
+    sat_name = study.satellite_config(satellite).name
     if direction == "downlink":
         if candidate is None:
             allowed = ", ".join(study.candidate_names) or "none in this scenario"
@@ -373,24 +399,32 @@ def week(
     format: str = typer.Option("table", "--format", help="table, csv or json."),
     output: Optional[Path] = typer.Option(None, "--output", help="Write to this file (atomically)."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
+    station: Optional[list[str]] = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
 ) -> None:
     """Weekly forecast per candidate and satellite: passes, usable passes, minutes, data volume."""
     from planner.export import WEEK_COLUMNS, to_csv, to_json, week_rows
-    from planner.forecast import band_table
 
     _check_format(format)
-    study = _load_study(scenario, allow_stale)
-    result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet)
-    rows = week_rows(result.weekly)
-    if format == "csv":
-        _emit(to_csv(rows, WEEK_COLUMNS), output)
-        return
-    if format == "json":
-        _emit(to_json(rows), output)
-        return
-    if output is not None:
+    if format == "table" and output is not None:
         raise UserError("--output: a table is for the terminal; use --format csv or json with --output")
+    studies = _load_studies(scenario, allow_stale, station)
+    several = len(studies) > 1
+    rows = []
+    for study in studies:
+        result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet)
+        rows += _with_station(week_rows(result.weekly), study, several)
+        if format == "table":
+            _print_week(study, result)
+    if format == "csv":
+        _emit(to_csv(rows, [*WEEK_COLUMNS, *(["station"] if several else [])]), output)
+    elif format == "json":
+        _emit(to_json(rows), output)
+
+
+def _print_week(study, result) -> None:
+    from planner.forecast import band_table
+
     console = _stdout()
     table = Table(title=f"{result.days:g}-day forecast at {study.station.name} (usable: margin >= "
                   f"{study.scenario.criteria.min_margin_db:g} dB for >= {study.scenario.criteria.min_usable_s:g} s)", title_justify="left")
@@ -424,21 +458,43 @@ def compare(
     figures: Optional[Path] = typer.Option(None, "--figures", help="Write the figures (PNG and SVG) into this folder."),
     report: Optional[Path] = typer.Option(None, "--report", help="Write a report folder: tables, figures, calendar, summary."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
+    station: Optional[list[str]] = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
 ) -> None:
     """Compare the candidate set-ups and recommend one, with the reasons and a robustness check."""
-    from planner.export import calendar_ics, to_json, write_figures, write_report
-    from planner.fileio import write_atomically
-    from planner.recommend import recommend
+    from planner.export import to_json
 
     if format not in ("table", "json"):
         raise UserError(f"--format: {format!r} is not a format here; allowed: table, json")
+    if format == "table" and output is not None:
+        raise UserError("--output: the comparison table is for the terminal; use --format json with --output")
     for option, folder in (("--figures", figures), ("--report", report)):
         if folder is not None and folder.exists() and not folder.is_dir():
             raise UserError(f"{option}: {folder} exists and is not a folder")
     if calendar is not None and not (calendar.parent if str(calendar.parent) else Path(".")).is_dir():
         raise UserError(f"--calendar: folder {calendar.parent} does not exist")
-    study = _load_study(scenario, allow_stale)
+    studies = _load_studies(scenario, allow_stale, station)
+    several = len(studies) > 1
+    documents = []
+    for study in studies:
+        # A network writes each station's files apart: a sub-folder, or the station in the file name.
+        slug = _station_slug(study.station.name)
+        where = dict(
+            calendar=calendar if not several or calendar is None else calendar.with_name(f"{calendar.stem}-{slug}{calendar.suffix}"),
+            figures=figures if not several or figures is None else figures / slug,
+            report=report if not several or report is None else report / slug,
+        )
+        decision = _compare_one(study, candidate, quiet, format, **where)
+        documents.append(dict(station=study.station.name, **decision.to_contract()) if several else decision.to_contract())
+    if format == "json":
+        _emit(to_json({"stations": documents} if several else documents[0]), output)
+
+
+def _compare_one(study, candidate, quiet, format, *, calendar, figures, report):
+    from planner.export import calendar_ics, write_figures, write_report
+    from planner.fileio import write_atomically
+    from planner.recommend import recommend
+
     result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet)
     decision = recommend(result, study)
     if calendar is not None:
@@ -450,10 +506,7 @@ def compare(
     if report is not None:
         write_report(report, study, result, decision)
     if format == "json":
-        _emit(to_json(decision.to_contract()), output)
-        return
-    if output is not None:
-        raise UserError("--output: the comparison table is for the terminal; use --format json with --output")
+        return decision
     console = _stdout()
     table = Table(title=f"Candidates at {study.station.name}, one receiver, {result.days:g} days", title_justify="left")
     for heading in ("rank", "candidate", f"score ({decision.score_unit})", "usable passes", "usable min", "Mbit", "dropouts", "lost to conflicts"):
@@ -467,6 +520,60 @@ def compare(
     console.print(decision.explanation, soft_wrap=False)
     if report is not None:
         console.print(f"Report written to {report}/ (summary.md, tables, figures/, calendar.ics).")
+    return decision
+
+
+@app.command()
+def rank(
+    scenario: Path = typer.Argument(..., help="Scenario TOML file (its [catalog] and [[satellite]] entries are ranked)."),
+    candidate: str = typer.Option(..., "--candidate", help="Candidate set-up to rank the objects with."),
+    station: Optional[str] = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station)."),
+    top: int = typer.Option(25, "--top", help="How many objects to list (the CSV/JSON has them all)."),
+    format: str = typer.Option("table", "--format", help="table, csv or json."),
+    output: Optional[Path] = typer.Option(None, "--output", help="Write to this file (atomically)."),
+    quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
+    allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+) -> None:
+    """Rank every object of the scenario (a whole catalog) by usable contact time for one set-up."""
+    from planner.export import to_csv, to_json
+
+    _check_format(format)
+    if top < 1:
+        raise UserError(f"--top: {top} is out of range; allowed 1 or more")
+    study = _load_study(scenario, allow_stale, station)
+    study.candidate(candidate)
+    result = _forecast_with_progress(study, [candidate], quiet)
+    weekly = result.weekly.sort_values(["usable_minutes", "data_volume_mbit", "satellite"], ascending=[False, False, True])
+    ids = {c.name: c.norad_id for c in study.satellites}
+    rows = [
+        {
+            "rank": position,
+            "satellite": record["satellite"],
+            "norad_id": ids.get(record["satellite"]),
+            "passes": int(record["passes"]),
+            "usable_passes": int(record["usable_passes"]),
+            "usable_minutes": round(float(record["usable_minutes"]), 2),
+            "usable_minutes_per_day": round(float(record["usable_minutes_per_day"]), 2),
+            "data_volume_mbit": round(float(record["data_volume_mbit"]), 3),
+        }
+        for position, record in enumerate(weekly.to_dict("records"), start=1)
+    ]
+    if format == "csv":
+        _emit(to_csv(rows, list(rows[0]) if rows else ["rank"]), output)
+        return
+    if format == "json":
+        _emit(to_json(rows), output)
+        return
+    if output is not None:
+        raise UserError("--output: a table is for the terminal; use --format csv or json with --output")
+    table = Table(title=f"{len(rows)} objects ranked by usable time at {study.station.name} with {candidate}, {result.days:g} days",
+                  title_justify="left")
+    for heading in ("rank", "satellite", "catalog no.", "passes", "usable", "usable min", "min/day", "Mbit"):
+        table.add_column(heading, justify="left" if heading == "satellite" else "right")
+    for row in rows[:top]:
+        table.add_row(str(row["rank"]), row["satellite"], str(row["norad_id"]), str(row["passes"]), str(row["usable_passes"]),
+                      f"{row['usable_minutes']:.1f}", f"{row['usable_minutes_per_day']:.1f}", f"{row['data_volume_mbit']:.1f}")
+    _stdout().print(table)
 
 
 @app.command()
@@ -475,6 +582,7 @@ def sweep(
     candidate: str = typer.Option(..., "--candidate", help="Candidate whose reflector spacing is swept."),
     reflector_spacing: str = typer.Option(..., "--reflector-spacing", help="START:STOP:STEP in wavelengths (0.1:1:0.05) or metres (0.05m:0.6m:0.05m)."),
     figure: Optional[Path] = typer.Option(None, "--figure", help="Write the sweep figure here (a stem: .png and .svg are added)."),
+    station: Optional[str] = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station)."),
     format: str = typer.Option("table", "--format", help="table, csv or json."),
     output: Optional[Path] = typer.Option(None, "--output", help="Write CSV/JSON to this file (atomically)."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
@@ -490,7 +598,7 @@ def sweep(
     _check_format(format)
     if figure is not None and not (figure.parent if str(figure.parent) else Path(".")).is_dir():
         raise UserError(f"--figure: folder {figure.parent} does not exist")
-    study = _load_study(scenario, allow_stale)
+    study = _load_study(scenario, allow_stale, station)
     base = study.candidate(candidate)
     spacings = parse_spacing_range(reflector_spacing, base.pattern.frequency_hz)
     if quiet:

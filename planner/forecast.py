@@ -116,8 +116,8 @@ def pass_table(study) -> pd.DataFrame:
     culmination elevation with :data:`ELEVATION_BANDS_DEG`.
     """
     numbered = _numbered(study)
-    longitude_deg = float(study.scenario.station.longitude_deg)
-    order = {s.name: i for i, s in enumerate(study.scenario.satellite)}
+    longitude_deg = float(study.station.longitude_deg)
+    order = {s.name: i for i, s in enumerate(study.satellites)}
     numbered.sort(key=lambda item: (order.get(item[1].satellite, len(order)), item[0]))
     start = study.start_utc
     rows = {
@@ -181,7 +181,7 @@ def compute_samples(
     names = list(study.candidate_names if candidates is None else candidates)
     for name in names:
         study.scenario.candidate_named(name)          # unknown names: one-line UserError
-    satellites = [s.name for s in study.scenario.satellite]
+    satellites = [s.name for s in study.satellites]
     numbered = _numbered(study)
     tracks: dict[str, tuple] = {}
     for satellite in satellites:
@@ -347,7 +347,7 @@ def summarize_passes(samples: pd.DataFrame, passes: pd.DataFrame, study, *, marg
             [w if isinstance(w, list) else [] for w in outcomes["usable_windows"]], index=outcomes.index, dtype=object
         )
 
-    radio = {s.name: s for s in study.scenario.satellite}
+    radio = {s.name: s for s in study.satellites}
     sat_names = outcomes["satellite"].to_numpy()
     rate_bps = np.array([float(radio[s].data_rate_bps) for s in sat_names])
     framing = np.array([float(radio[s].framing_efficiency) for s in sat_names])
@@ -550,5 +550,5 @@ def forecast(
     passes = pass_table(study)
     outcomes = summarize_passes(samples, passes, study)
     days = float(study.scenario.window.days)
-    weekly = weekly_table(outcomes, days, candidates=names, satellites=[s.name for s in study.scenario.satellite])
+    weekly = weekly_table(outcomes, days, candidates=names, satellites=[s.name for s in study.satellites])
     return Forecast(samples=samples, passes=passes, outcomes=outcomes, weekly=weekly, days=days, criteria=study.scenario.criteria)

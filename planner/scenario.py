@@ -38,6 +38,7 @@ from pydantic import (
     ValidationError,
     ValidationInfo,
     field_validator,
+    model_validator,
 )
 from pydantic.fields import FieldInfo
 from pydantic_core import PydanticCustomError, core_schema
@@ -49,6 +50,8 @@ __all__ = [
     "WindowConfig",
     "SatelliteConfig",
     "Scenario",
+    "RadioConfig",
+    "CatalogConfig",
     "CandidateConfig",
     "CableConfig",
     "CriteriaConfig",
@@ -375,17 +378,13 @@ class WindowConfig(BaseModel):
         return self.start_utc + timedelta(days=self.days)
 
 
-class SatelliteConfig(BaseModel):
-    """One target satellite: where its elements are, and its radio."""
+class RadioConfig(BaseModel):
+    """A satellite's radio: what the link budget needs (shared by [[satellite]] and [catalog])."""
 
     model_config = _STRICT
 
-    name: Name
-    elements: Path = Field(description=_ALLOWED_ELEMENTS)
-    norad_id: Annotated[int, Strict(), _Range(1, 339999)] | None = None  # alpha-5 range
     downlink_mhz: Frequency
     uplink_mhz: Frequency | None = None
-    # Radio: validated here, used by the link budget.
     tx_power_w: Annotated[Real, _Range(0, 1000, lo_open=True)] = 1.0
     antenna_gain_dbi: Annotated[Real, _Range(-20, 40)] = 0.0
     line_loss_db: Annotated[Real, _Range(0, 20)] = 0.0
@@ -408,11 +407,6 @@ class SatelliteConfig(BaseModel):
     uplink_rx_polarization: Literal["rhcp", "lhcp", "linear", "linear-tumbling"] = "linear-tumbling"
     uplink_required_cn0_dbhz: Annotated[Real, _Range(0, lo_open=True)] | None = None
 
-    @field_validator("elements", mode="plain")
-    @classmethod
-    def _elements(cls, value: Any, info: ValidationInfo) -> Path:
-        return _resolve_file(value, info, _ALLOWED_ELEMENTS)
-
     @property
     def downlink_frequency_hz(self) -> float:
         return self.downlink_mhz * 1e6
@@ -420,6 +414,22 @@ class SatelliteConfig(BaseModel):
     @property
     def uplink_frequency_hz(self) -> float | None:
         return None if self.uplink_mhz is None else self.uplink_mhz * 1e6
+
+
+class SatelliteConfig(RadioConfig):
+    """One target satellite: where its elements are, and its radio."""
+
+    model_config = _STRICT
+
+    name: Name
+    elements: Path = Field(description=_ALLOWED_ELEMENTS)
+    norad_id: Annotated[int, Strict(), _Range(1, 339999)] | None = None  # alpha-5 range
+
+    @field_validator("elements", mode="plain")
+    @classmethod
+    def _elements(cls, value: Any, info: ValidationInfo) -> Path:
+        return _resolve_file(value, info, _ALLOWED_ELEMENTS)
+
 
 
 
@@ -520,6 +530,24 @@ class CriteriaConfig(BaseModel):
     budget_uncertainty_db: Annotated[Real, _Range(0, 20)] = 2.0  # robustness check shifts
 
 
+class CatalogConfig(RadioConfig):
+    """Every object of an element file as a target, all with the same assumed radio.
+
+    For screening a catalog ("which of these can my station use?"): each element set becomes a
+    satellite named after it, with these radio parameters.
+    """
+
+    model_config = _STRICT
+
+    elements: Path = Field(description=_ALLOWED_ELEMENTS)
+    max_objects: Annotated[int, Strict(), _Range(1, 100000)] = 20000
+
+    @field_validator("elements", mode="plain")
+    @classmethod
+    def _elements(cls, value: Any, info: ValidationInfo) -> Path:
+        return _resolve_file(value, info, _ALLOWED_ELEMENTS)
+
+
 def _unique_names(value: list, what: str) -> list:
     first: dict[str, int] = {}
     for index, item in enumerate(value, start=1):
@@ -540,7 +568,9 @@ class Scenario(BaseModel):
 
     station: StationConfig
     window: WindowConfig
-    satellite: list[SatelliteConfig]
+    satellite: list[SatelliteConfig] = []
+    catalog: CatalogConfig | None = None
+    network_station: list[StationConfig] = []  # more sites of a small network, same keys as [station]
     receiver: ReceiverConfig = ReceiverConfig()
     candidate: list[CandidateConfig] = []
     cable: list[CableConfig] = []
@@ -561,9 +591,33 @@ class Scenario(BaseModel):
     @field_validator("satellite", mode="after")
     @classmethod
     def _satellites(cls, value: list[SatelliteConfig]) -> list[SatelliteConfig]:
-        if not value:
-            raise _error("no satellites are given", "one or more [[satellite]] tables")
         return _unique_names(value, "satellite")
+
+    @field_validator("network_station", mode="after")
+    @classmethod
+    def _network(cls, value: list[StationConfig]) -> list[StationConfig]:
+        return _unique_names(value, "network station")
+
+    @model_validator(mode="after")
+    def _targets_and_sites(self) -> "Scenario":
+        if not self.satellite and self.catalog is None:
+            raise _error("no satellites are given", "one or more [[satellite]] tables, or a [catalog] table", at=("satellite",))
+        names = [self.station.name] + [s.name for s in self.network_station]
+        if len(set(names)) != len(names):
+            raise _error("two stations share a name", "each [station] and [[network_station]] name once")
+        return self
+
+    @property
+    def stations(self) -> list[StationConfig]:
+        """The home [station] first, then every [[network_station]]."""
+        return [self.station, *self.network_station]
+
+    def station_named(self, name: str) -> StationConfig:
+        for station in self.stations:
+            if station.name == name:
+                return station
+        allowed = ", ".join(s.name for s in self.stations)
+        raise UserError(f"{self.source_path or 'scenario'}: no station named {name!r}; allowed: {allowed}")
 
     @field_validator("candidate", mode="after")
     @classmethod

@@ -7,14 +7,14 @@ the same thing the same way.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field, replace
 from datetime import datetime
 from pathlib import Path
 
 from planner.errors import UserError
 from planner.orbits import ElementSet, check_element_age, read_elements, select_element_set
 from planner.passes import Pass, Target, predict_passes
-from planner.scenario import CandidateConfig, FeedlineRun, SatelliteConfig, Scenario
+from planner.scenario import CandidateConfig, FeedlineRun, SatelliteConfig, Scenario, StationConfig
 from planner.station import Station
 
 
@@ -41,17 +41,20 @@ class Candidate:
 
 @dataclass
 class Study:
-    scenario: Scenario
+    scenario: Scenario | None
     station: Station
     targets: list[Target]
     start_utc: datetime
     end_utc: datetime
     step_s: float
+    satellites: list[SatelliteConfig] = field(default_factory=list)  # [[satellite]] + [catalog] objects
+    station_config: StationConfig | None = None
 
     @classmethod
-    def from_scenario(cls, scenario: Scenario, *, allow_stale: bool = False) -> "Study":
+    def from_scenario(cls, scenario: Scenario, *, allow_stale: bool = False, station: str | None = None) -> "Study":
+        """The scenario ready to compute, at its home station or at the named network station."""
         files: dict[Path, list[ElementSet]] = {}
-        targets = []
+        targets, satellites = [], list(scenario.satellite)
         for config in scenario.satellite:
             path = Path(config.elements)
             if path not in files:
@@ -60,16 +63,43 @@ class Study:
                 files[path], norad_id=config.norad_id, name=None if config.norad_id else config.name, source=str(path)
             )
             targets.append(Target(element_set, config.name, frequencies_hz(config)))
+        if scenario.catalog is not None:
+            catalog_targets, catalog_configs = _catalog_targets(scenario, {t.element_set.norad_id for t in targets})
+            targets += catalog_targets
+            satellites += catalog_configs
         window = scenario.window
         check_element_age([t.element_set for t in targets], window.start_utc, window.end_utc, allow_stale=allow_stale)
+        site = scenario.station if station is None else scenario.station_named(station)
         return cls(
             scenario=scenario,
-            station=Station.from_config(scenario.station),
+            station=Station.from_config(site),
             targets=targets,
             start_utc=window.start_utc,
             end_utc=window.end_utc,
             step_s=window.step_s,
+            satellites=satellites,
+            station_config=site,
         )
+
+    def at_station(self, name: str) -> "Study":
+        """The same study seen from another station of the scenario (passes are recomputed)."""
+        site = self.scenario.station_named(name)
+        other = replace(self, station=Station.from_config(site), station_config=site)
+        other.__dict__.pop("_forecast_passes", None)
+        return other
+
+    @property
+    def station_names(self) -> list[str]:
+        return [s.name for s in self.scenario.stations]
+
+    def satellite_config(self, name: str) -> SatelliteConfig:
+        """A target's radio configuration by name or catalog number (scenario or catalog)."""
+        for config in self.satellites:
+            if config.name == name or (config.norad_id is not None and str(config.norad_id) == str(name)):
+                return config
+        allowed = ", ".join(c.name for c in self.satellites[:8]) + (", ..." if len(self.satellites) > 8 else "")
+        source = self.scenario.source_path if self.scenario is not None else "scenario"
+        raise UserError(f"{source}: no satellite named {name!r}; allowed: {allowed}")
 
     def feedline_runs(self, runs: list[FeedlineRun], key: str) -> list:
         """[(Cable, length_m)] for the scenario's feedline entries; unknown cables are refused."""
@@ -115,3 +145,37 @@ class Study:
 
     def passes(self) -> list[Pass]:
         return predict_passes(self.targets, self.station, self.start_utc, self.end_utc, step_s=self.step_s)
+
+
+def _catalog_targets(scenario: Scenario, taken_ids: set[int]) -> tuple[list[Target], list[SatelliteConfig]]:
+    """Every element set of the [catalog] file as a target with the catalog's assumed radio.
+
+    Objects already named as [[satellite]] entries keep their own radio; the latest element set
+    of an object wins; names are made unique with the catalog number.
+    """
+    catalog = scenario.catalog
+    element_sets = read_elements(catalog.elements)
+    latest: dict[int, ElementSet] = {}
+    for element_set in element_sets:
+        if element_set.norad_id in taken_ids:
+            continue
+        known = latest.get(element_set.norad_id)
+        if known is None or element_set.epoch > known.epoch:
+            latest[element_set.norad_id] = element_set
+    if len(latest) > catalog.max_objects:
+        raise UserError(
+            f"{scenario.source_path or 'scenario'}: catalog.elements holds {len(latest)} objects; "
+            f"allowed up to catalog.max_objects = {catalog.max_objects} (raise it to go on)"
+        )
+    radio = catalog.model_dump(exclude={"elements", "max_objects"})
+    targets, configs = [], []
+    for norad_id in sorted(latest):
+        element_set = latest[norad_id]
+        name = f"{element_set.name or 'object'} ({norad_id})"
+        config = SatelliteConfig.model_validate(
+            {**radio, "name": name[:80], "elements": str(catalog.elements), "norad_id": norad_id},
+            context={"check_files": False},
+        )
+        configs.append(config)
+        targets.append(Target(element_set, config.name, frequencies_hz(config)))
+    return targets, configs

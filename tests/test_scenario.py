@@ -485,8 +485,8 @@ def test_no_satellites(tree: Path) -> None:
     path.write_text("satellite = []\n" + head, encoding="utf-8")  # top-level key before the tables
     expected = "satellite: no satellites are given; allowed: one or more [[satellite]] tables"
     assert expected in _user_error(path)
-    path.write_text(head, encoding="utf-8")
-    assert "satellite: missing required table" in _user_error(path)
+    path.write_text(head, encoding="utf-8")  # no [[satellite]] and no [catalog] at all
+    assert expected in _user_error(path)
 
 
 def test_single_bracket_satellite_table(tree: Path) -> None:
@@ -526,7 +526,12 @@ def test_describe_validation_error_directly() -> None:
         Scenario.model_validate(data)
     line = describe_validation_error(info.value, "my.toml", data=data)
     assert line.startswith("my.toml: window.step_s: 0.1 is out of range; allowed: 0.5 to 600")
-    assert line.endswith("(and 1 more problem)") and "\n" not in line
+    # The empty satellite list is checked once the fields are valid (a whole-scenario rule).
+    assert "\n" not in line
+    data["window"]["step_s"] = 10
+    with pytest.raises(ValidationError) as info:
+        Scenario.model_validate(data)
+    assert "satellite: no satellites are given" in describe_validation_error(info.value, "my.toml", data=data)
     # Without model= the model is found from the error's title (the class name).
     station = {"name": "S", "lattitude_deg": 0, "longitude_deg": 0}
     with pytest.raises(ValidationError) as info:
