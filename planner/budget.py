@@ -110,6 +110,18 @@ def _required(config, data_rate_bps):
     return theory + config.implementation_loss_db - config.coding_gain_db, theory, None
 
 
+def _threshold_terms(sat, required, theory, required_cn0) -> dict:
+    """The LinkSetup fields that say what the demodulator needs (same for both directions)."""
+    return dict(
+        data_rate_bps=sat.data_rate_bps,
+        required_ebn0_db=required,
+        theory_ebn0_db=theory,
+        implementation_loss_db=sat.implementation_loss_db,
+        coding_gain_db=sat.coding_gain_db,
+        required_cn0_dbhz=required_cn0,
+    )
+
+
 def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup:
     """Fixed parts of the satellite -> station link for one candidate set-up."""
     scenario = study.scenario
@@ -158,12 +170,7 @@ def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup
         wave=WavePolarization(sat.polarization, sat.axial_ratio_db),
         fade_percentile=scenario.criteria.fade_percentile,
         altitude_m=study.station.altitude_m,
-        data_rate_bps=sat.data_rate_bps,
-        required_ebn0_db=required,
-        theory_ebn0_db=theory,
-        implementation_loss_db=sat.implementation_loss_db,
-        coding_gain_db=sat.coding_gain_db,
-        required_cn0_dbhz=required_cn0,
+        **_threshold_terms(sat, required, theory, required_cn0),
         system_noise_temperature_k=chain.system_noise_temperature_k,
         noise_terms=noise_terms,
         feedline_loss_db=feedline_db,
@@ -216,12 +223,7 @@ def uplink_setup(study, satellite_name: str) -> LinkSetup:
         wave=WavePolarization(wave_kind, 0.0),
         fade_percentile=scenario.criteria.fade_percentile,
         altitude_m=study.station.altitude_m,
-        data_rate_bps=sat.data_rate_bps,
-        required_ebn0_db=required,
-        theory_ebn0_db=theory,
-        implementation_loss_db=sat.implementation_loss_db,
-        coding_gain_db=sat.coding_gain_db,
-        required_cn0_dbhz=required_cn0,
+        **_threshold_terms(sat, required, theory, required_cn0),
         system_noise_temperature_k=sat.uplink_rx_noise_temperature_k,
         noise_terms={"satellite_receiver_temperature_k": sat.uplink_rx_noise_temperature_k},
         feedline_loss_db=line_db,

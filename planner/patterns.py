@@ -506,7 +506,7 @@ def parse_pattern(text: str, *, source: str = "<pattern>", path: Path | None = N
 # --------------------------------------------------------------------------------------------
 
 
-def _fmt_number(value: float) -> str:
+def format_number(value: float) -> str:
     """Shortest text that reads back to the same float; integers without a decimal point."""
     value = float(value)
     if value.is_integer() and abs(value) < 1e15:
@@ -520,7 +520,7 @@ def _fmt_gain(value: float) -> str:
 
 def format_pattern(table: PatternTable) -> str:
     """The table as text: deterministic, so regenerating a table reproduces the file bit for bit."""
-    lines = [f"# frequency_mhz = {table.header.get('frequency_mhz', _fmt_number(table.frequency_hz / 1e6))}"]
+    lines = [f"# frequency_mhz = {table.header.get('frequency_mhz', format_number(table.frequency_hz / 1e6))}"]
     for key, value in table.header.items():
         if key == "frequency_mhz":
             continue
@@ -723,10 +723,10 @@ def turnstile_over_reflector(
     d_r, d_l = partial_directivities(crossed_dipoles(spacing_wavelengths), azimuth[None, :], elevation[:, None], pec_ground=True)
     spacing_m = spacing_wavelengths * SPEED_OF_LIGHT_M_S / frequency_hz
     header = {
-        "frequency_mhz": _fmt_number(frequency_hz / 1e6),
+        "frequency_mhz": format_number(frequency_hz / 1e6),
         "model": (
             f"turnstile: two crossed horizontal half-wave dipoles (thin wire, sinusoidal current) fed equal "
-            f"amplitude in quadrature, RHCP at the zenith, centred {_fmt_number(spacing_wavelengths)} wavelength "
+            f"amplitude in quadrature, RHCP at the zenith, centred {format_number(spacing_wavelengths)} wavelength "
             "above an infinite perfectly conducting plane; image theory (Balanis, Antenna Theory, ch. 4)"
         ),
         "frame": (
@@ -736,8 +736,8 @@ def turnstile_over_reflector(
         "generated_by": "planner pattern build",
         "builder": "planner.patterns.turnstile_over_reflector",
         "parameters": (
-            f"spacing_wavelengths={_fmt_number(spacing_wavelengths)}; frequency_hz={_fmt_number(frequency_hz)}; "
-            f"elevation_step_deg={_fmt_number(elevation_step_deg)}; azimuth_step_deg={_fmt_number(azimuth_step_deg)}"
+            f"spacing_wavelengths={format_number(spacing_wavelengths)}; frequency_hz={format_number(frequency_hz)}; "
+            f"elevation_step_deg={format_number(elevation_step_deg)}; azimuth_step_deg={format_number(azimuth_step_deg)}"
         ),
         "reflector_spacing_m": f"{spacing_m:.4f}",
         "gain_reference": (
@@ -745,7 +745,7 @@ def turnstile_over_reflector(
             "the upper hemisphere; total gain is their sum"
         ),
         "below_horizon": (
-            f"an infinite perfect conductor passes no field: {_fmt_number(GAIN_FLOOR_DBIC)} dBic (the floor) "
+            f"an infinite perfect conductor passes no field: {format_number(GAIN_FLOOR_DBIC)} dBic (the floor) "
             "below the horizon and at it; real finite reflectors leak"
         ),
         "radiation_efficiency": "1",
@@ -770,14 +770,14 @@ def isotropic_rhcp(frequency_hz: float = DEMO_FREQUENCY_HZ, *, elevation_step_de
     frequency_hz = _check_frequency(frequency_hz)
     elevation = _grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
     header = {
-        "frequency_mhz": _fmt_number(frequency_hz / 1e6),
+        "frequency_mhz": format_number(frequency_hz / 1e6),
         "model": "isotropic RHCP reference: 0 dBic RHCP over the whole sphere, no LHCP (not a realizable antenna)",
         "frame": "azimuth-symmetric; elevation_deg above the horizon; RHCP/LHCP per IEEE Std 145",
         "generated_by": "planner pattern build",
         "builder": "planner.patterns.isotropic_rhcp",
-        "parameters": f"frequency_hz={_fmt_number(frequency_hz)}; elevation_step_deg={_fmt_number(elevation_step_deg)}",
+        "parameters": f"frequency_hz={format_number(frequency_hz)}; elevation_step_deg={format_number(elevation_step_deg)}",
         "gain_reference": (
-            f"partial gains for RHCP and LHCP waves in dBic; LHCP at the floor {_fmt_number(GAIN_FLOOR_DBIC)} dBic "
+            f"partial gains for RHCP and LHCP waves in dBic; LHCP at the floor {format_number(GAIN_FLOOR_DBIC)} dBic "
             "(no field); both hemispheres"
         ),
         "radiation_efficiency": "1",

@@ -32,7 +32,7 @@ import numpy as np
 
 from planner.errors import UserError
 from planner.feedline import quarter_wave_length_m
-from planner.patterns import GAIN_FLOOR_DBIC, PatternTable
+from planner.patterns import format_number, GAIN_FLOOR_DBIC, PatternTable
 from planner.synth import mom
 from planner.synth.feed import FeedResult, ideal_quadrature, phasing_line, single_port
 from planner.synth.geometry import WireModel
@@ -69,18 +69,11 @@ GRID_PARAMETERS: dict[str, Parameter] = {
 }
 
 
-def _fmt_number(value: float) -> str:
-    value = float(value)
-    if value.is_integer() and abs(value) < 1e15:
-        return str(int(value))
-    return repr(value)
-
-
 def _fmt_value(value: Any) -> str:
     if isinstance(value, bool) or isinstance(value, str):
         return str(value)
     if isinstance(value, (int, float, np.floating, np.integer)):
-        return _fmt_number(value)
+        return format_number(value)
     return str(value)
 
 
@@ -162,7 +155,7 @@ def build_pattern_table(
     z_feed = complex(feed.feed_impedance_ohm)
     notes = dict(getattr(model, "notes", {}) or {})
     header: dict[str, str] = {
-        "frequency_mhz": _fmt_number(frequency_hz / 1e6),
+        "frequency_mhz": format_number(frequency_hz / 1e6),
         "model": f"{MODEL_DESCRIPTION}; template {template}",
         "generated_by": command,
         "parameters": _parameters_text(parameters),
@@ -195,7 +188,7 @@ def build_pattern_table(
     if math.isfinite(feed.vswr_50):
         header["feed_vswr"] = f"{feed.vswr_50:.3f}"
         header["feed_mismatch_loss_db"] = f"{feed.mismatch_loss_db:.3f}"
-    header["feed_reference_ohm"] = _fmt_number(feed.reference_impedance_ohm)
+    header["feed_reference_ohm"] = format_number(feed.reference_impedance_ohm)
     header["radiation_efficiency"] = f"{efficiency:.4f}"
     header["efficiency_terms"] = (
         f"wire loss {wire_efficiency:.4f} x feed network {network:.4f} (both in the gain columns; mismatch not)"
@@ -208,7 +201,7 @@ def build_pattern_table(
         "phasing-line loss included, mismatch to the feed line not: see feed_vswr); total gain is their sum"
     )
     header["below_horizon"] = (
-        f"an infinite perfect conductor passes no field: {_fmt_number(GAIN_FLOOR_DBIC)} dBic (the floor) below the horizon"
+        f"an infinite perfect conductor passes no field: {format_number(GAIN_FLOOR_DBIC)} dBic (the floor) below the horizon"
         if model.ground == "pec"
         else "computed field (a finite or absent reflector lets it through)"
     )
