@@ -141,18 +141,19 @@ def _print_passes_table(study, passes) -> None:
     for heading, justify in (
         ("satellite", "left"), ("date", "left"), ("AOS", "left"), ("TCA", "left"), ("LOS", "left"),
         ("min:s", "right"), ("max el", "right"), ("az AOS/TCA/LOS", "right"), ("range km", "right"),
-        ("note", "left"),
+        ("clipped", "left"),
     ):
         table.add_column(heading, justify=justify, no_wrap=True)
     for p in passes:
         minutes, seconds = divmod(int(round(p.duration_s)), 60)
-        notes = [n for n, flag in (("up at window start", p.aos_clipped), ("up at window end", p.los_clipped)) if flag]
+        # A pass under way at the window's start or end is cut there.
+        notes = [n for n, flag in (("start", p.aos_clipped), ("end", p.los_clipped)) if flag]
         aos = iso_utc(p.aos_utc)
         table.add_row(
             p.satellite, aos[:10], aos[11:19], iso_utc(p.tca_utc)[11:19], iso_utc(p.los_utc)[11:19],
             f"{minutes}:{seconds:02d}", f"{p.max_elevation_deg:.1f}",
             f"{_azimuth(p.aos_azimuth_deg)}/{_azimuth(p.tca_azimuth_deg)}/{_azimuth(p.los_azimuth_deg)}",
-            f"{p.min_range_km:.0f}", ", ".join(notes),
+            f"{p.min_range_km:.0f}", "+".join(notes),
         )
     console = _stdout()
     console.print(table)
@@ -230,7 +231,10 @@ def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, 
         look = observer.look(target.element_set.satrec, np.array([0.0]))
         return look.azimuth_deg[0], look.elevation_deg[0], look.range_km[0], f"TCA of pass {pass_number}, {iso_utc(chosen_pass.tca_utc)}", chosen_pass
     if at is not None:
+        from planner.orbits import check_element_age
+
         moment = _parse_utc("--at", at)
+        check_element_age([target.element_set], moment, moment, allow_stale=study.allow_stale)
         look = Observer(study.station, moment, 0.0).look(target.element_set.satrec, np.array([0.0]))
         if not np.isfinite(look.elevation_deg[0]):
             raise UserError(f"--at: SGP4 cannot propagate {target.display_name} to {iso_utc(moment)}")
@@ -241,6 +245,8 @@ def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, 
         return look.azimuth_deg[0], look.elevation_deg[0], look.range_km[0], iso_utc(moment), None
     if not -90.0 <= elevation_deg <= 90.0:
         raise UserError(f"--elevation-deg: {elevation_deg:g} is out of range; allowed -90 to 90")
+    if azimuth_deg is not None and not np.isfinite(azimuth_deg):
+        raise UserError(f"--azimuth-deg: {azimuth_deg:g} is not a finite number; allowed e.g. 0 to 360")
     if range_km is None:
         if elevation_deg < 0:
             raise UserError("--elevation-deg: below 0 give --range-km as well")
@@ -248,8 +254,8 @@ def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, 
         range_km = float(slant_range_km(elevation_deg, height_km))
         label = f"elevation {elevation_deg:g} deg, range from the orbit's mean height {height_km:.0f} km (spherical Earth)"
     else:
-        if range_km <= 0:
-            raise UserError(f"--range-km: {range_km:g} is out of range; allowed more than 0")
+        if not np.isfinite(range_km) or range_km <= 0:
+            raise UserError(f"--range-km: {range_km:g} is out of range; allowed a finite number more than 0")
         label = f"elevation {elevation_deg:g} deg, range {range_km:g} km"
     return float(azimuth_deg or 0.0) % 360.0, elevation_deg, range_km, label, None
 
@@ -767,6 +773,8 @@ def pattern_show(
 
     if not 0.5 <= step_deg <= 90:
         raise UserError(f"--step-deg: {step_deg:g} is out of range; allowed 0.5 to 90")
+    if not np.isfinite(azimuth_deg):
+        raise UserError(f"--azimuth-deg: {azimuth_deg:g} is not a finite number; allowed e.g. 0 to 360")
     table = load_pattern(file)
     console = _stdout()
     for key in ("model", "parameters", "feed_impedance_ohm", "feed_vswr", "radiation_efficiency", "generated_by"):
@@ -810,13 +818,26 @@ def main() -> None:
     warnings.simplefilter("always", PlannerWarning)
     warnings.showwarning = _show_warning
     try:
-        app()  # standalone: typer itself reports usage errors (exit code 2) and exits
+        # Not standalone, so typer's own usage errors come here and are reported in one line too.
+        result = app(standalone_mode=False)
     except UserError as error:
         print(f"planner: error: {error}", file=sys.stderr)
         sys.exit(2)
     except KeyboardInterrupt:
         print("planner: interrupted", file=sys.stderr)
         sys.exit(130)
+    except Exception as error:  # noqa: BLE001 - the command-line parser's own exceptions
+        if hasattr(error, "format_message") and hasattr(error, "exit_code"):
+            message = " ".join(str(error.format_message()).split())
+            if message:  # an empty message: the help text was already shown (no command given)
+                print(f"planner: error: {message} (see planner --help)", file=sys.stderr)
+            sys.exit(error.exit_code)
+        if type(error).__name__ == "Abort":
+            print("planner: interrupted", file=sys.stderr)
+            sys.exit(130)
+        raise
+    sys.exit(result if isinstance(result, int) else 0)
+
 
 if __name__ == "__main__":
     main()

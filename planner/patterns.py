@@ -108,7 +108,8 @@ def axial_ratio_db_from_partial_gains(gain_rhcp: np.ndarray | float, gain_lhcp: 
     The RHCP and LHCP field amplitudes are sqrt(G_R) and sqrt(G_L); the polarization ellipse has
     major axis sqrt(G_R) + sqrt(G_L) and minor axis |sqrt(G_R) - sqrt(G_L)| (Stutzman,
     Polarization in Electromagnetic Systems), so AR = (sqrt G_R + sqrt G_L)/|sqrt G_R - sqrt G_L|.
-    A linear (or field-free) direction has an infinite ratio, reported as ``AXIAL_RATIO_CAP_DB``.
+    A linear (or field-free) direction has an infinite ratio, reported as ``AXIAL_RATIO_CAP_DB``;
+    an undefined gain (NaN) gives NaN, not the cap.
     """
     a = np.sqrt(np.maximum(np.asarray(gain_rhcp, dtype=float), 0.0))
     b = np.sqrt(np.maximum(np.asarray(gain_lhcp, dtype=float), 0.0))
@@ -117,12 +118,13 @@ def axial_ratio_db_from_partial_gains(gain_rhcp: np.ndarray | float, gain_lhcp: 
     cap = 10.0 ** (AXIAL_RATIO_CAP_DB / 20.0)
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = np.where(minor * cap > major, major / np.where(minor > 0, minor, 1.0), cap)
-    return 20.0 * np.log10(ratio)
+    return np.where(np.isnan(major), np.nan, 20.0 * np.log10(ratio))
 
 
 def sense_from_partial_gains(gain_rhcp: np.ndarray | float, gain_lhcp: np.ndarray | float) -> np.ndarray:
-    """+1 where RHCP dominates, -1 where LHCP dominates, 0 where they are equal (linear)."""
-    return np.sign(np.asarray(gain_rhcp, dtype=float) - np.asarray(gain_lhcp, dtype=float)).astype(int)
+    """+1 where RHCP dominates, -1 where LHCP dominates, 0 where they are equal (linear) or undefined (NaN)."""
+    difference = np.asarray(gain_rhcp, dtype=float) - np.asarray(gain_lhcp, dtype=float)
+    return np.sign(np.where(np.isnan(difference), 0.0, difference)).astype(int)
 
 
 # --------------------------------------------------------------------------------------------

@@ -81,10 +81,16 @@ def _objective_value(value: float, objective: str) -> float:
     return value / 1e6 if objective == "data_volume" else value / 60.0
 
 
-def score_candidates(outcomes: pd.DataFrame, objective: str) -> tuple[list[CandidateScore], dict]:
-    """Rank candidates by their one-receiver schedule value (best first)."""
+def score_candidates(outcomes: pd.DataFrame, objective: str, candidates: list[str] | None = None) -> tuple[list[CandidateScore], dict]:
+    """Rank candidates by their one-receiver schedule value (best first).
+
+    ``candidates`` lists every candidate to rank, so one with no pass at all still appears
+    (with a score of zero) instead of vanishing.
+    """
     scores, schedules = [], {}
-    for candidate, rows in outcomes.groupby("candidate", sort=False):
+    names = list(candidates) if candidates is not None else list(pd.unique(outcomes["candidate"]))
+    for candidate in names:
+        rows = outcomes.loc[outcomes["candidate"] == candidate]
         result = schedule(rows)
         schedules[candidate] = result
         chosen = result.chosen
@@ -110,14 +116,14 @@ def robustness_shifts_db(uncertainty_db: float) -> list[float]:
 def recommend(forecast: Forecast, study) -> Recommendation:
     criteria = study.scenario.criteria
     objective = criteria.objective
-    ranking, schedules = score_candidates(forecast.outcomes, objective)
+    ranking, schedules = score_candidates(forecast.outcomes, objective, forecast.candidates)
     if not ranking:
         raise ValueError("no candidates to compare")
     best = ranking[0]
     winners = {0.0: best.candidate}
     for shift in robustness_shifts_db(criteria.budget_uncertainty_db):
         shifted = summarize_passes(forecast.samples, forecast.passes, study, margin_shift_db=shift)
-        winners[shift] = score_candidates(shifted, objective)[0][0].candidate
+        winners[shift] = score_candidates(shifted, objective, forecast.candidates)[0][0].candidate
     robust = all(name == best.candidate for name in winners.values())
     explanation = explain(forecast, ranking, winners, objective, forecast.days)
     return Recommendation(
@@ -169,6 +175,9 @@ def explain(forecast: Forecast, ranking: list[CandidateScore], winners: dict[flo
         sentences.append(f"The runner-up, {runner.candidate}, collects nothing usable under these criteria.")
 
     outcomes = forecast.outcomes
+    if outcomes.empty or "candidate" not in outcomes.columns:
+        sentences.append("No satellite passes over the station in the window, so no set-up can be told apart.")
+        return " ".join(sentences)
     bands = _band_minutes(outcomes)
     if best.candidate in bands.index and runner.candidate in bands.index:
         difference = bands.loc[best.candidate] - bands.loc[runner.candidate]

@@ -49,6 +49,7 @@ class Study:
     step_s: float
     satellites: list[SatelliteConfig] = field(default_factory=list)  # [[satellite]] + [catalog] objects
     station_config: StationConfig | None = None
+    allow_stale: bool = False
 
     @classmethod
     def from_scenario(cls, scenario: Scenario, *, allow_stale: bool = False, station: str | None = None) -> "Study":
@@ -79,6 +80,7 @@ class Study:
             step_s=window.step_s,
             satellites=satellites,
             station_config=site,
+            allow_stale=allow_stale,
         )
 
     def at_station(self, name: str) -> "Study":

@@ -125,7 +125,7 @@ def sweep_reflector(study, candidate_name: str, spacings_wavelengths, *, progres
         for index, spacing in enumerate(spacings_wavelengths, start=1):
             cache[candidate_name] = replace(base, pattern=rebuild_at_spacing(base.pattern, float(spacing)))
             result = forecast(study, [candidate_name])
-            score = score_candidates(result.outcomes, objective)[0][0]
+            score = score_candidates(result.outcomes, objective, [candidate_name])[0][0]
             rows.append(
                 {
                     "spacing_wavelengths": float(spacing),
