@@ -576,6 +576,9 @@ def _omm_element_set(fields: dict, where: str, source: str) -> ElementSet:
     satrec.revnum = rev_at_epoch
     _check_satrec(where, satrec)
     name = " ".join((fields.get("OBJECT_NAME") or "").split())
+    if not name.isprintable():
+        bad = next(c for c in name if not c.isprintable())
+        raise UserError(f"{where}: OBJECT_NAME holds the control character {bad!r}; allowed: printable text")
     return ElementSet(name=name, norad_id=norad_id, epoch=epoch, satrec=satrec, source=source)
 
 

@@ -61,8 +61,9 @@ def skyfield_reference(element_set, station, start, end):
     skyfield's own altitude, sampled every 50 ms over +-1 s around them, crosses zero
     (linear interpolation between the two samples around the crossing: the curve's
     bending over 50 ms moves it by well under a millisecond).  The maximum is skyfield's
-    altitude on a 10 ms grid of +-2 s around each of its culminations, so the
-    reference is not limited by its time tolerance.
+    altitude at the vertex of a parabola through the best three samples of a 100 ms grid
+    of +-2 s around each of its culminations (or the best sample, if higher), so the
+    reference is not limited by find_events' time tolerance.
     """
     ts = load.timescale()
     satellite = EarthSatellite.from_satrec(element_set.satrec, ts)
@@ -70,12 +71,28 @@ def skyfield_reference(element_set, station, start, end):
     times, events = satellite.find_events(site, ts.from_datetime(start), ts.from_datetime(end), altitude_degrees=0.0)
     if not len(events):
         return []
-    around_peak = np.arange(-200, 201) * 0.01                # s: +-2 s every 10 ms
+    around_peak = np.arange(-20, 21) * 0.1                   # s: +-2 s every 100 ms
     around_edge = np.arange(-20, 21) * 0.05                  # s: +-1 s every 50 ms
     offsets = [around_peak if event == 1 else around_edge for event in events]
     fine_tt = np.concatenate([t + offset / 86400.0 for t, offset in zip(times.tt, offsets)])
     flat = (satellite - site).at(ts.tt_jd(fine_tt)).altaz()[0].degrees
     altitude = np.split(flat, np.cumsum([len(offset) for offset in offsets])[:-1])
+    # Culminations: a parabola through the best sample and its neighbours, and
+    # skyfield's altitude at its vertex; the larger of that and the best sample.
+    peak_rows = [k for k, event in enumerate(events) if event == 1]
+    vertex_tt, best_sample = [], {}
+    for k in peak_rows:
+        row = altitude[k]
+        i = int(np.clip(np.argmax(row), 1, len(row) - 2))
+        before, middle, after = row[i - 1], row[i], row[i + 1]
+        curvature = before - 2.0 * middle + after
+        shift = 0.5 * (before - after) / curvature if curvature < 0 else 0.0
+        vertex_tt.append(times.tt[k] + (around_peak[i] + float(np.clip(shift, -1, 1)) * 0.1) / 86400.0)
+        best_sample[k] = float(row.max())
+    peak_altitude = {}
+    if peak_rows:
+        at_vertex = np.atleast_1d((satellite - site).at(ts.tt_jd(np.array(vertex_tt))).altaz()[0].degrees)
+        peak_altitude = {k: max(best_sample[k], float(v)) for k, v in zip(peak_rows, at_vertex)}
     refined = []
     for row, offset in zip(altitude, offsets):
         crossing = np.flatnonzero(np.sign(row[1:]) != np.sign(row[:-1]))
@@ -89,7 +106,7 @@ def skyfield_reference(element_set, station, start, end):
         if event == 0:
             rise, rise_k, best = t, k, -90.0
         elif event == 1 and rise is not None:
-            best = max(best, float(altitude[k].max()))
+            best = max(best, peak_altitude[k])
         elif event == 2 and rise is not None:
             exact = [None if refined[j] is None else when.utc_datetime() + timedelta(seconds=float(refined[j]))
                      for j, when in ((rise_k, rise), (k, t))]
