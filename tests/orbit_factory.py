@@ -7,7 +7,10 @@ any real element set.
 
 from __future__ import annotations
 
+import importlib.util
+import sys
 from datetime import datetime, timezone
+from pathlib import Path
 from math import pi, sqrt
 
 from sgp4.api import WGS72, Satrec
@@ -54,3 +57,16 @@ def write_three_line(path, entries: list[tuple[str, tuple[str, str]]]) -> None:
     """Write [(name, (line1, line2)), ...] as a three-line TLE file."""
     text = "".join(f"{name}\n{l1}\n{l2}\n" for name, (l1, l2) in entries)
     path.write_text(text)
+
+
+def load_demo_element_generator():
+    """The shipped generator of the demo element files (sample_tle/make_demo_elements.py) as a module."""
+    path = Path(__file__).resolve().parents[1] / "sample_tle" / "make_demo_elements.py"
+    spec = importlib.util.spec_from_file_location("make_demo_elements", path)
+    module = importlib.util.module_from_spec(spec)
+    sys.modules[spec.name] = module  # dataclasses look their module up while the class is built
+    try:
+        spec.loader.exec_module(module)
+    finally:
+        sys.modules.pop(spec.name, None)
+    return module

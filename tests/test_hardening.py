@@ -27,7 +27,6 @@ Set PLANNER_FUZZ_EXAMPLES=500 for a longer hunt than the default 15 examples a f
 from __future__ import annotations
 
 import csv
-import importlib.util
 import io
 import json
 import math
@@ -162,14 +161,9 @@ def check_pass_rows(rows: list[dict]) -> None:
 
 def _demo_element_writer():
     """The shipped generator of the demo element files: its OMM writers (XML, CSV, JSON)."""
-    spec = importlib.util.spec_from_file_location("make_demo_elements", ROOT / "sample_tle" / "make_demo_elements.py")
-    module = importlib.util.module_from_spec(spec)
-    sys.modules[spec.name] = module  # dataclasses look their module up while the class is built
-    try:
-        spec.loader.exec_module(module)
-    finally:
-        sys.modules.pop(spec.name, None)
-    return module
+    from tests.orbit_factory import load_demo_element_generator
+
+    return load_demo_element_generator()
 
 
 def element_texts(entries) -> dict[str, str]:
