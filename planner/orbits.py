@@ -458,15 +458,23 @@ _EPOCH_RE = re.compile(
 _OBJECT_ID_RE = re.compile(r"([0-9]{4})-([0-9]{3})([A-Z]{0,3})")
 
 
-def _omm_number(where: str, fields: dict, key: str, default: float | None = None) -> float:
+def _omm_field(where: str, fields: dict, key: str, default, pattern, expected: str) -> str | None:
+    """The text of an OMM keyword, checked against ``pattern``; None means use ``default``."""
     value = fields.get(key)
     if value is None:
         if default is None:
             raise UserError(f"{where}: required keyword {key} is missing; an OMM for SGP4 needs "
                             + ", ".join(_OMM_REQUIRED))
+        return None
+    if not pattern.fullmatch(value):
+        raise UserError(f"{where}: {key} is {_clip(value)}; expected {expected}")
+    return value
+
+
+def _omm_number(where: str, fields: dict, key: str, default: float | None = None) -> float:
+    value = _omm_field(where, fields, key, default, _NUMBER_RE, "a number")
+    if value is None:
         return default
-    if not _NUMBER_RE.fullmatch(value):
-        raise UserError(f"{where}: {key} is {_clip(value)}; expected a number")
     number = float(value)
     if not math.isfinite(number):
         raise UserError(f"{where}: {key} is {_clip(value)}; expected a finite number")
@@ -474,15 +482,8 @@ def _omm_number(where: str, fields: dict, key: str, default: float | None = None
 
 
 def _omm_integer(where: str, fields: dict, key: str, default: int | None = None) -> int:
-    value = fields.get(key)
-    if value is None:
-        if default is None:
-            raise UserError(f"{where}: required keyword {key} is missing; an OMM for SGP4 needs "
-                            + ", ".join(_OMM_REQUIRED))
-        return default
-    if not _INTEGER_RE.fullmatch(value):
-        raise UserError(f"{where}: {key} is {_clip(value)}; expected a whole number")
-    return int(value)
+    value = _omm_field(where, fields, key, default, _INTEGER_RE, "a whole number")
+    return default if value is None else int(value)
 
 
 def _omm_epoch(where: str, fields: dict) -> datetime:

@@ -189,7 +189,7 @@ def test_tle_and_omm_of_the_same_orbit_agree_within_a_metre(omm_file):
     # millimetre). 1 m is far above that and far below what a slip of one unit in the last
     # printed digit would cause: 1e-4 deg of an angle at a = 6900 km is 12 m, 1e-8 rev/day of
     # mean motion grows to 0.4 m along track in a day and mostly more in angles. So the check
-    # catches any transcription or unit error between the forms.
+    # catches any copying or unit error between the forms.
     tle_sets = read_elements(SAMPLES / "demo.tle")
     omm_sets = read_elements(SAMPLES / omm_file)
     whole, fraction = jday(2027, 1, 3, 12, 0, 0)
