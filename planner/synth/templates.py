@@ -340,6 +340,18 @@ def dipole(
     )
 
 
+def _crossing_heights_m(p: dict, lam: float) -> tuple[float, float]:
+    """Heights of elements a and b: ``spacing_wavelengths`` on average, ``crossing_gap_m`` apart."""
+    height = p["spacing_wavelengths"] * lam
+    gap = p["crossing_gap_m"] if p["crossing_gap_m"] is not None else default_crossing_gap_m(p["radius_m"], p["frequency_hz"])
+    if gap < 2.5 * p["radius_m"]:
+        raise UserError(
+            f"crossing_gap_m = {gap:g} m: the elements would touch where they cross (radius {p['radius_m']:g} m); "
+            f"allowed: at least 2.5 radii ({2.5 * p['radius_m']:g} m)"
+        )
+    return height - 0.5 * gap, height + 0.5 * gap
+
+
 def turnstile(
     frequency_hz: float = 436e6,
     length_wavelengths: float = 0.5,
@@ -359,14 +371,8 @@ def turnstile(
     p = _validated("turnstile", locals())
     lam = wavelength_m(p["frequency_hz"])
     half = 0.5 * p["length_wavelengths"] * lam
-    height = p["spacing_wavelengths"] * lam
-    gap = p["crossing_gap_m"] if p["crossing_gap_m"] is not None else default_crossing_gap_m(p["radius_m"], p["frequency_hz"])
-    if gap < 2.5 * p["radius_m"]:
-        raise UserError(
-            f"crossing_gap_m = {gap:g} m: the elements would touch where they cross (radius {p['radius_m']:g} m); "
-            f"allowed: at least 2.5 radii ({2.5 * p['radius_m']:g} m)"
-        )
-    za, zb = height - 0.5 * gap, height + 0.5 * gap
+    za, zb = _crossing_heights_m(p, lam)
+    height, gap = 0.5 * (za + zb), zb - za
     pa = np.array([[-half, 0.0, za], [0.0, 0.0, za], [half, 0.0, za]])
     pb = np.array([[0.0, -half, zb], [0.0, 0.0, zb], [0.0, half, zb]])
     wires = [Wire(pa, p["radius_m"], p["material"], name="a"), Wire(pb, p["radius_m"], p["material"], name="b")]
@@ -424,14 +430,8 @@ def crossed_loops(
     order = np.concatenate([np.arange(m, p["segments"]), np.arange(0, m + 1)])
     loop = poly[order]
     bottom_index = p["segments"] - m  # position of vertex 0 in ``order``
-    height = p["spacing_wavelengths"] * lam
-    gap = p["crossing_gap_m"] if p["crossing_gap_m"] is not None else default_crossing_gap_m(p["radius_m"], p["frequency_hz"])
-    if gap < 2.5 * p["radius_m"]:
-        raise UserError(
-            f"crossing_gap_m = {gap:g} m: the elements would touch where they cross (radius {p['radius_m']:g} m); "
-            f"allowed: at least 2.5 radii ({2.5 * p['radius_m']:g} m)"
-        )
-    za, zb = height - 0.5 * gap, height + 0.5 * gap
+    za, zb = _crossing_heights_m(p, lam)
+    height, gap = 0.5 * (za + zb), zb - za
     pts_a = np.stack([loop[:, 0], np.zeros(len(loop)), loop[:, 1] + za], axis=1)
     pts_b = np.stack([np.zeros(len(loop)), loop[:, 0], loop[:, 1] + zb], axis=1)
     wires = [
