@@ -83,9 +83,10 @@ def invented_catalog(count: int, seed: int = 2027, mix: str = "mixed"):
     return entries
 
 
-# Python objects of one pass without its samples (Pass, Track, 3 datetimes, 5 floats,
-# 5 array views, the Doppler dict), measured with tracemalloc on this engine.
-_PASS_OBJECT_BYTES = 1460
+# Python objects of one pass without its samples (Pass, Track, 3 datetimes, 7 floats,
+# one array view, the list slot), measured with tracemalloc on this engine.
+_PASS_OBJECT_BYTES = 680
+_SAMPLE_BYTES = len(engine._SAMPLE_COLUMNS) * np.dtype(engine._SAMPLE_DTYPE).itemsize
 
 
 def _bare_chunk(job):
@@ -239,9 +240,9 @@ def main() -> None:
     print(f"ratio engine / baseline: {full['wall_s'] / base['wall_s']:.2f} (target <= 1.5); CPU seconds "
           f"(calling process + workers): baseline {base['self_cpu_s']:.1f} + {base['children_cpu_s']:.1f}, "
           f"engine {full['self_cpu_s']:.1f} + {full['children_cpu_s']:.1f}")
-    returned_mb = (full["track_samples"] * 5 * 8 + full["passes"] * _PASS_OBJECT_BYTES) / 2**20
-    print(f"returned passes alone: about {returned_mb:.0f} MB ({full['track_samples'] / 1e6:.1f} M samples x 5 float64 "
-          f"arrays + {full['passes']} Pass/Track objects x ~{_PASS_OBJECT_BYTES / 1024:.1f} kB)")
+    returned_mb = (full["track_samples"] * _SAMPLE_BYTES + full["passes"] * _PASS_OBJECT_BYTES) / 2**20
+    print(f"returned passes alone: about {returned_mb:.0f} MB ({full['track_samples'] / 1e6:.1f} M samples x "
+          f"{_SAMPLE_BYTES} bytes + {full['passes']} Pass/Track objects x ~{_PASS_OBJECT_BYTES} bytes)")
     for name, r in (("baseline", base), ("engine", full)):
         shared = r.get("shared_mb", 0.0)
         bound = r["self_mb"] + shared + (args.workers * r["children_mb"] if args.workers > 1 else 0.0)

@@ -26,7 +26,9 @@ How it works (numpy throughout, many satellites at once):
    of all satellites of the chunk at once.
 5. Tracks are sampled at the scenario's step from AOS to LOS (LOS included) by the
    same interpolation, the range rate from the interpolant's derivative, only where
-   passes are; a Doppler shift is attached for each frequency given.
+   passes are, and kept compactly (float32 geometry, times rebuilt from AOS, LOS and
+   the step: 16 bytes a sample, see ``Track``); the Doppler shift of each frequency
+   given is derived from the range rate on demand.
 6. Chunks are spread over worker processes (one per core; none below 200
    satellites, where start-up would cost more than it saves).  The result is
    identical whatever the chunking or the number of workers: every number a
@@ -87,17 +89,55 @@ class Target:
         return self.name or self.element_set.name or str(self.element_set.norad_id)
 
 
+# Track samples are kept as float32: steps of at most 2e-5 deg in azimuth, 4e-6 deg in
+# elevation, 2.4 mm in range at 40,000 km and 0.5 mm/s in range rate, all far below what
+# SGP4 elements are good for (a kilometre or so).  With the times rebuilt rather than
+# stored, a sample takes 16 bytes instead of 40: a catalog's week holds tens of millions.
+_SAMPLE_DTYPE = np.float32
+_SAMPLE_COLUMNS = ("azimuth_deg", "elevation_deg", "range_km", "range_rate_km_s")
+
+
 @dataclass(slots=True)
 class Track:
-    """Samples of one pass, aligned arrays (time in seconds from the window start)."""
+    """Samples of one pass: every ``step_s`` from AOS, then LOS (time in seconds from the window start).
+
+    ``samples`` holds azimuth, elevation, range and range rate as float32 rows (in the
+    order of ``_SAMPLE_COLUMNS``); the sample times follow from AOS, LOS and the step.
+    Every accessor returns float64 arrays.
+    """
 
     window_start_utc: datetime
-    time_s: np.ndarray
-    azimuth_deg: np.ndarray
-    elevation_deg: np.ndarray
-    range_km: np.ndarray
-    range_rate_km_s: np.ndarray
-    doppler_hz: dict[str, np.ndarray]
+    aos_s: float
+    los_s: float
+    step_s: float
+    samples: np.ndarray
+    frequencies_hz: Mapping[str, float]
+
+    @property
+    def time_s(self) -> np.ndarray:
+        return _track_times(np.array([self.aos_s]), np.array([self.los_s]), self.step_s)[0]
+
+    @property
+    def azimuth_deg(self) -> np.ndarray:
+        return self.samples[0].astype(np.float64)
+
+    @property
+    def elevation_deg(self) -> np.ndarray:
+        return self.samples[1].astype(np.float64)
+
+    @property
+    def range_km(self) -> np.ndarray:
+        return self.samples[2].astype(np.float64)
+
+    @property
+    def range_rate_km_s(self) -> np.ndarray:
+        return self.samples[3].astype(np.float64)
+
+    @property
+    def doppler_hz(self) -> dict[str, np.ndarray]:
+        """Doppler shift (Hz) of each named frequency, positive while the satellite approaches."""
+        rate = self.range_rate_km_s
+        return {label: -frequency * rate * 1000.0 / SPEED_OF_LIGHT_M_S for label, frequency in self.frequencies_hz.items()}
 
     @property
     def time_utc(self) -> np.ndarray:
@@ -106,7 +146,7 @@ class Track:
         return start + np.round(self.time_s * 1e6).astype("timedelta64[us]")
 
     def __len__(self) -> int:
-        return len(self.time_s)
+        return self.samples.shape[1]
 
 
 @dataclass(slots=True)
@@ -679,6 +719,9 @@ class _Chunk:
             min_range = np.fmin(key_range[n_pass:2 * n_pass], np.fmin.reduceat(range_km, starts))
         else:
             tca = max_elevation = min_range = key_azimuth = np.empty(0)
+        samples = np.empty((len(_SAMPLE_COLUMNS), len(time_s)), _SAMPLE_DTYPE)
+        for row, values in zip(samples, (azimuth, elevation, range_km, range_rate)):
+            row[:] = values
         return dict(
             target_index=self.job.target_index[sat],
             aos_s=aos, tca_s=tca, los_s=los,
@@ -689,8 +732,7 @@ class _Chunk:
             min_range_km=min_range,
             aos_clipped=aos_clipped, los_clipped=los_clipped,
             offsets=offsets,
-            time_s=time_s, azimuth_deg=azimuth, elevation_deg=elevation, range_km=range_km,
-            range_rate_km_s=range_rate,
+            samples=samples,
         )
 
     def failures(self) -> list[tuple[int, float, int]]:
@@ -773,42 +815,33 @@ def _run_chunk(job: _ChunkJob) -> tuple[dict, list[tuple[int, float, int]]]:
 
 # --------------------------------------------------------------------------- handing results back
 
-_SAMPLE_COLUMNS = ("time_s", "azimuth_deg", "elevation_deg", "range_km", "range_rate_km_s")
-
-
 def _run_chunk_in_worker(job: _ChunkJob, shared_dir: str | None):
     """``_run_chunk`` in a worker process, its track samples handed back cheaply.
 
     The samples (most of the result) go into a file in ``shared_dir`` (a RAM file
     system) that the calling process maps instead of unpickling a copy; without one,
-    or when it lacks room, they travel pickled, less the times (the caller rebuilds
-    those with ``_track_times``, to the same numbers).
+    or when it lacks room, they travel pickled.
     """
     result, failures = _run_chunk(job)
-    total = len(result["time_s"])
-    path = _write_samples(result, shared_dir, total) if shared_dir and total else None
+    samples = result["samples"]
+    path = _write_samples(samples, shared_dir) if shared_dir and samples.size else None
     if path is not None:
-        for name in _SAMPLE_COLUMNS:
-            del result[name]
+        del result["samples"]
         result["samples_file"] = path
-    else:
-        del result["time_s"]
     return result, failures
 
 
-def _write_samples(result: dict, folder: str, total: int) -> str | None:
+def _write_samples(samples: np.ndarray, folder: str) -> str | None:
     import tempfile
 
-    size = len(_SAMPLE_COLUMNS) * 8 * total
     path = None
     try:
         free = os.statvfs(folder)
-        if free.f_bavail * free.f_frsize < 2 * size + (64 << 20):
+        if free.f_bavail * free.f_frsize < 2 * samples.nbytes + (64 << 20):
             return None
-        fd, path = tempfile.mkstemp(prefix="planner-passes-", suffix=".f8", dir=folder)
+        fd, path = tempfile.mkstemp(prefix="planner-passes-", suffix=".f4", dir=folder)
         with os.fdopen(fd, "wb") as out:
-            for name in _SAMPLE_COLUMNS:
-                out.write(memoryview(np.ascontiguousarray(result[name], dtype=np.float64)))
+            out.write(memoryview(np.ascontiguousarray(samples)))
         return path
     except OSError:
         if path is not None:
@@ -823,25 +856,22 @@ def _unlink_quietly(path: str) -> None:
         pass
 
 
-def _take_samples(result: dict, track_step_s: float) -> None:
-    """Put the track samples of a chunk's result back in place (mapped, or rebuilt times)."""
+def _take_samples(result: dict) -> None:
+    """Put the track samples of a chunk's result back in place (mapped from their file)."""
     path = result.pop("samples_file", None)
     if path is None:
-        if "time_s" not in result:
-            result["time_s"] = _track_times(result["aos_s"], result["los_s"], track_step_s)[0]
         return
     import mmap
 
-    total = int(result["offsets"][-1])
+    shape = (len(_SAMPLE_COLUMNS), int(result["offsets"][-1]))
+    size = shape[0] * shape[1] * np.dtype(_SAMPLE_DTYPE).itemsize
     try:
         with open(path, "rb") as source:
-            mapped = mmap.mmap(source.fileno(), len(_SAMPLE_COLUMNS) * 8 * total, flags=mmap.MAP_PRIVATE,
+            mapped = mmap.mmap(source.fileno(), size, flags=mmap.MAP_PRIVATE,
                                prot=mmap.PROT_READ | mmap.PROT_WRITE)   # copy-on-write: writable arrays
     finally:
         _unlink_quietly(path)   # the mapping keeps the data until the last array goes
-    block = np.frombuffer(mapped, dtype=np.float64).reshape(len(_SAMPLE_COLUMNS), total)
-    for name, row in zip(_SAMPLE_COLUMNS, block):
-        result[name] = row
+    result["samples"] = np.frombuffer(mapped, dtype=_SAMPLE_DTYPE).reshape(shape)
 
 
 def _shared_dir() -> str | None:
@@ -922,7 +952,7 @@ def _run_all(jobs: list[_ChunkJob], workers: int):
             for future in futures:
                 result = future.result()
                 taken += 1
-                _take_samples(result[0], jobs[0].track_step_s)
+                _take_samples(result[0])
                 yield result
         finally:  # stopped early (an error, an interrupt): leave no sample files behind
             for future in futures[taken:]:
@@ -1010,14 +1040,12 @@ def predict_passes(
 
 
 def _passes_from(result: dict, targets: list[Target], start_utc: datetime, track_step_s: float) -> list[tuple]:
-    """(sort key, Pass) for every pass of one chunk; tracks are views of the chunk's arrays."""
+    """(sort key, Pass) for every pass of one chunk; tracks are views of the chunk's samples."""
     offsets = result["offsets"].tolist()
     columns = [result[name].tolist() for name in (
         "target_index", "aos_s", "tca_s", "los_s", "max_elevation_deg", "aos_azimuth_deg",
         "tca_azimuth_deg", "los_azimuth_deg", "min_range_km", "aos_clipped", "los_clipped")]
-    _take_samples(result, track_step_s)
-    time_s, azimuth, elevation = result["time_s"], result["azimuth_deg"], result["elevation_deg"]
-    range_km, range_rate = result["range_km"], result["range_rate_km_s"]
+    samples = result["samples"]
     names: dict[int, tuple[str, int]] = {}
     made = []
     for j, (index, aos_s, tca_s, los_s, max_elevation, aos_az, tca_az, los_az, min_range,
@@ -1026,12 +1054,8 @@ def _passes_from(result: dict, targets: list[Target], start_utc: datetime, track
         if index not in names:
             names[index] = (target.display_name, target.element_set.norad_id)
         name, norad_id = names[index]
-        first, last = offsets[j], offsets[j + 1]
-        rate = range_rate[first:last]
-        track = Track(
-            start_utc, time_s[first:last], azimuth[first:last], elevation[first:last], range_km[first:last], rate,
-            {label: -frequency * rate * 1000.0 / SPEED_OF_LIGHT_M_S for label, frequency in target.frequencies_hz.items()},
-        )
+        track = Track(start_utc, aos_s, los_s, track_step_s, samples[:, offsets[j]:offsets[j + 1]],
+                      target.frequencies_hz)
         aos_utc = start_utc + timedelta(seconds=aos_s)
         item = Pass(
             name, norad_id, aos_utc, start_utc + timedelta(seconds=tca_s), start_utc + timedelta(seconds=los_s),
