@@ -367,14 +367,17 @@ def budget(
     _print_exposure(study, sys.stdout)
 
 
-def _forecast_with_progress(study, candidates, quiet: bool):
-    """Run the forecast with a progress bar on stderr (silenced by --quiet)."""
+def _forecast_with_progress(study, candidates, quiet: bool, *, keep_samples: bool = True):
+    """Run the forecast with a progress bar on stderr (silenced by --quiet).
+
+    ``keep_samples=False`` for commands that report per pass and per week only (catalogs).
+    """
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 
     from planner.forecast import forecast
 
     if quiet:
-        return forecast(study, candidates)
+        return forecast(study, candidates, keep_samples=keep_samples)
     progress = Progress(
         TextColumn("budgets"), BarColumn(), TextColumn("{task.completed}/{task.total}"), TimeElapsedColumn(),
         console=Console(stderr=True), transient=True,
@@ -385,7 +388,7 @@ def _forecast_with_progress(study, candidates, quiet: bool):
         def report(done: int, total: int) -> None:
             progress.update(task, completed=done, total=total)
 
-        return forecast(study, candidates, progress=report)
+        return forecast(study, candidates, progress=report, keep_samples=keep_samples)
 
 
 def _chosen_candidates(study, candidate):
@@ -418,7 +421,7 @@ def week(
     several = len(studies) > 1
     rows = []
     for study in studies:
-        result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet)
+        result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet, keep_samples=False)
         rows += _with_station(week_rows(result.weekly), study, several)
         if format == "table":
             _print_week(study, result)
@@ -548,7 +551,7 @@ def rank(
         raise UserError(f"--top: {top} is out of range; allowed 1 or more")
     study = _load_study(scenario, allow_stale, station)
     study.candidate(candidate)
-    result = _forecast_with_progress(study, [candidate], quiet)
+    result = _forecast_with_progress(study, [candidate], quiet, keep_samples=False)
     weekly = result.weekly.sort_values(["usable_minutes", "data_volume_mbit", "satellite"], ascending=[False, False, True])
     ids = {c.name: c.norad_id for c in study.satellites}
     rows = [

@@ -6,7 +6,8 @@ The pipeline, all of it vectorized over samples (loops run per pass or per candi
    per (candidate, satellite) and evaluates the budget over all that satellite's track samples in
    one call, one row a sample.  Each sample carries ``dt_s``, the time it stands for: the
    trapezoid-rule weights of its pass (half the gap to each neighbour), so the weights of a pass
-   sum to its duration from AOS to LOS.
+   sum to its duration from AOS to LOS.  For a catalog, ``forecast(..., keep_samples=False)``
+   summarizes the samples a batch of satellites at a time and drops them.
 2. :func:`summarize_passes` turns samples into one row per (candidate, satellite, pass).  A
    sample is usable when ``margin_db + margin_shift_db >= criteria.min_margin_db``.  The margin
    is taken as linear between samples, so the usable part of a pass is the set where that
@@ -164,6 +165,78 @@ def _empty_samples() -> pd.DataFrame:
     return frame
 
 
+def _satellite_tracks(mine: list[tuple[int, object]]) -> tuple:
+    """One satellite's passes as flat float64 arrays: (pass_number, time_s, dt_s, azimuth, elevation, range)."""
+    lengths = np.array([len(p.track) for _, p in mine])
+    time_s = np.concatenate([p.track.time_s for _, p in mine])
+    first = np.zeros(len(time_s), dtype=bool)
+    first[np.cumsum(lengths)[:-1]] = True
+    first[0] = True
+    return (
+        np.repeat(np.array([n for n, _ in mine], dtype=np.int64), lengths),
+        time_s,
+        trapezoid_weights(time_s, first),
+        np.concatenate([p.track.azimuth_deg for _, p in mine]),
+        np.concatenate([p.track.elevation_deg for _, p in mine]),
+        np.concatenate([p.track.range_km for _, p in mine]),
+    )
+
+
+def _sample_frames(study, names: list[str], progress: Callable[[int, int], None] | None):
+    """(satellite, {candidate: samples frame}) for every satellite with passes, in scenario order.
+
+    A satellite's track arrays exist only while its budgets are evaluated, so memory holds
+    one satellite's samples beyond what the caller keeps.
+    """
+    satellites = [s.name for s in study.satellites]
+    by_satellite: dict[str, list[tuple[int, object]]] = {}
+    for number, a_pass in _numbered(study):
+        by_satellite.setdefault(a_pass.satellite, []).append((number, a_pass))
+    total = len(names) * len(satellites)
+    done = 0
+
+    def tick():
+        nonlocal done
+        done += 1
+        if progress is not None:
+            progress(done, total)
+
+    for satellite in satellites:
+        mine = by_satellite.get(satellite)
+        if not mine:
+            for _ in names:
+                tick()
+            continue
+        pass_number, time_s, dt_s, azimuth, elevation, range_km = _satellite_tracks(mine)
+        n = len(time_s)
+        frames = {}
+        for candidate in names:
+            budget = evaluate(downlink_setup(study, satellite, candidate), azimuth, elevation, range_km)
+            frames[candidate] = pd.DataFrame(
+                {
+                    "candidate": np.full(n, candidate, dtype=object),
+                    "satellite": np.full(n, satellite, dtype=object),
+                    "pass_number": pass_number,
+                    "time_s": time_s,
+                    "dt_s": dt_s,
+                    "azimuth_deg": azimuth,
+                    "elevation_deg": elevation,
+                    "range_km": range_km,
+                    "margin_db": budget["margin_db"].to_numpy(),
+                    "margin_at_fade_db": budget["margin_at_fade_db"].to_numpy(),
+                }
+            )
+            tick()
+        yield satellite, frames
+
+
+def _checked_candidates(study, candidates: list[str] | None) -> list[str]:
+    names = list(study.candidate_names if candidates is None else candidates)
+    for name in names:
+        study.scenario.candidate_named(name)          # unknown names: one-line UserError
+    return names
+
+
 def compute_samples(
     study,
     candidates: list[str] | None = None,
@@ -172,66 +245,22 @@ def compute_samples(
 ) -> pd.DataFrame:
     """One row per (candidate, satellite, pass, sample) with the downlink margin.
 
-    Columns: :data:`SAMPLE_COLUMNS`.  ``time_s`` counts from ``study.start_utc``; ``dt_s`` is
-    the trapezoid weight of the sample (see :func:`trapezoid_weights`).  Passes are predicted
-    once and shared by all candidates; the budget's fixed part is set up once per (candidate,
-    satellite) and evaluated over all that satellite's samples at once.  ``progress(done,
-    total)`` is called after each (candidate, satellite).
+    Columns: :data:`SAMPLE_COLUMNS`; rows by candidate, then satellite (scenario order), pass
+    and time.  ``time_s`` counts from ``study.start_utc``; ``dt_s`` is the trapezoid weight of
+    the sample (see :func:`trapezoid_weights`).  Passes are predicted once and shared by all
+    candidates; the budget's fixed part is set up once per (candidate, satellite) and evaluated
+    over all that satellite's samples at once.  ``progress(done, total)`` is called after each
+    (candidate, satellite).
     """
-    names = list(study.candidate_names if candidates is None else candidates)
-    for name in names:
-        study.scenario.candidate_named(name)          # unknown names: one-line UserError
-    satellites = [s.name for s in study.satellites]
-    numbered = _numbered(study)
-    tracks: dict[str, tuple] = {}
-    for satellite in satellites:
-        mine = [(n, p) for n, p in numbered if p.satellite == satellite]
-        if not mine:
-            continue
-        lengths = np.array([len(p.track) for _, p in mine])
-        time_s = np.concatenate([p.track.time_s for _, p in mine]).astype(float)
-        first = np.zeros(len(time_s), dtype=bool)
-        first[np.cumsum(lengths)[:-1]] = True
-        first[0] = True
-        tracks[satellite] = (
-            np.repeat(np.array([n for n, _ in mine], dtype=np.int64), lengths),
-            time_s,
-            trapezoid_weights(time_s, first),
-            np.concatenate([p.track.azimuth_deg for _, p in mine]).astype(float),
-            np.concatenate([p.track.elevation_deg for _, p in mine]).astype(float),
-            np.concatenate([p.track.range_km for _, p in mine]).astype(float),
-        )
-    total = len(names) * len(satellites)
-    done = 0
-    frames = []
-    for candidate in names:
-        for satellite in satellites:
-            if satellite in tracks:
-                pass_number, time_s, dt_s, azimuth, elevation, range_km = tracks[satellite]
-                budget = evaluate(downlink_setup(study, satellite, candidate), azimuth, elevation, range_km)
-                n = len(time_s)
-                frames.append(
-                    pd.DataFrame(
-                        {
-                            "candidate": np.full(n, candidate, dtype=object),
-                            "satellite": np.full(n, satellite, dtype=object),
-                            "pass_number": pass_number,
-                            "time_s": time_s,
-                            "dt_s": dt_s,
-                            "azimuth_deg": azimuth,
-                            "elevation_deg": elevation,
-                            "range_km": range_km,
-                            "margin_db": budget["margin_db"].to_numpy(),
-                            "margin_at_fade_db": budget["margin_at_fade_db"].to_numpy(),
-                        }
-                    )
-                )
-            done += 1
-            if progress is not None:
-                progress(done, total)
-    if not frames:
+    names = _checked_candidates(study, candidates)
+    per_candidate: dict[str, list[pd.DataFrame]] = {name: [] for name in names}
+    for _, frames in _sample_frames(study, names, progress):
+        for name, frame in frames.items():
+            per_candidate[name].append(frame)
+    ordered = [frame for name in names for frame in per_candidate[name]]
+    if not ordered:
         return _empty_samples()
-    return pd.concat(frames, ignore_index=True)
+    return pd.concat(ordered, ignore_index=True)
 
 
 # ---------------------------------------------------------------------------- per pass
@@ -301,12 +330,22 @@ def summarize_passes(samples: pd.DataFrame, passes: pd.DataFrame, study, *, marg
     candidates = list(pd.unique(samples["candidate"])) if len(samples) else []
     if not candidates or len(passes) == 0:
         return _empty_outcomes(passes)
-    frame = samples.sort_values(_KEYS + ["time_s"], kind="stable")
-    group = frame.groupby(_KEYS, sort=False).ngroup().to_numpy()
-    keys = frame.loc[:, _KEYS].drop_duplicates().reset_index(drop=True)
+    # Samples in (candidate, satellite, pass, time) order, names as integer codes (sorting
+    # and grouping strings is what a catalog's millions of rows would spend their time on);
+    # a group is one (candidate, satellite, pass).
+    candidate_code, _ = pd.factorize(samples["candidate"])
+    satellite_code, _ = pd.factorize(samples["satellite"])
+    pass_number = samples["pass_number"].to_numpy()
+    time_s = samples["time_s"].to_numpy(dtype=float)
+    order = np.lexsort((time_s, pass_number, satellite_code, candidate_code))
+    code = np.stack([candidate_code[order], satellite_code[order], pass_number[order]])
+    new_group = np.ones(len(order), dtype=bool)
+    new_group[1:] = np.any(code[:, 1:] != code[:, :-1], axis=0)
+    group = np.cumsum(new_group) - 1
+    keys = samples.loc[:, _KEYS].iloc[order[new_group]].reset_index(drop=True)
     n_groups = len(keys)
-    margin = frame["margin_db"].to_numpy(dtype=float) + float(margin_shift_db)
-    start_s, end_s, window_group = usable_windows(frame["time_s"].to_numpy(dtype=float), margin, threshold_db, group)
+    margin = samples["margin_db"].to_numpy(dtype=float)[order] + float(margin_shift_db)
+    start_s, end_s, window_group = usable_windows(time_s[order], margin, threshold_db, group)
 
     length = end_s - start_s
     usable_s = np.bincount(window_group, weights=length, minlength=n_groups)
@@ -539,16 +578,66 @@ class Forecast:
         return schedule(self.outcomes_of(candidate))
 
 
+# Samples summarized at once when the samples are not kept (about 100 MB of frame).
+_SUMMARY_BATCH_ROWS = 1_000_000
+
+
 def forecast(
     study,
     candidates: list[str] | None = None,
     progress: Callable[[int, int], None] | None = None,
+    *,
+    keep_samples: bool = True,
 ) -> Forecast:
-    """Samples, pass table, per-pass outcomes and weekly totals of a study's candidates."""
-    names = list(study.candidate_names if candidates is None else candidates)
-    samples = compute_samples(study, names, progress=progress)
+    """Samples, pass table, per-pass outcomes and weekly totals of a study's candidates.
+
+    ``keep_samples=False`` is for catalogs (thousands of objects, tens of millions of samples):
+    the samples are summarized a batch of satellites at a time and dropped, so memory follows
+    the number of passes rather than samples, and ``Forecast.samples`` is empty.  The outcomes
+    and totals are the same either way.
+    """
+    names = _checked_candidates(study, candidates)
     passes = pass_table(study)
-    outcomes = summarize_passes(samples, passes, study)
+    if keep_samples:
+        samples = compute_samples(study, names, progress=progress)
+        outcomes = summarize_passes(samples, passes, study)
+    else:
+        samples = _empty_samples()
+        outcomes = _summarized_in_batches(study, names, passes, progress)
     days = float(study.scenario.window.days)
     weekly = weekly_table(outcomes, days, candidates=names, satellites=[s.name for s in study.satellites])
     return Forecast(samples=samples, passes=passes, outcomes=outcomes, weekly=weekly, days=days, criteria=study.scenario.criteria)
+
+
+def _summarized_in_batches(study, names: list[str], passes: pd.DataFrame, progress) -> pd.DataFrame:
+    """``summarize_passes`` over batches of satellites, in the order it gives for all at once."""
+    parts, batch, batch_satellites, rows = [], [], [], 0
+
+    def flush():
+        samples = pd.concat(batch, ignore_index=True)
+        mine = passes.loc[passes["satellite"].isin(batch_satellites)]
+        parts.append(summarize_passes(samples, mine, study))
+        batch.clear()
+        batch_satellites.clear()
+
+    for satellite, frames in _sample_frames(study, names, progress):
+        batch.extend(frames.values())
+        batch_satellites.append(satellite)
+        rows += sum(len(frame) for frame in frames.values())
+        if rows >= _SUMMARY_BATCH_ROWS:
+            flush()
+            rows = 0
+    if batch:
+        flush()
+    if not parts:
+        return _empty_outcomes(passes)
+    outcomes = pd.concat(parts, ignore_index=True)
+    # summarize_passes orders its rows by candidate, then as the pass table (satellite, pass).
+    candidate_rank = {name: k for k, name in enumerate(names)}
+    satellite_rank = {s.name: k for k, s in enumerate(study.satellites)}
+    order = np.lexsort((
+        outcomes["pass_number"].to_numpy(),
+        outcomes["satellite"].map(satellite_rank).to_numpy(),
+        outcomes["candidate"].map(candidate_rank).to_numpy(),
+    ))
+    return outcomes.iloc[order].reset_index(drop=True)

@@ -95,10 +95,21 @@ class Study:
         return [s.name for s in self.scenario.stations]
 
     def satellite_config(self, name: str) -> SatelliteConfig:
-        """A target's radio configuration by name or catalog number (scenario or catalog)."""
-        for config in self.satellites:
-            if config.name == name or (config.norad_id is not None and str(config.norad_id) == str(name)):
-                return config
+        """A target's radio configuration by name or catalog number (scenario or catalog).
+
+        The first satellite (in scenario order) with that name or number; looked up in an
+        index built once, since a catalog's forecast asks for every one of thousands.
+        """
+        index = self.__dict__.get("_satellite_index")
+        if index is None:
+            index = {}
+            for config in reversed(self.satellites):      # earlier entries overwrite later ones
+                if config.norad_id is not None:
+                    index[str(config.norad_id)] = config
+                index[config.name] = config
+            self.__dict__["_satellite_index"] = index
+        if str(name) in index:
+            return index[str(name)]
         allowed = ", ".join(c.name for c in self.satellites[:8]) + (", ..." if len(self.satellites) > 8 else "")
         source = self.scenario.source_path if self.scenario is not None else "scenario"
         raise UserError(f"{source}: no satellite named {name!r}; allowed: {allowed}")
