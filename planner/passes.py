@@ -97,6 +97,12 @@ _SAMPLE_DTYPE = np.float32
 _SAMPLE_COLUMNS = ("azimuth_deg", "elevation_deg", "range_km", "range_rate_km_s")
 
 
+def _sample_row(name: str, doc: str) -> property:
+    """A read-only attribute: one row of ``Track.samples`` as a new float64 array."""
+    row = _SAMPLE_COLUMNS.index(name)
+    return property(lambda track: track.samples[row].astype(np.float64), doc=doc)
+
+
 @dataclass(slots=True)
 class Track:
     """Samples of one pass: every ``step_s`` from AOS, then LOS (time in seconds from the window start).
@@ -117,21 +123,10 @@ class Track:
     def time_s(self) -> np.ndarray:
         return _track_times(np.array([self.aos_s]), np.array([self.los_s]), self.step_s)[0]
 
-    @property
-    def azimuth_deg(self) -> np.ndarray:
-        return self.samples[0].astype(np.float64)
-
-    @property
-    def elevation_deg(self) -> np.ndarray:
-        return self.samples[1].astype(np.float64)
-
-    @property
-    def range_km(self) -> np.ndarray:
-        return self.samples[2].astype(np.float64)
-
-    @property
-    def range_rate_km_s(self) -> np.ndarray:
-        return self.samples[3].astype(np.float64)
+    azimuth_deg = _sample_row("azimuth_deg", "Azimuth, deg clockwise from true north.")
+    elevation_deg = _sample_row("elevation_deg", "Elevation above the horizontal, deg.")
+    range_km = _sample_row("range_km", "Slant range station-satellite, km.")
+    range_rate_km_s = _sample_row("range_rate_km_s", "Range rate, km/s (negative while approaching).")
 
     @property
     def doppler_hz(self) -> dict[str, np.ndarray]:
