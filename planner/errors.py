@@ -11,6 +11,7 @@ the run (stale elements, an extrapolated model). Library code raises it through
 
 from __future__ import annotations
 
+import math
 import warnings
 
 
@@ -20,6 +21,17 @@ class UserError(Exception):
 
 class PlannerWarning(UserWarning):
     """Something worth knowing that does not stop the run."""
+
+
+def positive_number(name: str, value, allowed: str = "a positive number") -> float:
+    """``value`` as a finite float above zero, or a UserError naming ``name`` and what is allowed."""
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        raise UserError(f"{name}: must be {allowed}, got {value!r}") from None
+    if not (math.isfinite(number) and number > 0):
+        raise UserError(f"{name}: must be {allowed}, got {value!r}")
+    return number
 
 
 def warn(message: str) -> None:

@@ -45,7 +45,7 @@ from typing import Any
 
 import numpy as np
 
-from planner.errors import UserError
+from planner.errors import UserError, positive_number as _positive
 from planner.feedline import (
     SPEED_OF_LIGHT_M_S,
     line_input_impedance,
@@ -66,16 +66,6 @@ __all__ = [
     "harness_report",
     "HARNESS_UNITS",
 ]
-
-
-def _positive(name: str, value: Any) -> float:
-    try:
-        number = float(value)
-    except (TypeError, ValueError):
-        raise UserError(f"{name}: must be a positive number, got {value!r}") from None
-    if not (math.isfinite(number) and number > 0):
-        raise UserError(f"{name}: must be a positive number, got {value!r}")
-    return number
 
 
 def _finite(name: str, value: Any) -> float:

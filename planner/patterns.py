@@ -64,7 +64,7 @@ from typing import Any, Callable, Sequence
 
 import numpy as np
 
-from planner.errors import UserError, warn
+from planner.errors import UserError, positive_number, warn
 from planner.fileio import write_atomically
 
 GAIN_FLOOR_DBIC = -60.0
@@ -683,20 +683,18 @@ def crossed_dipoles(height_wavelengths: float = 0.0) -> list[HalfWaveDipole]:
 # --------------------------------------------------------------------------------------------
 
 
-def _grid(step_deg: float, span_deg: float, name: str, closed: bool) -> np.ndarray:
-    if not (isinstance(step_deg, (int, float)) and math.isfinite(step_deg) and step_deg > 0):
-        raise UserError(f"{name}: must be a positive number of degrees, got {step_deg!r}")
-    count = round(span_deg / step_deg)
-    if count < 1 or abs(count * step_deg - span_deg) > 1e-9 * span_deg:
-        raise UserError(f"{name}: {step_deg:g} deg does not divide {span_deg:g} deg evenly; pick a divisor such as 1, 2, 5 or 10")
-    index = np.arange(count + 1 if closed else count, dtype=float)
-    return index * float(step_deg)
+def angle_grid(step_deg: float, span_deg: float, name: str, closed: bool) -> np.ndarray:
+    """0, step, 2 step ... over ``span_deg`` (its end included when ``closed``); the step must divide it."""
+    step = positive_number(name, step_deg, "a positive number of degrees")
+    count = round(span_deg / step)
+    if count < 1 or abs(count * step - span_deg) > 1e-9 * span_deg:
+        raise UserError(f"{name}: {step:g} deg does not divide {span_deg:g} deg evenly; pick a divisor such as 1, 2, 5 or 10")
+    return np.arange(count + 1 if closed else count, dtype=float) * step
 
 
-def _check_frequency(frequency_hz: float) -> float:
-    if not (isinstance(frequency_hz, (int, float)) and math.isfinite(frequency_hz) and frequency_hz > 0):
-        raise UserError(f"frequency_hz: must be a positive number of hertz, got {frequency_hz!r}")
-    return float(frequency_hz)
+def check_frequency(frequency_hz: float) -> float:
+    """A pattern builder's frequency as a float, or one UserError line."""
+    return positive_number("frequency_hz", frequency_hz, "a positive number of hertz")
 
 
 def _floor_db(gain: np.ndarray) -> np.ndarray:
@@ -716,12 +714,12 @@ def turnstile_over_reflector(
     wavelengths, so the spacing in metres is spacing_wavelengths * c / frequency_hz."""
     if not (isinstance(spacing_wavelengths, (int, float)) and math.isfinite(spacing_wavelengths) and 0 < spacing_wavelengths <= 20):
         raise UserError(f"spacing_wavelengths: must be a number in (0, 20] wavelengths, got {spacing_wavelengths!r}")
-    frequency_hz = _check_frequency(frequency_hz)
+    frequency_hz = check_frequency(frequency_hz)
     if spacing_wavelengths > 5:
         warn(f"spacing_wavelengths {spacing_wavelengths:g}: the lobes narrow to a few degrees near the horizon; "
              "a 1 deg elevation grid no longer resolves them")
-    elevation = _grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
-    azimuth = _grid(azimuth_step_deg, 360.0, "azimuth_step_deg", closed=False)
+    elevation = angle_grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
+    azimuth = angle_grid(azimuth_step_deg, 360.0, "azimuth_step_deg", closed=False)
     d_r, d_l = partial_directivities(crossed_dipoles(spacing_wavelengths), azimuth[None, :], elevation[:, None], pec_ground=True)
     spacing_m = spacing_wavelengths * SPEED_OF_LIGHT_M_S / frequency_hz
     header = {
@@ -769,8 +767,8 @@ def isotropic_rhcp(frequency_hz: float = DEMO_FREQUENCY_HZ, *, elevation_step_de
 
     Not a realizable antenna (no antenna is circularly polarized in every direction); it is the
     yardstick against which the other patterns are read."""
-    frequency_hz = _check_frequency(frequency_hz)
-    elevation = _grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
+    frequency_hz = check_frequency(frequency_hz)
+    elevation = angle_grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
     header = {
         "frequency_mhz": format_number(frequency_hz / 1e6),
         "model": "isotropic RHCP reference: 0 dBic RHCP over the whole sphere, no LHCP (not a realizable antenna)",

@@ -52,7 +52,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from planner.errors import UserError
+from planner.errors import UserError, positive_number
 from planner.feedline import (
     NEPER_DB,
     line_input_impedance,
@@ -105,16 +105,6 @@ def _matrix(z, size: int = 2) -> np.ndarray:
     if not np.all(np.isfinite(m)):
         raise ValueError("the port impedance matrix holds non-finite values")
     return m
-
-
-def _positive(name: str, value, allowed: str) -> float:
-    try:
-        number = float(value)
-    except (TypeError, ValueError):
-        raise UserError(f"{name}: must be {allowed}, got {value!r}") from None
-    if not (math.isfinite(number) and number > 0):
-        raise UserError(f"{name}: must be {allowed}, got {value!r}")
-    return number
 
 
 def _mismatch(z_feed: complex, reference_ohm: float) -> tuple[float, float]:
@@ -189,8 +179,8 @@ def phasing_line(
     """
     if frequency_hz is None:
         raise UserError("frequency_hz: the phasing line needs the frequency (a positive number of hertz)")
-    frequency_hz = _positive("frequency_hz", frequency_hz, "a positive number of hertz")
-    z0 = _positive("line_z0_ohm", line_z0_ohm, "a positive impedance in ohm (e.g. 50 or 75)")
+    frequency_hz = positive_number("frequency_hz", frequency_hz, "a positive number of hertz")
+    z0 = positive_number("line_z0_ohm", line_z0_ohm, "a positive impedance in ohm (e.g. 50 or 75)")
     vf = float(velocity_factor)
     if not (math.isfinite(vf) and 0.0 < vf <= 1.0):
         raise UserError(f"velocity_factor: must be in (0, 1], got {velocity_factor!r}")

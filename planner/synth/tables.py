@@ -32,7 +32,7 @@ import numpy as np
 
 from planner.errors import UserError
 from planner.feedline import quarter_wave_length_m
-from planner.patterns import format_number, GAIN_FLOOR_DBIC, PatternTable
+from planner.patterns import format_number, GAIN_FLOOR_DBIC, PatternTable, angle_grid, check_frequency
 from planner.synth import mom
 from planner.synth.feed import FeedResult, ideal_quadrature, phasing_line, single_port
 from planner.synth.geometry import WireModel
@@ -77,19 +77,6 @@ def _fmt_value(value: Any) -> str:
     return str(value)
 
 
-def _grid(step_deg: float, span_deg: float, name: str, closed: bool) -> np.ndarray:
-    try:
-        step = float(step_deg)
-    except (TypeError, ValueError):
-        raise UserError(f"{name}: must be a positive number of degrees, got {step_deg!r}") from None
-    if not (math.isfinite(step) and step > 0):
-        raise UserError(f"{name}: must be a positive number of degrees, got {step_deg!r}")
-    count = round(span_deg / step)
-    if count < 1 or abs(count * step - span_deg) > 1e-9 * span_deg:
-        raise UserError(f"{name}: {step:g} deg does not divide {span_deg:g} deg evenly; pick a divisor such as 1, 2, 5 or 10")
-    return np.arange(count + 1 if closed else count, dtype=float) * step
-
-
 def _parameters_text(parameters: Mapping[str, Any]) -> str:
     items = []
     for key, value in parameters.items():
@@ -125,13 +112,11 @@ def build_pattern_table(
     values left out); ``command`` is written verbatim as ``generated_by``; ``builder`` (a function
     under ``planner.synth`` taking ``parameters`` as keywords) lets the table be rebuilt.
     """
-    frequency_hz = float(frequency_hz)
-    if not (math.isfinite(frequency_hz) and frequency_hz > 0):
-        raise UserError(f"frequency_hz: must be a positive number of hertz, got {frequency_hz!r}")
+    frequency_hz = check_frequency(frequency_hz)
     if abs(frequency_hz - model.frequency_hz) > 1e-9 * model.frequency_hz:
         raise ValueError(f"frequency_hz {frequency_hz:g} differs from the model's {model.frequency_hz:g}")
-    elevation = _grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
-    azimuth = _grid(azimuth_step_deg, 360.0, "azimuth_step_deg", closed=False)
+    elevation = angle_grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
+    azimuth = angle_grid(azimuth_step_deg, 360.0, "azimuth_step_deg", closed=False)
     voltages = np.asarray(feed.port_voltages, dtype=complex)
     rhcp, lhcp = solution.gains_dbic(azimuth[None, :], elevation[:, None], voltages)
     network = float(feed.network_efficiency)
