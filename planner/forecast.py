@@ -42,6 +42,7 @@ import numpy as np
 import pandas as pd
 
 from planner.budget import downlink_setup, evaluate
+from planner.passes import joined_time_s
 from planner.scenario import CriteriaConfig
 
 ELEVATION_BANDS_DEG = ((0, 10), (10, 30), (30, 60), (60, 90))
@@ -74,24 +75,23 @@ _KEYS = ["candidate", "satellite", "pass_number"]
 # ---------------------------------------------------------------------------- passes
 
 
-def _predicted_passes(study) -> list:
-    """The study's passes, predicted once per study and window (cached on the study)."""
+def _numbered(study) -> list[tuple[int, object]]:
+    """(pass_number, Pass) in AOS order; the number counts from 1 per satellite.
+
+    Predicted and numbered once per study and window (cached on the study); callers must
+    not reorder the list.
+    """
     cache = study.__dict__.setdefault("_forecast_passes", {})
     key = (study.start_utc, study.end_utc, study.step_s)
     if key not in cache:
         cache.clear()
-        cache[key] = study.passes()
+        counters: dict[str, int] = {}
+        numbered = []
+        for a_pass in study.passes():
+            counters[a_pass.satellite] = counters.get(a_pass.satellite, 0) + 1
+            numbered.append((counters[a_pass.satellite], a_pass))
+        cache[key] = numbered
     return cache[key]
-
-
-def _numbered(study) -> list[tuple[int, object]]:
-    """(pass_number, Pass) in AOS order; the number counts from 1 per satellite."""
-    counters: dict[str, int] = {}
-    result = []
-    for a_pass in _predicted_passes(study):
-        counters[a_pass.satellite] = counters.get(a_pass.satellite, 0) + 1
-        result.append((counters[a_pass.satellite], a_pass))
-    return result
 
 
 def elevation_band(max_elevation_deg) -> np.ndarray:
@@ -116,10 +116,9 @@ def pass_table(study) -> pd.DataFrame:
     local mean solar time (UTC + longitude / 15) at TCA, 0..23; ``elevation_band`` labels the
     culmination elevation with :data:`ELEVATION_BANDS_DEG`.
     """
-    numbered = _numbered(study)
     longitude_deg = float(study.station.longitude_deg)
     order = {s.name: i for i, s in enumerate(study.satellites)}
-    numbered.sort(key=lambda item: (order.get(item[1].satellite, len(order)), item[0]))
+    numbered = sorted(_numbered(study), key=lambda item: (order.get(item[1].satellite, len(order)), item[0]))
     start = study.start_utc
     rows = {
         "satellite": [p.satellite for _, p in numbered],
@@ -168,7 +167,7 @@ def _empty_samples() -> pd.DataFrame:
 def _satellite_tracks(mine: list[tuple[int, object]]) -> tuple:
     """One satellite's passes as flat float64 arrays: (pass_number, time_s, dt_s, azimuth, elevation, range)."""
     lengths = np.array([len(p.track) for _, p in mine])
-    time_s = np.concatenate([p.track.time_s for _, p in mine])
+    time_s = joined_time_s([p.track for _, p in mine])
     first = np.zeros(len(time_s), dtype=bool)
     first[np.cumsum(lengths)[:-1]] = True
     first[0] = True

@@ -754,6 +754,18 @@ def _track_times(aos: np.ndarray, los: np.ndarray, step_s: float):
     return time_s, offsets, pass_of_sample
 
 
+def joined_time_s(tracks: Sequence[Track]) -> np.ndarray:
+    """The sample times of several tracks, concatenated: the numbers of their ``time_s``,
+    in one vectorized call when they share a step (a call per track costs ~20 us, which a
+    catalog's 300,000 passes notice)."""
+    steps = {track.step_s for track in tracks}
+    if len(steps) != 1:
+        return np.concatenate([track.time_s for track in tracks]) if tracks else np.zeros(0)
+    aos = np.array([track.aos_s for track in tracks])
+    los = np.array([track.los_s for track in tracks])
+    return _track_times(aos, los, steps.pop())[0]
+
+
 def _golden_extreme(function, low: np.ndarray, high: np.ndarray, maximize: bool,
                     tolerance_s: float = _EXTREME_TOLERANCE_S) -> tuple[np.ndarray, np.ndarray]:
     """Vectorized golden-section search for an extreme of ``function`` in each [low, high].

@@ -199,6 +199,13 @@ def test_compact_tracks_agree_with_direct_sgp4(catalog):
         assert np.abs(track.elevation_deg - look.elevation_deg).max() < 1e-3
         assert np.abs(track.range_km - look.range_km).max() < 5e-3
         assert np.abs(track.range_rate_km_s - look.range_rate_km_s).max() < 3e-3
+    # The times of many tracks at once (the forecast's path) are their own times, bit for bit,
+    # also when tracks of different steps are mixed.
+    tracks = [p.track for p in found]
+    assert np.array_equal(engine.joined_time_s(tracks), np.concatenate([t.time_s for t in tracks]))
+    coarse = [p.track for p in predict_passes(targets[:3], SITE, START, end, step_s=37)]
+    mixed = tracks[:5] + coarse
+    assert np.array_equal(engine.joined_time_s(mixed), np.concatenate([t.time_s for t in mixed]))
 
 
 def _same_passes(a, b):
