@@ -63,6 +63,7 @@ __all__ = [
     "validated",
 ]
 
+SECONDS_PER_DAY = 86400.0
 _STRICT = ConfigDict(extra="forbid")
 
 # Earliest and latest window start accepted. The first artificial satellite flew in
@@ -371,6 +372,15 @@ class WindowConfig(BaseModel):
         if not _EARLIEST_START <= parsed <= _LATEST_START:
             raise _error(f"{parsed.isoformat()} is out of range", _ALLOWED_START)
         return parsed
+
+    @model_validator(mode="after")
+    def _at_least_one_step(self) -> "WindowConfig":
+        # A window shorter than its step holds no track; far shorter ones (1e-185 days,
+        # found by the scenario fuzz) would even end where they start.
+        if self.days * SECONDS_PER_DAY < self.step_s:
+            raise _error(f"{_num(self.days)} days is shorter than one step of {_num(self.step_s)} s",
+                         f"one step or more, here {self.step_s / SECONDS_PER_DAY:.3g} days or more", at=("days",))
+        return self
 
     @property
     def end_utc(self) -> datetime:
