@@ -28,10 +28,9 @@ from matplotlib.figure import Figure
 
 from planner import plots
 from planner.errors import UserError
-from planner.patterns import load_pattern
+from planner.patterns import turnstile_over_reflector
 
 REPO = Path(__file__).resolve().parents[1]
-PATTERNS = REPO / "patterns"
 UNIT_RE = re.compile(r"[(\[]\s*(deg|dB|dBic|s|min/day)\s*[)\]]")
 
 # --------------------------------------------------------------------------------------------
@@ -74,15 +73,16 @@ def margins_for(track: pd.DataFrame, table, *, budget_db: float) -> np.ndarray:
 
 
 CANDIDATES = {
-    "quarter-wave reflector": "turnstile-h0.25wl.csv",
-    "half-wave reflector": "turnstile-h0.5wl.csv",
-    "0.375-wave reflector": "turnstile-h0.375wl.csv",
+    "quarter-wave reflector": 0.25,
+    "half-wave reflector": 0.5,
+    "0.375-wave reflector": 0.375,
 }
 
 
 @pytest.fixture(scope="module")
 def tables():
-    return {name: load_pattern(PATTERNS / file) for name, file in CANDIDATES.items()}
+    # Closed-form image-theory turnstiles (Balanis ch. 4): smooth, well-known shapes to draw.
+    return {name: turnstile_over_reflector(spacing, 436e6) for name, spacing in CANDIDATES.items()}
 
 
 def make_samples(tables) -> pd.DataFrame:
