@@ -748,6 +748,10 @@ def turnstile_over_reflector(
             f"an infinite perfect conductor passes no field: {format_number(GAIN_FLOOR_DBIC)} dBic (the floor) "
             "below the horizon and at it; real finite reflectors leak"
         ),
+        "feed": (
+            "none: closed-form currents with no feed network, so no feed impedance and no mismatch charged; "
+            "a cross-check, not a buildable candidate (the wire solver's turnstile template has the feed)"
+        ),
         "radiation_efficiency": "1",
     }
     return PatternTable(
@@ -780,6 +784,11 @@ def isotropic_rhcp(frequency_hz: float = DEMO_FREQUENCY_HZ, *, elevation_step_de
             f"partial gains for RHCP and LHCP waves in dBic; LHCP at the floor {format_number(GAIN_FLOOR_DBIC)} dBic "
             "(no field); both hemispheres"
         ),
+        "feed": "ideal reference: matched to the 50 ohm line by definition",
+        "feed_impedance_ohm": "50.000+0.000j",
+        "feed_vswr": "1.000",
+        "feed_mismatch_loss_db": "0.000",
+        "feed_reference_ohm": "50",
         "radiation_efficiency": "1",
     }
     return PatternTable(
@@ -790,6 +799,8 @@ def isotropic_rhcp(frequency_hz: float = DEMO_FREQUENCY_HZ, *, elevation_step_de
         azimuth_deg=None,
         gain_rhcp_dbic=np.zeros(len(elevation)),
         gain_lhcp_dbic=np.full(len(elevation), GAIN_FLOOR_DBIC),
+        feed_vswr=1.0,
+        feed_impedance_ohm=complex(50.0, 0.0),
         radiation_efficiency=1.0,
     )
 
