@@ -117,8 +117,15 @@ def build_pattern_table(
         raise ValueError(f"frequency_hz {frequency_hz:g} differs from the model's {model.frequency_hz:g}")
     elevation = angle_grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
     azimuth = angle_grid(azimuth_step_deg, 360.0, "azimuth_step_deg", closed=False)
+    from planner.synth import ground as real_ground
+
     voltages = np.asarray(feed.port_voltages, dtype=complex)
-    rhcp, lhcp = solution.gains_dbic(azimuth[None, :], elevation[:, None], voltages)
+    ground = real_ground.ground_from_notes(getattr(model, "notes", None))
+    if ground is None:
+        rhcp, lhcp = solution.gains_dbic(azimuth[None, :], elevation[:, None], voltages)
+    else:
+        rhcp, lhcp = real_ground.gains_over_ground_dbic(solution, azimuth[None, :], elevation[:, None], voltages, ground)
+        real_ground.check_table_step(ground, elevation_step_deg)
     network = float(feed.network_efficiency)
     if not (math.isfinite(network) and 0.0 < network <= 1.0 + 1e-9):
         raise ValueError(f"feed network efficiency {network!r} is not in (0, 1]")
@@ -150,9 +157,18 @@ def build_pattern_table(
     header["geometry"] = notes.get("geometry", f"{len(model.wires)} wires, ports {', '.join(model.port_names)}")
     if "reflector" in notes:
         header["reflector"] = notes["reflector"]
-    header["ground"] = (
-        "infinite perfectly conducting plane z = 0 (images)" if model.ground == "pec" else "none (free space)"
-    )
+    if ground is not None:
+        header["ground"] = f"{ground.describe()}; {ground.source()}"
+        header["mast_height_m"] = format_number(ground.mast_height_m)
+        header["ground_model"] = (
+            "free-space currents; direct ray plus the ray reflected by the flat ground with the Fresnel coefficients "
+            "(image theory, Gamma_h -> -1 and Gamma_v -> +1 over a perfect conductor), path phase exp(-j 2 k H sin el)"
+        )
+        header["ground_neglected"] = real_ground.NEGLECTED
+    else:
+        header["ground"] = (
+            "infinite perfectly conducting plane z = 0 (images)" if model.ground == "pec" else "none (free space)"
+        )
     header["solver"] = solution.solver_summary() if hasattr(solution, "solver_summary") else MODEL_DESCRIPTION
     header["frame"] = (
         "x east, y north, z up; element a along/in the east plane, b turned +90 deg about up; azimuth_deg from north "
@@ -185,11 +201,17 @@ def build_pattern_table(
         "partial gains for RHCP and LHCP waves in dBic relative to the power delivered at the feed point (wire and "
         "phasing-line loss included, mismatch to the feed line not: see feed_vswr); total gain is their sum"
     )
-    header["below_horizon"] = (
-        f"an infinite perfect conductor passes no field: {format_number(GAIN_FLOOR_DBIC)} dBic (the floor) below the horizon"
-        if model.ground == "pec"
-        else "computed field (a finite or absent reflector lets it through)"
-    )
+    if ground is not None:
+        header["below_horizon"] = (
+            "the part of the free-space field that enters the ground, each polarization scaled by sqrt(1 - |Gamma|^2): "
+            "how the ground's thermal emission couples in (the reflected part is in the upper hemisphere, toward the sky)"
+        )
+    else:
+        header["below_horizon"] = (
+            f"an infinite perfect conductor passes no field: {format_number(GAIN_FLOOR_DBIC)} dBic (the floor) below the horizon"
+            if model.ground == "pec"
+            else "computed field (a finite or absent reflector lets it through)"
+        )
     return PatternTable(
         path=None,
         frequency_hz=frequency_hz,

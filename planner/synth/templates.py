@@ -40,6 +40,17 @@ Reflectors (``reflector``)
   along east and north every ``grid_pitch_wavelengths``, joined at every crossing.
 Wire reflectors are finite, so they leak: the pattern below the horizon is the computed field.
 
+Ground below the mast (``ground``, ``mast_height_m``)
+---------------------------------------------------
+Any template can stand on a mast over flat real ground: ``ground`` is a class of
+:data:`planner.synth.ground.GROUND_CLASSES` (ITU-R P.527 / P.2040 constants) or ``"custom"`` with
+``ground_permittivity`` and ``ground_conductivity_s_per_m``; ``mast_height_m`` is the height from
+the ground to the model's z = 0 plane (the reflector plane; for a dipole without
+``height_wavelengths``, its centre). The model is still solved in free space; the table adds the
+ground-reflected ray (see :mod:`planner.synth.ground`). Refused: a ground under ``reflector =
+"pec"`` or a dipole's ``height_wavelengths`` (an infinite plate hides it), a mast height without
+a ground, and a mast so low that a wire touches the ground.
+
 Superellipse loops
 ------------------
 A crossed-loop element is a closed loop in a vertical plane, the superellipse
@@ -62,6 +73,7 @@ from scipy.constants import c as SPEED_OF_LIGHT_M_S
 
 from planner.errors import UserError
 from planner.synth.geometry import MATERIALS, Port, Wire, WireModel
+from planner.synth.ground import GROUND_CHOICES, NOTE_KEY, check_clearance, ground_note, make_ground
 
 __all__ = [
     "Parameter",
@@ -302,6 +314,29 @@ _REFL_SIZE = Parameter(float, 1.0, (0.3, 3.0), "wavelengths; rod length or grid 
 _PITCH = Parameter(float, 0.1, (0.03, 0.5), "wavelengths; grid pitch of the grid reflector")
 _REFL_RADIUS = Parameter(float, None, (1e-5, 0.05), "m; radius of the reflector wires (default: the element radius)")
 _GAP = Parameter(float, None, (1e-5, 0.1), "m; vertical gap where the two elements cross (default: max(4 radii, lambda/1000))")
+_GROUND = Parameter(str, None, GROUND_CHOICES, "flat ground below the mast: none (free space), an ITU-R P.527 class, concrete, or custom")
+_GROUND_EPS = Parameter(float, None, (1.0, 100.0), "relative permittivity of a custom ground")
+_GROUND_SIGMA = Parameter(float, None, (0.0, 1e8), "S/m; conductivity of a custom ground")
+_MAST = Parameter(float, None, (0.01, 100.0), "m; height from the ground to the model's z = 0 plane (reflector plane, or the element's reference plane)")
+_GROUND_SPECS = {"ground": _GROUND, "ground_permittivity": _GROUND_EPS, "ground_conductivity_s_per_m": _GROUND_SIGMA, "mast_height_m": _MAST}
+
+
+def _ground_notes(template: str, p: Mapping[str, Any], wires: list[Wire], infinite_plane: str | None) -> dict[str, str]:
+    """The ground parameters as a ``WireModel.notes`` entry (empty for none), after the checks:
+    no ground under an infinite plane (``infinite_plane`` names what asked for it), no wire at or
+    below the ground."""
+    try:
+        ground = make_ground(p["ground"], p["frequency_hz"], p["mast_height_m"], permittivity=p["ground_permittivity"],
+                             conductivity_s_per_m=p["ground_conductivity_s_per_m"])
+        if ground is None:
+            return {}
+        if infinite_plane is not None:
+            raise UserError(f"ground = {ground.name} cannot go with {infinite_plane}: the infinite plate hides the ground; "
+                            "allowed: no ground, or a finite (or no) reflector")
+        check_clearance(wires, ground.mast_height_m)
+    except UserError as error:
+        raise UserError(f"template {template!r}: {error}") from None
+    return {NOTE_KEY: ground_note(ground)}
 
 
 def dipole(
@@ -311,11 +346,16 @@ def dipole(
     height_wavelengths: float | None = None,
     material: str = "copper",
     segments_per_wavelength: float = 40.0,
+    ground: str | None = None,
+    ground_permittivity: float | None = None,
+    ground_conductivity_s_per_m: float | None = None,
+    mast_height_m: float | None = None,
 ) -> WireModel:
     """A straight centre-fed dipole along east, port ``"feed"`` at the centre (current +x).
 
     ``height_wavelengths`` None: free space (centre at the origin); a number: the centre that high
-    above an infinite PEC ground plane z = 0.
+    above an infinite PEC ground plane z = 0. ``ground`` and ``mast_height_m``: a flat real ground
+    that far below the centre (free-space dipole only; see ``planner.synth.ground``).
     """
     p = _validated("dipole", locals())
     lam = wavelength_m(p["frequency_hz"])
@@ -323,6 +363,8 @@ def dipole(
     z = 0.0 if p["height_wavelengths"] is None else p["height_wavelengths"] * lam
     points = np.array([[-half, 0.0, z], [0.0, 0.0, z], [half, 0.0, z]])
     wire = Wire(points, p["radius_m"], p["material"], name="dipole")
+    plane = None if p["height_wavelengths"] is None else "height_wavelengths (an infinite PEC plane)"
+    ground_notes = _ground_notes("dipole", p, [wire], plane)
     return WireModel(
         wires=[wire],
         ports=[Port("feed", points[1], +1)],
@@ -336,6 +378,7 @@ def dipole(
                 f"{p['material']}, " + ("free space" if p["height_wavelengths"] is None else
                                          f"centre {p['height_wavelengths']:g} wavelength ({z:.4f} m) above an infinite PEC plane")
             ),
+            **ground_notes,
         },
     )
 
@@ -364,6 +407,10 @@ def turnstile(
     crossing_gap_m: float | None = None,
     material: str = "copper",
     segments_per_wavelength: float = 40.0,
+    ground: str | None = None,
+    ground_permittivity: float | None = None,
+    ground_conductivity_s_per_m: float | None = None,
+    mast_height_m: float | None = None,
 ) -> WireModel:
     """Two crossed horizontal dipoles: ``"a"`` along east, ``"b"`` along north, centres on the
     vertical axis ``spacing_wavelengths`` above the reflector plane (mean of the two: they cross
@@ -378,6 +425,7 @@ def turnstile(
     wires = [Wire(pa, p["radius_m"], p["material"], name="a"), Wire(pb, p["radius_m"], p["material"], name="b")]
     r_refl = p["reflector_radius_m"] if p["reflector_radius_m"] is not None else p["radius_m"]
     wires += _reflector_wires(p["reflector"], p["reflector_size_wavelengths"], p["grid_pitch_wavelengths"], r_refl, p["material"], lam)
+    ground_notes = _ground_notes("turnstile", p, wires, "reflector = pec" if p["reflector"] == "pec" else None)
     return WireModel(
         wires=wires,
         ports=[Port("a", pa[1], +1, wire="a"), Port("b", pb[1], +1, wire="b")],
@@ -392,6 +440,7 @@ def turnstile(
                 f"above the reflector plane, crossing {gap * 1e3:.1f} mm apart (a below, b above)"
             ),
             "reflector": _reflector_note(p["reflector"], p["reflector_size_wavelengths"], p["grid_pitch_wavelengths"]),
+            **ground_notes,
         },
     )
 
@@ -411,6 +460,10 @@ def crossed_loops(
     reflector_radius_m: float | None = None,
     crossing_gap_m: float | None = None,
     segments_per_wavelength: float = 40.0,
+    ground: str | None = None,
+    ground_permittivity: float | None = None,
+    ground_conductivity_s_per_m: float | None = None,
+    mast_height_m: float | None = None,
 ) -> WireModel:
     """Two vertical superellipse loops in perpendicular planes, each fed at a gap at its bottom.
 
@@ -440,6 +493,7 @@ def crossed_loops(
     ]
     r_refl = p["reflector_radius_m"] if p["reflector_radius_m"] is not None else p["radius_m"]
     wires += _reflector_wires(p["reflector"], p["reflector_size_wavelengths"], p["grid_pitch_wavelengths"], r_refl, p["material"], lam)
+    ground_notes = _ground_notes("crossed-loops", p, wires, "reflector = pec" if p["reflector"] == "pec" else None)
     width = 2.0 * float(np.max(poly[:, 0]))
     tall = float(np.max(poly[:, 1]))
     return WireModel(
@@ -458,6 +512,7 @@ def crossed_loops(
                 f"wavelength ({height:.4f} m) above the reflector plane, loops crossing {gap * 1e3:.1f} mm apart (a below, b above)"
             ),
             "reflector": _reflector_note(p["reflector"], p["reflector_size_wavelengths"], p["grid_pitch_wavelengths"]),
+            **ground_notes,
         },
     )
 
@@ -472,6 +527,7 @@ TEMPLATES: dict[str, tuple[Callable[..., WireModel], dict[str, Parameter]]] = {
             "height_wavelengths": Parameter(float, None, (0.02, 3.0), "wavelengths; centre height above an infinite PEC ground (default: free space)"),
             "material": _MATERIAL,
             "segments_per_wavelength": _SPW,
+            **_GROUND_SPECS,
         },
     ),
     "turnstile": (
@@ -488,6 +544,7 @@ TEMPLATES: dict[str, tuple[Callable[..., WireModel], dict[str, Parameter]]] = {
             "crossing_gap_m": _GAP,
             "material": _MATERIAL,
             "segments_per_wavelength": _SPW,
+            **_GROUND_SPECS,
         },
     ),
     "crossed-loops": (
@@ -507,6 +564,7 @@ TEMPLATES: dict[str, tuple[Callable[..., WireModel], dict[str, Parameter]]] = {
             "reflector_radius_m": _REFL_RADIUS,
             "crossing_gap_m": _GAP,
             "segments_per_wavelength": _SPW,
+            **_GROUND_SPECS,
         },
     ),
 }
