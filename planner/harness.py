@@ -63,6 +63,7 @@ __all__ = [
     "circular_components_from_phase_error",
     "axial_ratio_db_from_phase_error",
     "polarization_loss_db_from_phase_error",
+    "axial_ratio_db_from_circular",
     "harness_report",
     "HARNESS_UNITS",
 ]
@@ -120,6 +121,13 @@ def _axial_ratio_db(e_r, e_l) -> np.ndarray:
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = np.where(minor * cap > major, major / np.where(minor > 0, minor, 1.0), cap)
     return 20.0 * np.log10(ratio)
+
+
+def axial_ratio_db_from_circular(e_r, e_l):
+    """Axial ratio (dB, >= 0) of a field with circular components ``e_r``, ``e_l`` (complex or
+    magnitudes): 20 log10((|E_R| + |E_L|) / ||E_R| - |E_L||), capped for a linear state."""
+    ar = _axial_ratio_db(np.asarray(e_r), np.asarray(e_l))
+    return float(ar) if np.ndim(ar) == 0 else ar
 
 
 def _loss_against_rhcp_db(e_r, e_l) -> np.ndarray:

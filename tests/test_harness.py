@@ -14,6 +14,7 @@ from scipy.constants import c as C_M_S  # reference value of the speed of light 
 from planner.errors import UserError
 from planner.harness import (
     HARNESS_UNITS,
+    axial_ratio_db_from_circular,
     axial_ratio_db_from_phase_error,
     phase_error_deg,
     polarization_loss_db_from_phase_error,
@@ -116,6 +117,20 @@ def test_axial_ratio_matches_the_ellipse_traced_in_time_and_the_stokes_form(d_de
     assert ar_trace == pytest.approx(ar_stokes, rel=1e-6)  # the two references agree
     got = axial_ratio_db_from_phase_error(d_deg, rho)
     assert got == pytest.approx(20.0 * math.log10(ar_stokes), abs=1e-6)
+
+
+@pytest.mark.parametrize("d_deg", [3.0, 25.0, 70.0])
+@pytest.mark.parametrize("rho", [1.0, 0.7])
+def test_axial_ratio_from_circular_components_matches_the_traced_ellipse(d_deg, rho):
+    # E_R = (E_x + j E_y)/sqrt2, E_L = (E_x - j E_y)/sqrt2 of the Jones vector, then the ellipse
+    # traced in time (Born & Wolf sec. 1.4.2) as the reference.
+    delta = -math.radians(90.0 + d_deg)
+    jones = (1.0 + 0j, rho * complex(math.cos(delta), math.sin(delta)))
+    e_r = (jones[0] + 1j * jones[1]) / math.sqrt(2.0)
+    e_l = (jones[0] - 1j * jones[1]) / math.sqrt(2.0)
+    ar_trace, _ = ellipse_by_time_trace(jones)
+    assert axial_ratio_db_from_circular(e_r, e_l) == pytest.approx(20.0 * math.log10(ar_trace), abs=1e-4)  # trace sampling
+    assert axial_ratio_db_from_circular(abs(e_r), abs(e_l)) == pytest.approx(20.0 * math.log10(ar_trace), abs=1e-4)
 
 
 @pytest.mark.parametrize("d_deg", [0.0, 5.0, 20.0, 45.0, 80.0, 100.0, 150.0])
