@@ -31,9 +31,10 @@ from typing import Any, Callable, Mapping
 import numpy as np
 
 from planner.errors import UserError
-from planner.feedline import quarter_wave_length_m
+from planner.feedline import CABLES, quarter_wave_length_m
 from planner.patterns import format_number, GAIN_FLOOR_DBIC, PatternTable, angle_grid, check_frequency
-from planner.synth import mom
+from planner.synth import design, mom
+from planner.synth.design import MATCHES, SIZE_PARAMETERS
 from planner.synth.feed import FeedResult, ideal_quadrature, phasing_line, single_port
 from planner.synth.geometry import WireModel
 from planner.synth.templates import TEMPLATES, Parameter, check_parameters
@@ -41,6 +42,9 @@ from planner.synth.templates import TEMPLATES, Parameter, check_parameters
 __all__ = [
     "MODEL_DESCRIPTION",
     "FEED_PARAMETERS",
+    "TRIM_PARAMETERS",
+    "template_options",
+    "solve_template",
     "build_pattern_table",
     "build_template_table",
     "feed_model",
@@ -51,17 +55,34 @@ __all__ = [
 
 MODEL_DESCRIPTION = "thin-wire method of moments (Galerkin, piecewise-linear basis, reduced kernel)"
 
-FEEDS = ("quadrature", "line")
+FEEDS = ("quadrature", "line", "harness")
+
+LINE_OPTIONS = ("line_length_m", "line_z0_ohm", "velocity_factor", "line_loss_db_per_m")
+"""Options of ``feed = line`` only."""
+
+HARNESS_OPTIONS = ("phasing_cable", "match")
+"""Options of ``feed = harness`` only."""
 
 FEED_PARAMETERS: dict[str, Parameter] = {
-    "feed": Parameter(str, "quadrature", FEEDS, "quadrature (ideal equal currents 90 deg apart) or line (b through a phasing line)"),
-    "sense": Parameter(str, "rhcp", ("rhcp", "lhcp"), "sense of the ideal quadrature feed"),
-    "line_length_m": Parameter(float, None, (1e-4, 10.0), "m; phasing-line length (default: a quarter wave at the velocity factor)"),
-    "line_z0_ohm": Parameter(float, 50.0, (10.0, 300.0), "ohm; phasing-line impedance"),
-    "velocity_factor": Parameter(float, 0.66, (0.3, 1.0), "phasing-line velocity factor (about 0.66 solid PE, 0.8 foam)"),
-    "line_loss_db_per_m": Parameter(float, 0.0, (0.0, 10.0), "dB/m; phasing-line matched loss"),
+    "feed": Parameter(str, "quadrature", FEEDS, "quadrature (ideal equal currents 90 deg apart), line (b through a given phasing line) or harness (phasing line and matching section designed, see planner.synth.design)"),
+    "sense": Parameter(str, "rhcp", ("rhcp", "lhcp"), "sense of the ideal quadrature feed, or the sense the harness is designed for"),
+    "line_length_m": Parameter(float, None, (1e-4, 10.0), "m; feed=line: phasing-line length (default: a quarter wave at the velocity factor)"),
+    "line_z0_ohm": Parameter(float, 50.0, (10.0, 300.0), "ohm; feed=line: phasing-line impedance"),
+    "velocity_factor": Parameter(float, 0.66, (0.3, 1.0), "feed=line: phasing-line velocity factor (about 0.66 solid PE, 0.8 foam)"),
+    "line_loss_db_per_m": Parameter(float, 0.0, (0.0, 10.0), "dB/m; feed=line: phasing-line matched loss"),
+    "phasing_cable": Parameter(str, "auto", ("auto", *(name.lower() for name in CABLES)), "feed=harness: catalog cable of the phasing line, or auto (the one giving the best zenith axial ratio)"),
+    "match": Parameter(str, "auto", MATCHES, "feed=harness: matching section to 50 ohm; auto takes the quarter-wave transformer when it reaches VSWR <= 1.5, else the L-network"),
 }
 """Feed options of two-port templates (a one-port template is driven at its port)."""
+
+TRIMS = ("none", "resonance")
+
+TRIM_PARAMETERS: dict[str, Parameter] = {
+    "trim": Parameter(str, None, TRIMS, "none (default: the size as given) or resonance (the size parameter adjusted at the design frequency, see planner.synth.design)"),
+    "target_reactance_ohm": Parameter(float, None, (-1000.0, 1000.0), "ohm; trim=resonance: element reactance to trim to (default 0)"),
+    "target_resistance_ohm": Parameter(float, None, (1.0, 2000.0), "ohm; trim=resonance: trim to the impedance closest to this resistance + j target_reactance_ohm instead"),
+}
+"""Trim options of the templates with a size parameter (``design.SIZE_PARAMETERS``)."""
 
 GRID_PARAMETERS: dict[str, Parameter] = {
     "elevation_step_deg": Parameter(float, 1.0, (0.1, 30.0), "deg; elevation grid step (must divide 180)"),
@@ -244,6 +265,9 @@ def feed_model(solution: "mom.Solution", options: Mapping[str, Any], frequency_h
         return single_port(z)
     if options.get("feed", "quadrature") == "quadrature":
         return ideal_quadrature(z, options.get("sense") or "rhcp")
+    if options.get("feed") == "harness":
+        return design.design_harness(solution, phasing_cable=options.get("phasing_cable"), match=options.get("match") or "none",
+                                     sense=options.get("sense") or "rhcp").feed
     vf = options.get("velocity_factor") or 0.66
     length = options.get("line_length_m")
     if length is None:
@@ -264,40 +288,113 @@ TWO_PORT_TEMPLATES = ("turnstile", "crossed-loops")
 _TABLE_BUILDERS = {"dipole": "dipole_table", "turnstile": "turnstile_table", "crossed-loops": "crossed_loops_table"}
 
 
-def build_template_table(template: str, values: Mapping[str, Any] | None = None, *, command: str | None = None) -> PatternTable:
-    """Validate, build, solve, feed and tabulate a template (``values``: numbers or text).
+def template_options(template: str) -> dict[str, Parameter]:
+    """Every option a template's table takes besides its own parameters: the grid steps, the trim
+    options (templates with a size parameter) and the feed options (two-port templates)."""
+    return dict(
+        GRID_PARAMETERS,
+        **(TRIM_PARAMETERS if template in SIZE_PARAMETERS else {}),
+        **(FEED_PARAMETERS if template in TWO_PORT_TEMPLATES else {}),
+    )
 
-    ``values`` may hold the template's parameters (``templates.TEMPLATES``), the feed options
-    (:data:`FEED_PARAMETERS`, two-port templates only) and the grid steps ``elevation_step_deg``
-    and ``azimuth_step_deg``. ``command`` is written as ``generated_by`` (default: the call).
+
+def _resolve_options(template: str, options: dict[str, Any], given: Mapping[str, Any]) -> dict[str, Any]:
+    """Refuse options that do not apply to the chosen feed or trim; blank the ones not used (so they
+    stay out of the header) and write the defaults that are used."""
+    if template in TWO_PORT_TEMPLATES:
+        feed = options["feed"]
+        unused = {"quadrature": LINE_OPTIONS + HARNESS_OPTIONS, "line": HARNESS_OPTIONS, "harness": LINE_OPTIONS}[feed]
+        wrong = [k for k in unused if k in given]
+        if wrong:
+            users = "feed=line" if wrong[0] in LINE_OPTIONS else "feed=harness"
+            raise UserError(f"template {template!r}: {wrong[0]} applies to {users} only, not feed={feed}; allowed with "
+                            f"feed={feed}: " + (", ".join(k for k in FEED_PARAMETERS if k not in unused) or "none"))
+        for key in unused:
+            options[key] = None
+        if feed == "line":
+            options["sense"] = None  # set by the line, not chosen
+            if options["line_length_m"] is None:
+                options["line_length_m"] = round(quarter_wave_length_m(float(options["_frequency_hz"]), options["velocity_factor"]), 9)
+        if feed == "harness":
+            options["match"] = options["match"] or "none"  # an explicit none
+    if template in SIZE_PARAMETERS:
+        if options["trim"] is None:
+            wrong = [k for k in ("target_reactance_ohm", "target_resistance_ohm") if k in given]
+            if wrong:
+                raise UserError(f"template {template!r}: {wrong[0]} applies to trim=resonance only; allowed: trim=resonance")
+        elif options["target_reactance_ohm"] is None:
+            options["target_reactance_ohm"] = 0.0
+    options.pop("_frequency_hz", None)
+    return options
+
+
+def solve_template(template: str, values: Mapping[str, Any] | None = None):
+    """Validate, build, trim (if asked) and solve a template; no feed, no table.
+
+    Returns ``(params, options, model, solution, trim)``: the checked template parameters (the
+    size as given), the checked options (:func:`template_options`, unused ones None), the wire
+    model and its solution (at the trimmed size when trimmed) and the ``design.TrimResult`` or None.
     """
     values = dict(values or {})
     if template not in TEMPLATES:
         raise UserError(f"template {template!r} is unknown; allowed: {', '.join(TEMPLATES)}")
     function, specs = TEMPLATES[template]
-    two_port = template in TWO_PORT_TEMPLATES
-    extra = dict(GRID_PARAMETERS, **(FEED_PARAMETERS if two_port else {}))
+    extra = template_options(template)
     allowed = list(specs) + list(extra)
     unknown = [k for k in values if k not in allowed]
     if unknown:
         raise UserError(f"template {template!r}: unknown parameter {unknown[0]!r}; allowed: {', '.join(allowed)}")
     params = check_parameters(template, {k: v for k, v in values.items() if k in specs})
-    options = _check_options(template, extra, {k: v for k, v in values.items() if k in extra})
-    model = function(**params)
-    solution = mom.solve(model)
-    feed = feed_model(solution, options, model.frequency_hz)
-    if two_port and options["feed"] == "line":
-        options["sense"] = None  # set by the line, not chosen
-        if options["line_length_m"] is None:
-            options["line_length_m"] = round(quarter_wave_length_m(model.frequency_hz, options["velocity_factor"]), 9)
-    if two_port and options["feed"] == "quadrature":
-        for key in ("line_length_m", "line_z0_ohm", "velocity_factor", "line_loss_db_per_m"):
-            options[key] = None  # not used: keep them out of the header
+    given = {k: v for k, v in values.items() if k in extra}
+    options = _check_options(template, extra, given)
+    options["_frequency_hz"] = params["frequency_hz"]
+    options = _resolve_options(template, options, given)
+    trim = None
+    if options.get("trim") == "resonance":
+        trim = design.trim_to_resonance(
+            template, params, target_reactance_ohm=options["target_reactance_ohm"],
+            target_resistance_ohm=options["target_resistance_ohm"], sense=options.get("sense") or "rhcp",
+        )
+        model, solution = trim.model, trim.solution
+    else:
+        model = function(**params)
+        solution = mom.solve(model)
+    return params, options, model, solution, trim
+
+
+def _insert_after(header: dict[str, str], key: str, extra: Mapping[str, str]) -> None:
+    """Put ``extra`` into ``header`` right after ``key`` (at the end if it is missing), in place."""
+    items = list(header.items())
+    at = next((k + 1 for k, (name, _) in enumerate(items) if name == key), len(items))
+    items[at:at] = [(k, v) for k, v in extra.items() if k not in header]
+    header.clear()
+    header.update(items)
+
+
+def build_template_table(template: str, values: Mapping[str, Any] | None = None, *, command: str | None = None) -> PatternTable:
+    """Validate, build, trim, solve, feed and tabulate a template (``values``: numbers or text).
+
+    ``values`` may hold the template's parameters (``templates.TEMPLATES``), the grid steps
+    ``elevation_step_deg`` and ``azimuth_step_deg``, the trim options (:data:`TRIM_PARAMETERS`) and,
+    for two-port templates, the feed options (:data:`FEED_PARAMETERS`). ``command`` is written as
+    ``generated_by`` (default: the call). The ``parameters`` header line records the options as
+    asked (``trim=resonance``, ``phasing_cable=auto``), not what the design found, so a rebuild
+    with one parameter changed trims and designs again; the ``trimmed``, ``phasing_line...`` and
+    ``matching...`` lines say what was found.
+    """
+    params, options, model, solution, trim = solve_template(template, values)
+    harness = None
+    if options.get("feed") == "harness":
+        harness = design.design_harness(solution, phasing_cable=options["phasing_cable"], match=options["match"],
+                                        sense=options["sense"] or "rhcp")
+        feed = harness.feed
+    else:
+        feed = feed_model(solution, options, model.frequency_hz)
     recorded = {**params, **options}
     builder_name = f"planner.synth.tables.{_TABLE_BUILDERS[template]}"
     if command is None:
         command = f"{builder_name}({', '.join(f'{k}={_fmt_value(v)}' for k, v in recorded.items() if v is not None)})"
-    return build_pattern_table(
+    table = build_pattern_table(
         model,
         solution,
         feed,
@@ -309,14 +406,21 @@ def build_template_table(template: str, values: Mapping[str, Any] | None = None,
         azimuth_step_deg=options["azimuth_step_deg"],
         builder=builder_name,
     )
+    extra: dict[str, str] = {}
+    if trim is not None:
+        extra.update(trim.header())
+    if harness is not None:
+        extra.update(harness.header())
+    if extra:
+        _insert_after(table.header, "feed", extra)
+    return table
 
 
 def _table_builder(template: str, name: str) -> Callable[..., PatternTable]:
     """A keyword-only function ``name(**parameters)`` for ``template`` with an explicit signature
     (so ``inspect.signature`` lists every parameter, as ``rebuild_pattern`` requires)."""
     _, specs = TEMPLATES[template]
-    two_port = template in TWO_PORT_TEMPLATES
-    extra = dict(GRID_PARAMETERS, **(FEED_PARAMETERS if two_port else {}))
+    extra = template_options(template)
 
     def builder(**values: Any) -> PatternTable:
         return build_template_table(template, values)
