@@ -868,37 +868,41 @@ def rebuild_pattern(builder: str, parameters: dict[str, str]) -> PatternTable:
     return table
 
 
-def _spacing_label(spacing_wavelengths: float) -> str:
-    text = f"{spacing_wavelengths:g}"
-    return text if "." in text else text + ".0"
+# The demo station's candidates as a careful builder would make them (planner.synth): elements
+# trimmed to resonance, a designed phasing line and matching section, a four-rod reflector and a
+# 4 m mast over the medium dry ground of the demo site. One table keeps a common mistake.
+_DEMO_MAST = {"frequency_hz": DEMO_FREQUENCY_HZ, "ground": "medium-dry-ground", "mast_height_m": 4.0}
+_BUILT = {**_DEMO_MAST, "trim": "resonance", "feed": "harness"}
+_TALL = {"width_to_height": 0.5, "exponent": 6.0}
 
-
-SHIPPED_SPACINGS_WAVELENGTHS = (0.1, 0.2, 0.25, 0.375, 0.5, 0.75, 1.0)
-
-SHIPPED_PATTERNS: dict[str, tuple[Callable[..., PatternTable], dict[str, float]]] = {
-    **{
-        f"turnstile-h{_spacing_label(s)}wl.csv": (
-            turnstile_over_reflector,
-            {"spacing_wavelengths": s, "frequency_hz": DEMO_FREQUENCY_HZ},
-        )
-        for s in SHIPPED_SPACINGS_WAVELENGTHS
-    },
+SHIPPED_PATTERNS: dict[str, tuple[Callable[..., PatternTable], dict[str, Any]]] = {
+    "turnstile-close.csv": (
+        lambda **kw: _wire_table("turnstile", **kw),
+        {**_BUILT, "reflector": "rods", "spacing_wavelengths": 0.25},
+    ),
+    "turnstile-far.csv": (
+        lambda **kw: _wire_table("turnstile", **kw),
+        {**_BUILT, "reflector": "rods", "spacing_wavelengths": 0.75},
+    ),
+    "loops-round-close.csv": (
+        lambda **kw: _wire_table("crossed-loops", **kw),
+        {**_BUILT, "reflector": "rods", "spacing_wavelengths": 0.15},
+    ),
+    "loops-tall-far.csv": (
+        lambda **kw: _wire_table("crossed-loops", **kw),
+        {**_BUILT, **_TALL, "reflector": "rods", "spacing_wavelengths": 0.6},
+    ),
+    "loops-tall-free.csv": (
+        lambda **kw: _wire_table("crossed-loops", **kw),
+        {**_BUILT, **_TALL, "spacing_wavelengths": 0.6},
+    ),
+    # The common mistake: tall loops cut to exactly one wavelength and never trimmed, joined by a
+    # textbook quarter wave of 50 ohm solid-PE line and no matching section.
+    "loops-untrimmed.csv": (
+        lambda **kw: _wire_table("crossed-loops", **kw),
+        {**_DEMO_MAST, **_TALL, "reflector": "rods", "spacing_wavelengths": 0.6, "feed": "line", "velocity_factor": 0.66},
+    ),
     "isotropic-rhcp.csv": (isotropic_rhcp, {"frequency_hz": DEMO_FREQUENCY_HZ}),
-    # Crossed one-wavelength loops from the wire solver (planner.synth): a round overhead shape
-    # close to its reflector, and a tall rectangular low-angle shape with a far reflector and
-    # without one.
-    "crossed-loops-round-close.csv": (
-        lambda **kw: _wire_table("crossed-loops", **kw),
-        {"frequency_hz": DEMO_FREQUENCY_HZ, "width_to_height": 1.0, "exponent": 2.0, "reflector": "pec", "spacing_wavelengths": 0.15},
-    ),
-    "crossed-loops-tall-far.csv": (
-        lambda **kw: _wire_table("crossed-loops", **kw),
-        {"frequency_hz": DEMO_FREQUENCY_HZ, "width_to_height": 0.5, "exponent": 6.0, "reflector": "pec", "spacing_wavelengths": 0.6},
-    ),
-    "crossed-loops-tall-free.csv": (
-        lambda **kw: _wire_table("crossed-loops", **kw),
-        {"frequency_hz": DEMO_FREQUENCY_HZ, "width_to_height": 0.5, "exponent": 6.0, "reflector": "none"},
-    ),
 }
 """File name -> (builder, keyword arguments) of every table shipped in patterns/."""
 

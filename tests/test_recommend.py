@@ -50,7 +50,7 @@ DOMINATED = """
 [[candidate]]
 # The close turnstile behind 60 m of thin cable with the LNA in the shack: worse everywhere.
 name = "close-on-thin-cable"
-pattern = "{root}/patterns/turnstile-h0.25wl.csv"
+pattern = "{root}/patterns/turnstile-close.csv"
 feedline = [{{ cable = "RG-174", length_m = 60.0 }}]
 connectors = 6
 lna_position = "receiver"
