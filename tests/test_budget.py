@@ -93,7 +93,11 @@ def test_end_to_end_budget_recomputed_by_hand(study):
     atm = float(row["atmospheric_loss_db"])
     assert 0.0 < atm < 1.0  # well under 1 dB on UHF above 5 deg (ITU-R P.676, REFERENCES.md)
 
-    cn0 = eirp - fsl - atm - pol_loss + rx_gain + 228.60 - 10 * log10(t_sys)
+    # Mismatch loss of the table's feed VSWR: -10 log10(1 - |Gamma|^2), |Gamma| = (s - 1) / (s + 1) (Pozar).
+    vswr = pattern.feed_vswr
+    gamma = (vswr - 1) / (vswr + 1)
+    mismatch_db = -10 * log10(1 - gamma**2)
+    cn0 = eirp - fsl - atm - pol_loss + rx_gain - mismatch_db + 228.60 - 10 * log10(t_sys)
     ebn0 = cn0 - 10 * log10(sat.data_rate_bps)
     from planner.modem import required_ebn0_db
 
@@ -201,7 +205,7 @@ def test_bad_budget_inputs(tmp_path):
     args = ("--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "30")
     broken = tmp_path / "broken.csv"
     broken.write_text("# frequency_mhz = 436\nelevation_deg,gain_rhcp_dbic,gain_lhcp_dbic\n0,abc,-20\n")
-    path = demo_variant(tmp_path, f'"{ROOT}/patterns/turnstile-h0.25wl.csv"', f'"{broken}"')
+    path = demo_variant(tmp_path, f'"{ROOT}/patterns/turnstile-close.csv"', f'"{broken}"')
     assert_user_error(run("budget", path, *args), "broken.csv")
     path = demo_variant(tmp_path, 'cable = "RG-58"', 'cable = "RG-999"')
     assert_user_error(run("budget", path, "--satellite", "WRENLING-1", "--candidate", "turnstile-close-rg58-lna-in-shack", "--elevation-deg", "30"), "RG-999")
