@@ -87,7 +87,6 @@ import numpy as np
 from scipy.constants import epsilon_0, speed_of_light
 
 from planner.errors import UserError, warn
-from planner.patterns import GAIN_FLOOR_DBIC, circular_components, spherical_unit_vectors
 
 __all__ = [
     "GroundClass",
@@ -327,18 +326,11 @@ def gains_over_ground_dbic(solution, azimuth_deg, elevation_deg, port_voltages, 
     of ``solution`` (a free-space ``planner.synth.mom.Solution``), floored at GAIN_FLOOR_DBIC."""
     if solution.segmentation.ground != "free-space":
         raise ValueError("gains over real ground need the free-space solution of the model")
-    from planner.synth.mom import ETA0_OHM
+    from planner.synth.mom import partial_gains_dbic
 
     az, el = np.broadcast_arrays(np.asarray(azimuth_deg, dtype=float), np.asarray(elevation_deg, dtype=float))
     e_theta, e_phi = field_over_ground(lambda a, e: solution.far_field(a, e, port_voltages), az, el, ground)
-    theta_hat, phi_hat = spherical_unit_vectors(az, el)
-    field = e_theta[..., None] * theta_hat + e_phi[..., None] * phi_hat
-    e_r, e_l = circular_components(field, az, el)
-    scale = 4.0 * math.pi / (2.0 * ETA0_OHM * solution.input_power_w(port_voltages))
-    with np.errstate(divide="ignore"):
-        rhcp = np.maximum(10.0 * np.log10(scale * np.abs(e_r) ** 2), GAIN_FLOOR_DBIC)
-        lhcp = np.maximum(10.0 * np.log10(scale * np.abs(e_l) ** 2), GAIN_FLOOR_DBIC)
-    return rhcp, lhcp
+    return partial_gains_dbic(e_theta, e_phi, az, el, solution.input_power_w(port_voltages))
 
 
 def lobe_period_deg(ground: Ground, elevation_deg: float = 0.0) -> float:

@@ -486,14 +486,7 @@ class Solution:
         GAIN_FLOOR_DBIC (no field, e.g. below a PEC ground)."""
         az, el = np.broadcast_arrays(np.asarray(azimuth_deg, dtype=float), np.asarray(elevation_deg, dtype=float))
         e_theta, e_phi = self.far_field(az, el, port_voltages)
-        theta_hat, phi_hat = spherical_unit_vectors(az, el)
-        field = e_theta[..., None] * theta_hat + e_phi[..., None] * phi_hat
-        e_r, e_l = circular_components(field, az, el)
-        scale = 4.0 * math.pi / (2.0 * ETA0_OHM * self.input_power_w(port_voltages))
-        with np.errstate(divide="ignore"):
-            rhcp = np.maximum(10.0 * np.log10(scale * np.abs(e_r) ** 2), GAIN_FLOOR_DBIC)
-            lhcp = np.maximum(10.0 * np.log10(scale * np.abs(e_l) ** 2), GAIN_FLOOR_DBIC)
-        return rhcp, lhcp
+        return partial_gains_dbic(e_theta, e_phi, az, el, self.input_power_w(port_voltages))
 
     # -- description ----------------------------------------------------------------------
 
@@ -505,6 +498,19 @@ class Solution:
             f"Galerkin testing, reduced kernel, 1/R extracted analytically, Gauss-Legendre {self.quadrature_points}/"
             f"{NEAR_POINTS} points; ground {seg.ground}"
         )
+
+
+def partial_gains_dbic(e_theta, e_phi, azimuth_deg, elevation_deg, input_power_w: float) -> tuple[np.ndarray, np.ndarray]:
+    """Partial gains (RHCP, LHCP) in dBic of far-field components (normalised as ``Solution.far_field``)
+    relative to ``input_power_w``: G = 4 pi U / P_in with U = |E|^2 / (2 eta0); floored at GAIN_FLOOR_DBIC."""
+    theta_hat, phi_hat = spherical_unit_vectors(azimuth_deg, elevation_deg)
+    field = e_theta[..., None] * theta_hat + e_phi[..., None] * phi_hat
+    e_r, e_l = circular_components(field, azimuth_deg, elevation_deg)
+    scale = 4.0 * math.pi / (2.0 * ETA0_OHM * input_power_w)
+    with np.errstate(divide="ignore"):
+        rhcp = np.maximum(10.0 * np.log10(scale * np.abs(e_r) ** 2), GAIN_FLOOR_DBIC)
+        lhcp = np.maximum(10.0 * np.log10(scale * np.abs(e_l) ** 2), GAIN_FLOOR_DBIC)
+    return rhcp, lhcp
 
 
 def solve(model: WireModel, *, quadrature_points: int = 4) -> Solution:
