@@ -1,18 +1,30 @@
 """The link budget, sample by sample along a pass, downlink and uplink.
 
-Reference plane: the ground antenna's terminals. The received carrier there is
+Reference plane: the ground antenna's terminals, where the antenna is a source of
+available carrier power C and available noise k T_A. Every term is charged once, there:
 
-    C = EIRP - L_fs - L_atm - L_pol + G_rx - L_mismatch          (dBW)
-
-and the noise is k T_sys with T_sys the system noise temperature referred to the same
-terminals (antenna temperature + feedline, connectors, LNA and receiver by the Friis
-cascade), so
-
-    C/N0 = C - 10 log10(k) - 10 log10(T_sys)                      (dB-Hz)
-    Eb/N0 = C/N0 - 10 log10(R_b)                                  (dB)
+    C     = EIRP - L_fs - L_atm - L_pol + G_rx                      (dBW, available)
+    T_sys = T_A + T_chain / M                                       (K)
+    C/N0  = C - 10 log10(k) - 10 log10(T_sys)                       (dB-Hz)
+    G/T   = G_rx - 10 log10(T_sys)                                  (dB/K)
+    Eb/N0 = C/N0 - 10 log10(R_b)                                    (dB)
     margin = Eb/N0 - (Eb/N0 required by theory + implementation loss - coding gain)
 
 or, for analog modes given a required C/N0, margin = C/N0 - required C/N0.
+
+M = 1 - |Gamma|^2 is the feed mismatch (from the scenario's ``feed_vswr`` or the pattern
+header's; 1 when neither gives one, and the ladder says so). A lossless mismatch passes M of
+the carrier and M of the antenna noise alike (Pozar, noise of a mismatched source), so
+C/N0 = M C / k (M T_A + T_chain): the mismatch is charged once, as a noiseless stage of
+gain M in the Friis cascade (planner.noise.receive_chain), which refers everything after it
+to the antenna terminals divided by M. ``mismatch_loss_db`` = -10 log10 M is shown in the
+ladder but not subtracted from C (that would charge it twice against the signal and not
+at all against the antenna noise). T_chain is, in signal order and by Friis: the losses
+between the antenna and the LNA (``pre_lna_*``: jumper cables, connectors, a switch or
+bias-tee, as a line at the feedline temperature), the LNA, the main feedline and its
+connectors, and the receiver; with the LNA at the receiver end (or none) the pre-LNA
+losses simply join the run before it. T_A is the antenna temperature (sky with the clear
+atmosphere's own emission, ground, man-made noise; planner.noise).
 
 G_rx is the antenna's total gain toward the satellite (RHCP + LHCP partial gains,
 dBic each); L_pol is Stutzman's polarization mismatch between the satellite's wave and
@@ -45,8 +57,21 @@ from planner.polarization import WavePolarization, polarization_loss_db
 BOLTZMANN_DBW_PER_K_HZ = 10.0 * log10(Boltzmann)
 EARTH_RADIUS_KM = 6378.137
 MU_EARTH_KM3_S2 = 398600.4418
-# A pattern table used more than this far from its own frequency draws a warning.
-PATTERN_FREQUENCY_TOLERANCE = 0.10
+
+# How far a pattern table may be used from its own frequency, as |f / f_table - 1|. A table
+# holds one frequency's pattern and feed impedance, and both are only meaningful within the
+# element's bandwidth: a resonant element (dipole, turnstile, one-wavelength loop) keeps its
+# impedance and pattern within a few per cent (a half-wave dipole's 2:1 VSWR bandwidth is
+# about 5-10 %, a thin one less), so a warning from 3 %; beyond 20 % the element is far off
+# resonance (its reactance, VSWR and lobes are those of another antenna) and the table is
+# refused: build one at the satellite's frequency instead.
+PATTERN_FREQUENCY_WARNING = 0.03
+PATTERN_FREQUENCY_LIMIT = 0.20
+
+# A --range-km is accepted between the ranges, at its elevation, to the orbit's perigee and
+# apogee radii widened by this much: mean elements give a(1 -/+ e), and the SGP4 position
+# departs from it by the J2 short-period terms (about 10 km in LEO) and drag within a window.
+ORBIT_RADIUS_MARGIN_KM = 25.0
 
 
 def free_space_loss_db(frequency_hz, range_km):
@@ -54,17 +79,51 @@ def free_space_loss_db(frequency_hz, range_km):
     return 20.0 * np.log10(4.0 * pi * np.asarray(range_km) * 1000.0 * frequency_hz / SPEED_OF_LIGHT_M_S)
 
 
-def slant_range_km(elevation_deg, height_km, earth_radius_km: float = EARTH_RADIUS_KM):
-    """Spherical-Earth slant range to height h at elevation E (Wertz & Larson, SMAD)."""
-    e = np.radians(elevation_deg)
-    r = earth_radius_km
-    return np.sqrt((r + height_km) ** 2 - (r * np.cos(e)) ** 2) - r * np.sin(e)
+def slant_range_km(elevation_deg, orbit_radius_km, station, azimuth_deg=0.0):
+    """Straight-line range (km) from the station to the geocentric sphere of ``orbit_radius_km``.
+
+    The station is where it is on the WGS84 ellipsoid (``station.ecef_km``: its own geocentric
+    radius at its latitude and altitude, not the equatorial radius), and the direction is
+    (azimuth, elevation) in its local frame with the geodetic vertical (``station.enu_rotation``),
+    the frame the pass predictions use. With r the station's position and u the unit
+    direction: |r + d u| = R gives d = -(r.u) + sqrt((r.u)^2 - |r|^2 + R^2). On a sphere of
+    radius r this is the textbook sqrt(R^2 - r^2 cos^2 E) - r sin E (Wertz & Larson, SMAD).
+    Vectorized over elevation and azimuth.
+    """
+    e = np.radians(np.asarray(elevation_deg, dtype=float))
+    a = np.radians(np.asarray(azimuth_deg, dtype=float))
+    direction_enu = np.stack(np.broadcast_arrays(np.cos(e) * np.sin(a), np.cos(e) * np.cos(a), np.sin(e)), axis=-1)
+    direction = direction_enu @ station.enu_rotation  # rows of the rotation are E, N, U in ECEF
+    position = station.ecef_km
+    along = direction @ position
+    distance = -along + np.sqrt(along**2 - position @ position + np.asarray(orbit_radius_km, dtype=float) ** 2)
+    return float(distance) if np.ndim(distance) == 0 else distance
+
+
+def orbit_radii_km(satrec) -> tuple[float, float, float]:
+    """(perigee, semi-major axis, apogee) geocentric radii (km) of the mean elements."""
+    mean_motion_rad_s = satrec.no_kozai / 60.0
+    a = (MU_EARTH_KM3_S2 / mean_motion_rad_s**2) ** (1.0 / 3.0)
+    return a * (1.0 - satrec.ecco), a, a * (1.0 + satrec.ecco)
 
 
 def mean_height_km(satrec) -> float:
     """Height of the orbit's semi-major axis above the equatorial radius (km)."""
-    mean_motion_rad_s = satrec.no_kozai / 60.0
-    return (MU_EARTH_KM3_S2 / mean_motion_rad_s**2) ** (1.0 / 3.0) - EARTH_RADIUS_KM
+    return orbit_radii_km(satrec)[1] - EARTH_RADIUS_KM
+
+
+def slant_range_limits_km(satrec, station, elevation_deg: float, azimuth_deg: float = 0.0) -> tuple[float, float]:
+    """Shortest and longest range (km) the orbit can give at this elevation and azimuth.
+
+    The ranges to the perigee and apogee radii, less and more :data:`ORBIT_RADIUS_MARGIN_KM`
+    (see there); the lower radius never below the station's own.
+    """
+    perigee, _, apogee = orbit_radii_km(satrec)
+    low_radius = max(perigee - ORBIT_RADIUS_MARGIN_KM, float(np.linalg.norm(station.ecef_km)))
+    return (
+        float(slant_range_km(elevation_deg, low_radius, station, azimuth_deg)),
+        float(slant_range_km(elevation_deg, apogee + ORBIT_RADIUS_MARGIN_KM, station, azimuth_deg)),
+    )
 
 
 @dataclass
@@ -88,10 +147,14 @@ class LinkSetup:
     implementation_loss_db: float
     coding_gain_db: float
     required_cn0_dbhz: float | None     # given directly (analog modes); else None
-    system_noise_temperature_k: float
+    system_noise_temperature_k: float   # at the antenna terminals: T_A + T_chain / M
     noise_terms: dict[str, float] = field(default_factory=dict)  # breakdown for the ladder
-    feedline_loss_db: float = 0.0       # station side: cables + connectors
-    mismatch_loss_db: float = 0.0
+    feedline_loss_db: float = 0.0       # station side: the main run, cables + connectors
+    mismatch_loss_db: float = 0.0       # -10 log10 M; charged in T_sys (see the module notes)
+    pre_lna_loss_db: float | None = None  # downlink: between antenna and LNA; None for the uplink
+    antenna_noise_temperature_k: float | None = None   # T_A (downlink)
+    chain_noise_temperature_k: float | None = None     # T_chain / M at the antenna terminals (downlink)
+    notes: list[str] = field(default_factory=list)      # what the ladder must say (no feed data...)
     # Receiving antenna: a pattern table (downlink) or a fixed gain and polarization (uplink).
     pattern: object | None = None
     fixed_gain_rhcp_dbic: float | None = None
@@ -122,6 +185,44 @@ def _threshold_terms(sat, required, theory, required_cn0) -> dict:
     )
 
 
+def _pattern_name(pattern) -> str:
+    path = getattr(pattern, "path", None)
+    return path.name if path else "(built in memory)"
+
+
+def check_pattern_frequency(study, candidate, sat, frequency_hz: float) -> None:
+    """Warn beyond :data:`PATTERN_FREQUENCY_WARNING`, refuse beyond :data:`PATTERN_FREQUENCY_LIMIT` (see there)."""
+    pattern = candidate.pattern
+    offset = abs(frequency_hz / pattern.frequency_hz - 1.0)
+    if offset <= PATTERN_FREQUENCY_WARNING:
+        return
+    said = (
+        f"candidate {candidate.name}: pattern table {_pattern_name(pattern)} was computed at "
+        f"{pattern.frequency_hz / 1e6:g} MHz, but {sat.name} transmits on {frequency_hz / 1e6:g} MHz "
+        f"({100.0 * offset:.1f} % away)"
+    )
+    if offset > PATTERN_FREQUENCY_LIMIT:
+        source = study.scenario.source_path or "scenario"
+        raise UserError(
+            f"{source}: {said}; allowed: within {100 * PATTERN_FREQUENCY_LIMIT:g} % of the table's frequency "
+            f"({pattern.frequency_hz * (1 - PATTERN_FREQUENCY_LIMIT) / 1e6:g} to "
+            f"{pattern.frequency_hz * (1 + PATTERN_FREQUENCY_LIMIT) / 1e6:g} MHz); build a table at the satellite's "
+            "frequency (planner pattern build ... --frequency-mhz F)"
+        )
+    warn(f"{said}; the gains and feed VSWR used are the table's, valid within a few per cent of its frequency")
+
+
+def no_feed_data_note(candidate) -> str | None:
+    """The ladder's and the comparison's note when no mismatch is charged for lack of feed data."""
+    if candidate.feed_vswr_source is not None:
+        return None
+    return (
+        f"no feed mismatch charged for {candidate.name}: its pattern table {_pattern_name(candidate.pattern)} "
+        "has no feed_vswr in its header and the scenario gives none, so the feed is taken as matched "
+        "(give feed_vswr in the [[candidate]] table to charge one)"
+    )
+
+
 def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup:
     """Fixed parts of the satellite -> station link for one candidate set-up."""
     scenario = study.scenario
@@ -130,14 +231,16 @@ def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup
     receiver = scenario.receiver
     frequency_hz = sat.downlink_frequency_hz
     pattern = candidate.pattern
-    if abs(frequency_hz / pattern.frequency_hz - 1.0) > PATTERN_FREQUENCY_TOLERANCE:
-        warn(
-            f"candidate {candidate.name}: pattern {pattern.path.name if pattern.path else ''} was computed at "
-            f"{pattern.frequency_hz / 1e6:.1f} MHz, but {sat.name} transmits on {sat.downlink_mhz:g} MHz; "
-            "the gains used are the table's"
-        )
+    check_pattern_frequency(study, candidate, sat, frequency_hz)
     feedline_db = _station_line_loss_db(candidate.feedline, candidate.connectors, candidate.connector_loss_db, frequency_hz)
-    antenna_noise = _antenna_noise(candidate.pattern, frequency_hz, study.station_config.noise_environment, receiver.ground_temperature_k)
+    pre_lna_db = _station_line_loss_db(
+        candidate.pre_lna_feedline, candidate.pre_lna_connectors, candidate.connector_loss_db, frequency_hz
+    ) + candidate.pre_lna_loss_db
+    vswr = candidate.feed_vswr
+    mismatch_db = 0.0 if vswr is None else float(mismatch_loss_db(vswr))
+    antenna_noise = _antenna_noise(
+        pattern, frequency_hz, study.station_config.noise_environment, receiver.ground_temperature_k, study.station.altitude_m
+    )
     lna_position = candidate.lna_position or receiver.lna_position
     chain = receive_chain(
         antenna_noise.total_k,
@@ -147,17 +250,26 @@ def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup
         lna_gain_db=receiver.lna_gain_db,
         lna_at_antenna=lna_position == "antenna",
         receiver_noise_figure_db=receiver.receiver_noise_figure_db,
+        mismatch_loss_db=mismatch_db,
+        pre_lna_loss_db=pre_lna_db,
     )
     required, theory, required_cn0 = _required(sat, sat.data_rate_bps)
-    vswr = candidate.feed_vswr
     tx_power_dbw = 10.0 * log10(sat.tx_power_w)
+    parts = chain.breakdown
+    # Each stage's share at the antenna terminals (Friis; after the mismatch divided by M).
     noise_terms = {
         "antenna_sky_temperature_k": antenna_noise.sky_k,
+        "antenna_sky_atmosphere_k": antenna_noise.atmosphere_k,   # of the sky term: the atmosphere's emission
         "antenna_ground_temperature_k": antenna_noise.ground_k,
         "man_made_noise_temperature_k": antenna_noise.man_made_k,
         "antenna_noise_temperature_k": antenna_noise.total_k,
-        "receiver_chain_temperature_k": chain.system_noise_temperature_k - antenna_noise.total_k,
+        "pre_lna_noise_k": parts["pre_lna"],
+        "lna_noise_k": parts.get("lna", 0.0),
+        "feedline_noise_k": parts["feedline"],
+        "receiver_noise_k": parts["receiver"],
+        "receiver_chain_temperature_k": chain.chain_noise_temperature_k,
     }
+    note = no_feed_data_note(candidate)
     return LinkSetup(
         direction="downlink",
         satellite=sat.name,
@@ -174,7 +286,11 @@ def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup
         system_noise_temperature_k=chain.system_noise_temperature_k,
         noise_terms=noise_terms,
         feedline_loss_db=feedline_db,
-        mismatch_loss_db=0.0 if vswr is None else float(mismatch_loss_db(vswr)),
+        mismatch_loss_db=mismatch_db,
+        pre_lna_loss_db=pre_lna_db,
+        antenna_noise_temperature_k=antenna_noise.total_k,
+        chain_noise_temperature_k=chain.chain_noise_temperature_k,
+        notes=[note] if note else [],
         pattern=pattern,
     )
 
@@ -235,14 +351,16 @@ def uplink_setup(study, satellite_name: str) -> LinkSetup:
 _ANTENNA_NOISE: dict[tuple, tuple] = {}
 
 
-def _antenna_noise(pattern, frequency_hz, environment, ground_k):
-    """Antenna noise temperature, integrated once per pattern, frequency and surroundings.
+def _antenna_noise(pattern, frequency_hz, environment, ground_k, altitude_m):
+    """Antenna noise temperature, integrated once per pattern, frequency, station height and surroundings.
 
     The cache keeps the pattern object alive beside its result, so its id cannot be reused.
     """
-    key = (id(pattern), frequency_hz, environment, ground_k)
+    key = (id(pattern), frequency_hz, environment, ground_k, altitude_m)
     if key not in _ANTENNA_NOISE:
-        result = antenna_noise_temperature_k(pattern, frequency_hz, environment, ground_temperature_k=ground_k)
+        result = antenna_noise_temperature_k(
+            pattern, frequency_hz, environment, ground_temperature_k=ground_k, altitude_m=altitude_m
+        )
         _ANTENNA_NOISE[key] = (pattern, result)
     return _ANTENNA_NOISE[key][1]
 
@@ -266,7 +384,8 @@ def evaluate(setup: LinkSetup, azimuth_deg, elevation_deg, range_km) -> pd.DataF
     g_r, g_l = _receive_gains(setup, azimuth_deg, elevation_deg)
     pol_mean, pol_fade = polarization_loss_db(setup.wave, g_r, g_l, fade_percentile=setup.fade_percentile)
     rx_gain = 10.0 * np.log10(10.0 ** (g_r / 10.0) + 10.0 ** (g_l / 10.0))
-    received_dbw = setup.eirp_dbw - fsl - atm - pol_mean + rx_gain - setup.mismatch_loss_db
+    # Available carrier at the antenna terminals; the mismatch is charged in T_sys (module notes).
+    received_dbw = setup.eirp_dbw - fsl - atm - pol_mean + rx_gain
     t_sys = setup.system_noise_temperature_k
     g_over_t = rx_gain - 10.0 * log10(t_sys)
     cn0 = received_dbw - BOLTZMANN_DBW_PER_K_HZ - 10.0 * log10(t_sys)
@@ -293,6 +412,7 @@ def evaluate(setup: LinkSetup, azimuth_deg, elevation_deg, range_km) -> pd.DataF
             "rx_antenna_gain_dbic": rx_gain,
             "mismatch_loss_db": np.full_like(cn0, setup.mismatch_loss_db),
             "received_power_dbw": received_dbw,
+            "pre_lna_loss_db": np.full_like(cn0, np.nan if setup.pre_lna_loss_db is None else setup.pre_lna_loss_db),
             "feedline_loss_db": np.full_like(cn0, setup.feedline_loss_db),
             "system_noise_temperature_k": np.full_like(cn0, t_sys),
             "g_over_t_dbk": g_over_t,
@@ -335,11 +455,13 @@ LADDER = (
     ("rx_gain_rhcp_dbic", "dBic", "receiving antenna RHCP partial gain toward the other end"),
     ("rx_gain_lhcp_dbic", "dBic", "receiving antenna LHCP partial gain toward the other end"),
     ("rx_antenna_gain_dbic", "dBi", "receiving antenna total gain (RHCP + LHCP) toward the other end"),
-    ("mismatch_loss_db", "dB", "feed impedance mismatch, -10 log10(1 - |Gamma|^2)"),
-    ("received_power_dbw", "dBW", "carrier at the antenna terminals = EIRP - losses + gain"),
-    ("feedline_loss_db", "dB", "station cables and connectors"),
-    ("antenna_noise_temperature_k", "K", "sky + ground + man-made noise the pattern picks up"),
-    ("system_noise_temperature_k", "K", "antenna + receive chain (Friis), at the antenna terminals"),
+    ("received_power_dbw", "dBW", "available carrier at the antenna terminals = EIRP - L_fs - L_atm - L_pol + gain"),
+    ("mismatch_loss_db", "dB", "feed mismatch -10 log10(M), M = 1 - |Gamma|^2: scales carrier and antenna noise alike, so charged once, in T_sys (T_chain / M)"),
+    ("pre_lna_loss_db", "dB", "between antenna and LNA: jumper cables, connectors, switch, bias-tee (before the LNA)"),
+    ("feedline_loss_db", "dB", "main feedline: station cables and connectors"),
+    ("antenna_noise_temperature_k", "K", "T_A: sky (with the atmosphere's emission) + ground + man-made noise the pattern picks up"),
+    ("chain_noise_temperature_k", "K", "T_chain / M: pre-LNA loss, LNA, feedline and receiver by Friis, at the antenna terminals"),
+    ("system_noise_temperature_k", "K", "T_sys = T_A + T_chain / M, at the antenna terminals"),
     ("g_over_t_dbk", "dB/K", "receiving figure of merit G/T = gain - 10 log10(T_sys)"),
     ("boltzmann_dbw_per_k_hz", "dBW/K/Hz", "Boltzmann's constant, 10 log10(k)"),
     ("cn0_dbhz", "dB-Hz", "C/N0 = received power - 10 log10(k) - 10 log10(T_sys)"),
@@ -370,7 +492,9 @@ def ladder_values(setup: LinkSetup, row: pd.Series) -> dict[str, float | None]:
         implementation_loss_db=None if setup.required_cn0_dbhz is not None else setup.implementation_loss_db,
         coding_gain_db=None if setup.required_cn0_dbhz is not None else setup.coding_gain_db,
         required_cn0_dbhz=setup.required_cn0_dbhz,
-        antenna_noise_temperature_k=setup.noise_terms.get("antenna_noise_temperature_k"),
+        antenna_noise_temperature_k=setup.antenna_noise_temperature_k,
+        chain_noise_temperature_k=setup.chain_noise_temperature_k,
+        pre_lna_loss_db=setup.pre_lna_loss_db,
     )
     if setup.required_cn0_dbhz is not None:
         values["ebn0_db"] = None

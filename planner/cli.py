@@ -214,7 +214,7 @@ def passes(
 
 def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, range_km, azimuth_deg):
     """(azimuth_deg, elevation_deg, range_km, time label, the pass or None) for a budget."""
-    from planner.budget import mean_height_km, slant_range_km
+    from planner.budget import ORBIT_RADIUS_MARGIN_KM, orbit_radii_km, slant_range_km, slant_range_limits_km
     from planner.export import iso_utc
     from planner.passes import Observer, predict_passes
 
@@ -247,17 +247,28 @@ def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, 
         raise UserError(f"--elevation-deg: {elevation_deg:g} is out of range; allowed -90 to 90")
     if azimuth_deg is not None and not np.isfinite(azimuth_deg):
         raise UserError(f"--azimuth-deg: {azimuth_deg:g} is not a finite number; allowed e.g. 0 to 360")
+    azimuth = float(azimuth_deg or 0.0) % 360.0
+    satrec = target.element_set.satrec
     if range_km is None:
         if elevation_deg < 0:
             raise UserError("--elevation-deg: below 0 give --range-km as well")
-        height_km = mean_height_km(target.element_set.satrec)
-        range_km = float(slant_range_km(elevation_deg, height_km))
-        label = f"elevation {elevation_deg:g} deg, range from the orbit's mean height {height_km:.0f} km (spherical Earth)"
+        radius_km = orbit_radii_km(satrec)[1]
+        range_km = float(slant_range_km(elevation_deg, radius_km, study.station, azimuth))
+        label = (f"elevation {elevation_deg:g} deg, range {range_km:.0f} km to the orbit's mean radius {radius_km:.0f} km "
+                 "from the station's WGS84 position")
     else:
         if not np.isfinite(range_km) or range_km <= 0:
             raise UserError(f"--range-km: {range_km:g} is out of range; allowed a finite number more than 0")
+        shortest, longest = slant_range_limits_km(satrec, study.station, elevation_deg, azimuth)
+        if not shortest <= range_km <= longest:
+            perigee, _, apogee = orbit_radii_km(satrec)
+            raise UserError(
+                f"--range-km: {range_km:g} km is out of reach of {target.display_name}'s orbit at elevation {elevation_deg:g} deg; "
+                f"allowed {shortest:.0f} to {longest:.0f} km (the straight lines to its perigee and apogee radii, "
+                f"{perigee:.0f} and {apogee:.0f} km, widened by {ORBIT_RADIUS_MARGIN_KM:g} km)"
+            )
         label = f"elevation {elevation_deg:g} deg, range {range_km:g} km"
-    return float(azimuth_deg or 0.0) % 360.0, elevation_deg, range_km, label, None
+    return azimuth, elevation_deg, range_km, label, None
 
 
 def _print_exposure(study, out) -> None:
@@ -337,6 +348,7 @@ def budget(
             "geometry": label,
             **values,
             "noise": setup.noise_terms,
+            "notes": setup.notes,
             "terms": [{"key": k, "value": values[k], "unit": u, "meaning": m} for k, u, m in LADDER],
         }
         if summary:
@@ -358,6 +370,8 @@ def budget(
     console.print(table)
     noise = ", ".join(f"{k} {v:.1f}" for k, v in setup.noise_terms.items())
     console.print(f"noise temperatures (K): {noise}")
+    for note in setup.notes:
+        console.print(f"note: {note}", soft_wrap=True, markup=False)
     if summary:
         console.print(
             f"along the pass ({summary['samples']} samples): margin min {summary['min_margin_db']:.1f} dB, "
@@ -526,7 +540,7 @@ def _compare_one(study, candidate, quiet, format, *, calendar, figures, report):
             f"{score.data_volume_mbit:.1f}", str(score.dropouts), f"{score.lost_to_conflicts:.2f}",
         )
     console.print(table)
-    console.print(decision.explanation, soft_wrap=False)
+    console.print(decision.explanation, soft_wrap=False, markup=False)
     if report is not None:
         console.print(f"Report written to {report}/ (summary.md, tables, figures/, calendar.ics).")
     return decision

@@ -11,13 +11,26 @@ External noise (ITU-R P.372)
     which the cosmic background and the atmosphere dominate (from memory); outside it warns too.
 
 Sky and ground
-    Above the horizon the sky brightness is the P.372 galactic temperature, taken as uniform
-    over the sky (the galactic plane is hotter and the poles colder than the median), plus
-    the cosmic microwave background 2.725 K (Fixsen 2009, ApJ 707, 916), which keeps the sky
-    from going to 0 K where the galactic line is extrapolated. Below the horizon the ground
-    radiates as a black body at ``ground_temperature_k`` (290 K; real ground reflects some
-    sky, so this is slightly pessimistic). Atmospheric emission is neglected (about 3 K for
-    an omni at 435 MHz; see planner.atmosphere.NEGLECTED).
+    Beyond the atmosphere the sky brightness T_ext is the P.372 galactic temperature, taken
+    as uniform over the sky (the galactic plane is hotter and the poles colder than the
+    median), plus the cosmic microwave background 2.725 K (Fixsen 2009, ApJ 707, 916), which
+    keeps the sky from going to 0 K where the galactic line is extrapolated. Seen from the
+    ground through the clear atmosphere, toward elevation E (ITU-R P.372-16 eq. 10,
+    brightness temperature of the clear atmosphere; see planner.atmosphere):
+
+        T_sky(E) = T_ext 10^(-A(E)/10) + T_mr (1 - 10^(-A(E)/10))
+
+    with A(E) the P.676 gaseous loss from planner.atmosphere at that elevation and the
+    station's height, and T_mr = 37.34 + 0.81 T_s (P.372-16 eq. 11) the mean radiating
+    temperature. At 436 MHz the air emits about 1.3 K at the zenith, 13 K at 5 deg and 40 K
+    at the horizon, and absorbs a little of the 42 K beyond (net +1.1 K at the zenith, +11 K
+    at 5 deg; about +4 K for an antenna that sees the upper hemisphere evenly, +9 K at
+    2.2 GHz); at 145 MHz, where the galaxy (about 480 K) is hotter than the air, the air
+    absorbs more than it emits and the sky is slightly colder. A is computed once per elevation
+    row of the quadrature (atmosphere.py caches a spline per frequency and height), so the
+    integral stays vectorized. Below the horizon the ground radiates as a black body at
+    ``ground_temperature_k`` (290 K; real ground reflects some sky, so this is slightly
+    pessimistic).
 
 Antenna temperature
     T_A = integral of G(az, el) T_b(az, el) dOmega / integral of G dOmega with G = G_R + G_L
@@ -34,6 +47,17 @@ Antenna temperature
 Cascade
     Friis (Proc. IRE 32, 1944): T = T1 + T2/G1 + T3/(G1 G2) + ... referred to the input.
     A lossy line of loss L at T_phys is a stage of gain 1/L and noise temperature (L-1) T_phys.
+
+Feed mismatch
+    A lossless junction between a source of reflection coefficient Gamma and a matched line
+    delivers M = 1 - |Gamma|^2 of the source's available power, signal and noise alike: a
+    mismatched antenna at noise temperature T_A delivers k T_A B M (Pozar, Microwave
+    Engineering, noise of a mismatched source; with a uniform 290 K scene and no loss, M k
+    290 K B). In the cascade the mismatch is therefore a stage of gain M that adds no noise
+    of its own, so everything after it is divided by M when referred to the antenna
+    terminals: T_sys = T_A + T_chain / M, and C/N0 = M C / k (M T_A + T_chain). The noise
+    the LNA's input sends back toward a mismatched antenna (its noise parameters against
+    source impedance) is not modelled: an LNA noise figure is taken as stated for 50 ohm.
 """
 
 from __future__ import annotations
@@ -143,16 +167,36 @@ def galactic_noise_temperature_k(frequency_hz):
     return float(t) if np.ndim(t) == 0 else t
 
 
-def sky_brightness_k(frequency_hz: float, elevation_deg, *, ground_temperature_k: float = 290.0):
+def background_sky_temperature_k(frequency_hz: float) -> float:
+    """Brightness beyond the atmosphere, T_ext (K): P.372 galactic (uniform) + cosmic background."""
+    return float(galactic_noise_temperature_k(frequency_hz)) + CMB_K
+
+
+def sky_brightness_k(
+    frequency_hz: float,
+    elevation_deg,
+    *,
+    ground_temperature_k: float = 290.0,
+    altitude_m: float = 0.0,
+    atmospheric_emission: bool = True,
+):
     """Brightness temperature (K) an antenna sees toward ``elevation_deg``.
 
-    Above the horizon (elevation >= 0): galactic (P.372, uniform) + cosmic background.
-    Below it: the ground at ``ground_temperature_k``.
+    Above the horizon (elevation >= 0): the background T_ext (galactic, P.372, uniform, +
+    cosmic background) seen through the clear atmosphere with its own emission (P.372-16
+    eq. 10, from a station at ``altitude_m``; see the module notes), or T_ext alone with
+    ``atmospheric_emission=False``. Below it: the ground at ``ground_temperature_k``.
     """
     if not (ground_temperature_k >= 0):
         raise UserError(f"ground_temperature_k must be >= 0, got {ground_temperature_k!r}")
-    sky_k = galactic_noise_temperature_k(frequency_hz) + CMB_K
+    background_k = background_sky_temperature_k(frequency_hz)
     el = np.asarray(elevation_deg, dtype=float)
+    if atmospheric_emission:
+        from planner.atmosphere import clear_sky_brightness_k
+
+        sky_k = clear_sky_brightness_k(frequency_hz, np.maximum(el, 0.0), background_k=background_k, altitude_m=altitude_m)
+    else:
+        sky_k = background_k
     t = np.where(el >= 0.0, sky_k, float(ground_temperature_k))
     return float(t) if np.ndim(t) == 0 else t
 
@@ -161,18 +205,27 @@ def sky_brightness_k(frequency_hz: float, elevation_deg, *, ground_temperature_k
 class NoiseBreakdown:
     """Antenna noise temperature and where it comes from (K)."""
 
-    sky_k: float
+    sky_k: float                 # everything from above the horizon (background + atmosphere)
     ground_k: float
     man_made_k: float
     total_k: float
     fraction_below_horizon: float
+    atmosphere_k: float = 0.0    # of sky_k: the clear atmosphere's own emission, T_mr (1 - 10^(-A/10))
+
+
+def _elevation_cells() -> tuple[np.ndarray, np.ndarray]:
+    """Cell-centre elevations (deg) and the solid angle per radian of azimuth of each band."""
+    el_edges = np.arange(-90.0, 90.0 + ELEVATION_STEP_DEG / 2, ELEVATION_STEP_DEG)
+    el_mid = 0.5 * (el_edges[:-1] + el_edges[1:])
+    return el_mid, np.diff(np.sin(np.deg2rad(el_edges)))
 
 
 def _quadrature(pattern) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Cell-centre azimuths and elevations (deg) and exact cell solid angles (sr), flattened."""
-    el_edges = np.arange(-90.0, 90.0 + ELEVATION_STEP_DEG / 2, ELEVATION_STEP_DEG)
-    el_mid = 0.5 * (el_edges[:-1] + el_edges[1:])
-    band = np.diff(np.sin(np.deg2rad(el_edges)))  # solid angle per radian of azimuth
+    """Cell-centre azimuths and elevations (deg) and exact cell solid angles (sr), flattened.
+
+    Flattened elevation-major: the cells of one elevation band are consecutive.
+    """
+    el_mid, band = _elevation_cells()
     if getattr(pattern, "azimuth_deg", "unknown") is None:  # azimuth-symmetric table
         az_mid = np.array([0.0])
         az_width_rad = np.array([2.0 * np.pi])
@@ -191,13 +244,16 @@ def antenna_noise_temperature_k(
     environment: str | None,
     *,
     ground_temperature_k: float = 290.0,
+    altitude_m: float = 0.0,
+    atmospheric_emission: bool = True,
 ) -> NoiseBreakdown:
-    """Noise temperature (K) at the antenna terminals of a pattern table in its surroundings.
+    """Noise temperature (K) available at the antenna terminals of a pattern table in its surroundings.
 
     ``pattern``: anything with ``gains_dbic(azimuth_deg, elevation_deg) -> (rhcp_dbic, lhcp_dbic)``
     and ``azimuth_deg`` (None when azimuth-symmetric). ``environment``: a P.372 man-made
     category (city, residential, rural, quiet_rural) or None for no man-made noise.
-    See the module notes for the model.
+    ``altitude_m``: station height, for the atmosphere's emission (``atmospheric_emission=False``
+    leaves it out). See the module notes for the model.
     """
     az, el, solid_angle = _quadrature(pattern)
     rhcp_dbic, lhcp_dbic = pattern.gains_dbic(az, el)
@@ -209,10 +265,29 @@ def antenna_noise_temperature_k(
     total_weight = weight.sum()
     if not total_weight > 0:
         raise UserError("antenna pattern: total gain is zero in every direction")
-    brightness = sky_brightness_k(frequency_hz, el, ground_temperature_k=ground_temperature_k)
+    # The brightness depends on elevation only: computed once per elevation band (the
+    # atmosphere's loss from its cached spline), then spread over the band's azimuth cells.
+    el_mid, _ = _elevation_cells()
+    per_band = el.size // el_mid.size
+    band_k = sky_brightness_k(
+        frequency_hz, el_mid, ground_temperature_k=ground_temperature_k, altitude_m=altitude_m,
+        atmospheric_emission=atmospheric_emission,
+    )
+    brightness = np.repeat(band_k, per_band)
     below = el < 0.0
     ground_k = float(np.sum(weight[below] * brightness[below]) / total_weight)
     sky_k = float(np.sum(weight[~below] * brightness[~below]) / total_weight)
+    atmosphere_k = 0.0
+    if atmospheric_emission:
+        from planner.atmosphere import clear_sky_brightness_k
+
+        # The emission alone, T_mr (1 - 10^(-A/10)): the clear sky with nothing beyond it.
+        emission_band_k = np.where(
+            el_mid >= 0.0,
+            clear_sky_brightness_k(frequency_hz, np.maximum(el_mid, 0.0), background_k=0.0, altitude_m=altitude_m),
+            0.0,
+        )
+        atmosphere_k = float(np.sum(weight * np.repeat(emission_band_k, per_band)) / total_weight)
     man_made_k = float(man_made_noise_temperature_k(frequency_hz, environment))
     return NoiseBreakdown(
         sky_k=sky_k,
@@ -220,6 +295,7 @@ def antenna_noise_temperature_k(
         man_made_k=man_made_k,
         total_k=sky_k + ground_k + man_made_k,
         fraction_below_horizon=float(weight[below].sum() / total_weight),
+        atmosphere_k=atmosphere_k,
     )
 
 
@@ -249,9 +325,11 @@ def cascade_noise_temperature_k(stages: Sequence[tuple[float, float]]) -> float:
 class ReceiveChain:
     """System noise temperature at the antenna terminals, and each part's share of it (K).
 
-    ``breakdown`` maps "antenna", then the stages in signal order ("lna", "feedline",
-    "receiver"), to their noise temperature referred to the antenna terminals; the values
-    add up to ``system_noise_temperature_k``. ``stages`` lists (name, gain_db, noise_temperature_k).
+    ``breakdown`` maps "antenna", then the stages in signal order ("mismatch", "pre_lna",
+    "lna", "feedline", "receiver"; the first two only when asked for), to their noise
+    temperature referred to the antenna terminals (everything after a mismatch divided by
+    M; the mismatch itself adds 0 K); the values add up to ``system_noise_temperature_k``.
+    ``stages`` lists (name, gain_db, noise_temperature_k).
     """
 
     system_noise_temperature_k: float
@@ -279,25 +357,39 @@ def receive_chain(
     lna_gain_db: float | None = None,
     lna_at_antenna: bool = True,
     receiver_noise_figure_db: float,
+    mismatch_loss_db: float | None = None,
+    pre_lna_loss_db: float | None = None,
 ) -> ReceiveChain:
     """System noise temperature at the antenna terminals of antenna + (LNA) + feedline + receiver.
 
-    ``lna_noise_figure_db=None`` means no LNA: the feedline feeds the receiver. Otherwise the
-    LNA sits at the antenna (before the feedline) when ``lna_at_antenna`` is true, or at the
-    receiver end (after the feedline). ``feedline_loss_db`` is the whole run (cable, connectors
-    and any mismatch loss the caller counts as line loss) at ``feedline_temperature_k``.
+    In signal order: the feed mismatch (``mismatch_loss_db`` = -10 log10 M, a noiseless stage
+    of gain M; see the module notes), the losses between the antenna and the LNA
+    (``pre_lna_loss_db``: jumper cables, connectors, a switch or bias-tee, a line at
+    ``feedline_temperature_k``), then the LNA and the feedline. ``lna_noise_figure_db=None``
+    means no LNA: the feedline feeds the receiver. Otherwise the LNA sits before the feedline
+    when ``lna_at_antenna`` is true, or at its receiver end. The pre-LNA losses always come
+    before the LNA: with the LNA at the receiver (or none) they simply join the run before it.
+    ``feedline_loss_db`` is the main run (cable and connectors) at ``feedline_temperature_k``.
+    ``None`` for the mismatch or the pre-LNA loss leaves that stage out.
     """
     if not (antenna_temperature_k >= 0):
         raise UserError(f"antenna temperature must be >= 0 K, got {antenna_temperature_k!r}")
+    front = []
+    if mismatch_loss_db is not None:
+        if not (np.isfinite(mismatch_loss_db) and mismatch_loss_db >= 0):
+            raise UserError(f"mismatch loss must be a finite number of dB >= 0, got {mismatch_loss_db!r}")
+        front.append(("mismatch", -float(mismatch_loss_db), 0.0))
+    if pre_lna_loss_db is not None:
+        front.append(("pre_lna", -float(pre_lna_loss_db), line_noise_temperature_k(pre_lna_loss_db, feedline_temperature_k)))
     feedline = ("feedline", -float(feedline_loss_db), line_noise_temperature_k(feedline_loss_db, feedline_temperature_k))
     receiver = ("receiver", 0.0, noise_figure_to_temperature_k(receiver_noise_figure_db))
     if lna_noise_figure_db is None:
-        stages = [feedline, receiver]
+        stages = [*front, feedline, receiver]
     else:
         if lna_gain_db is None or not np.isfinite(lna_gain_db):
             raise UserError("receiver: lna_gain_db is required when lna_noise_figure_db is given")
         lna = ("lna", float(lna_gain_db), noise_figure_to_temperature_k(lna_noise_figure_db))
-        stages = [lna, feedline, receiver] if lna_at_antenna else [feedline, lna, receiver]
+        stages = [*front, lna, feedline, receiver] if lna_at_antenna else [*front, feedline, lna, receiver]
     contributions = cascade_contributions_k([(g, t) for _, g, t in stages])
     breakdown = {"antenna": float(antenna_temperature_k)}
     breakdown.update({name: t for (name, _, _), t in zip(stages, contributions)})

@@ -8,6 +8,9 @@ band, by dropouts (margin falling below the threshold inside a pass, the signatu
 pattern nulls) and by satellite. Robustness: every budget is shifted by -/+2 dB and by
 the scenario's ``budget_uncertainty_db``; the recommendation holds when the same
 candidate ranks first under every shift.
+
+Candidates whose pattern table carries no feed data (no ``feed_vswr`` in its header, none in
+the scenario) are compared as if matched; the explanation and the ``notes`` say which.
 """
 
 from __future__ import annotations
@@ -47,6 +50,7 @@ class Recommendation:
     robust: bool
     winner_by_shift_db: dict[float, str] = field(default_factory=dict)
     schedules: dict = field(default_factory=dict)   # candidate -> ScheduleResult
+    notes: list[str] = field(default_factory=list)  # e.g. candidates charged no feed mismatch
 
     def to_contract(self) -> dict:
         """The `planner compare --format json` document of DESIGN.md (plus a few extra keys)."""
@@ -69,6 +73,7 @@ class Recommendation:
             "robust": self.robust,
             "winner_by_shift_db": {f"{k:+g}": v for k, v in sorted(self.winner_by_shift_db.items())},
             "explanation": self.explanation,
+            "notes": list(self.notes),
         }
 
 
@@ -109,6 +114,19 @@ def score_candidates(outcomes: pd.DataFrame, objective: str, candidates: list[st
     return scores, schedules
 
 
+def feed_data_notes(study, candidates: list[str]) -> list[str]:
+    """One sentence naming the candidates charged no feed mismatch for lack of feed data (or none)."""
+    unmatched = [name for name in candidates if study.candidate(name).feed_vswr_source is None]
+    if not unmatched:
+        return []
+    one = len(unmatched) == 1
+    return [
+        f"No feed mismatch was charged for {_join(unmatched)}: {'its pattern table carries' if one else 'their pattern tables carry'} "
+        "no feed_vswr and the scenario gives none, so "
+        f"{'its feed is' if one else 'their feeds are'} taken as matched (give feed_vswr in the [[candidate]] table to charge one)."
+    ]
+
+
 def robustness_shifts_db(uncertainty_db: float) -> list[float]:
     return sorted({-2.0, 2.0, -float(uncertainty_db), float(uncertainty_db)} - {0.0})
 
@@ -125,7 +143,8 @@ def recommend(forecast: Forecast, study) -> Recommendation:
         shifted = summarize_passes(forecast.samples, forecast.passes, study, margin_shift_db=shift)
         winners[shift] = score_candidates(shifted, objective, forecast.candidates)[0][0].candidate
     robust = all(name == best.candidate for name in winners.values())
-    explanation = explain(forecast, ranking, winners, objective, forecast.days)
+    notes = feed_data_notes(study, list(forecast.candidates))
+    explanation = " ".join([explain(forecast, ranking, winners, objective, forecast.days), *notes])
     return Recommendation(
         recommended=best.candidate,
         objective=objective,
@@ -135,6 +154,7 @@ def recommend(forecast: Forecast, study) -> Recommendation:
         robust=robust,
         winner_by_shift_db=winners,
         schedules=schedules,
+        notes=notes,
     )
 
 

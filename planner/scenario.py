@@ -494,10 +494,18 @@ class ReceiverConfig(BaseModel):
     receiver_noise_figure_db: Annotated[Real, _Range(0, 30)] = 6.0
     feedline_temperature_k: Annotated[Real, _Range(150, 350)] = 290.0
     ground_temperature_k: Annotated[Real, _Range(150, 350)] = 290.0
+    # Between the antenna and the LNA for every candidate (a candidate may override): connectors
+    # (at each candidate's connector_loss_db) and a switch or bias-tee, in dB. Charged before the LNA.
+    pre_lna_connectors: Annotated[int, Strict(), _Range(0, 30)] = 0
+    pre_lna_loss_db: Annotated[Real, _Range(0, 10)] = 0.0
 
 
 class CandidateConfig(BaseModel):
-    """One antenna set-up to compare: pattern table, feedline, connectors, LNA position."""
+    """One antenna set-up to compare: pattern table, feedline, connectors, LNA position.
+
+    ``feedline`` and ``connectors`` are the main run (after the LNA when it sits at the antenna);
+    ``pre_lna_*`` are the losses between the antenna and the LNA, charged before it.
+    """
 
     model_config = _STRICT
 
@@ -508,6 +516,10 @@ class CandidateConfig(BaseModel):
     connector_loss_db: Annotated[Real, _Range(0, 2)] = 0.1  # each; common practice
     lna_position: LnaPosition | None = None  # overrides [receiver] for this candidate
     feed_vswr: Annotated[Real, _Range(1, 20)] | None = None  # overrides the pattern header's
+    # Between the antenna and the LNA (charged before it): a jumper, connectors, a switch or bias-tee.
+    pre_lna_feedline: list[FeedlineRun] = []
+    pre_lna_connectors: Annotated[int, Strict(), _Range(0, 30)] | None = None  # default: [receiver]'s
+    pre_lna_loss_db: Annotated[Real, _Range(0, 10)] | None = None  # default: [receiver]'s
 
     @field_validator("pattern", mode="plain")
     @classmethod

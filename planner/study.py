@@ -28,7 +28,11 @@ def frequencies_hz(config: SatelliteConfig) -> dict[str, float]:
 
 @dataclass
 class Candidate:
-    """A candidate set-up made ready to compute: its pattern loaded, its cables resolved."""
+    """A candidate set-up made ready to compute: its pattern loaded, its cables resolved.
+
+    The feed VSWR is the scenario's ``feed_vswr`` when given, else the pattern header's (read
+    from the pattern each time, so a pattern swapped in by the reflector sweep brings its own).
+    """
 
     name: str
     pattern: object                      # planner.patterns.PatternTable
@@ -36,7 +40,24 @@ class Candidate:
     connectors: int
     connector_loss_db: float
     lna_position: str | None
-    feed_vswr: float | None
+    feed_vswr_override: float | None = None   # the scenario's feed_vswr
+    pre_lna_feedline: list = field(default_factory=list)  # [(Cable, length_m)] between antenna and LNA
+    pre_lna_connectors: int = 0
+    pre_lna_loss_db: float = 0.0         # switch, bias-tee (dB)
+
+    @property
+    def feed_vswr(self) -> float | None:
+        """The VSWR the budget charges, or None when neither the scenario nor the table gives one."""
+        if self.feed_vswr_override is not None:
+            return self.feed_vswr_override
+        return getattr(self.pattern, "feed_vswr", None)
+
+    @property
+    def feed_vswr_source(self) -> str | None:
+        """Where the VSWR comes from: "scenario", "pattern table" or None (no feed data)."""
+        if self.feed_vswr_override is not None:
+            return "scenario"
+        return "pattern table" if getattr(self.pattern, "feed_vswr", None) is not None else None
 
 
 @dataclass
@@ -140,7 +161,7 @@ class Study:
             config: CandidateConfig = self.scenario.candidate_named(name)
             position = next(i for i, c in enumerate(self.scenario.candidate, start=1) if c.name == name)
             pattern = load_pattern(config.pattern)
-            vswr = config.feed_vswr if config.feed_vswr is not None else pattern.feed_vswr
+            receiver = self.scenario.receiver
             cache[name] = Candidate(
                 name=config.name,
                 pattern=pattern,
@@ -148,7 +169,12 @@ class Study:
                 connectors=config.connectors,
                 connector_loss_db=config.connector_loss_db,
                 lna_position=config.lna_position,
-                feed_vswr=vswr,
+                feed_vswr_override=config.feed_vswr,
+                pre_lna_feedline=self.feedline_runs(config.pre_lna_feedline, f"candidate #{position} ({name}).pre_lna_feedline"),
+                pre_lna_connectors=(
+                    config.pre_lna_connectors if config.pre_lna_connectors is not None else receiver.pre_lna_connectors
+                ),
+                pre_lna_loss_db=config.pre_lna_loss_db if config.pre_lna_loss_db is not None else receiver.pre_lna_loss_db,
             )
         return cache[name]
 

@@ -109,3 +109,31 @@ def test_itur_is_not_imported_with_the_module():
         cwd=REPO, env=env, capture_output=True, text=True, check=True,
     )
     assert out.stdout.strip() == "False"
+
+
+def test_mean_radiating_temperature_p372():
+    # ITU-R P.372-16 eq. 11: T_mr = 37.34 + 0.81 T_s; at the P.835 sea-level 288.15 K that is 270.74 K.
+    # Older editions: T_mr = 1.12 T_s - 50 K (272.7 K) and "about 275 K" for clear air: within 2 %.
+    assert atmosphere.reference_surface_temperature_k(0.0) == pytest.approx(288.15)
+    # P.835 reference at 1 km: about 8.5 C (the module notes), 6.5 K/km lapse rate.
+    assert atmosphere.reference_surface_temperature_k(1000.0) == pytest.approx(281.65, abs=0.05)
+    t_mr = atmosphere.mean_radiating_temperature_k(288.15)
+    assert t_mr == pytest.approx(270.74, abs=0.01)
+    assert t_mr == pytest.approx(1.12 * 288.15 - 50.0, rel=0.02)
+    assert t_mr == pytest.approx(275.0, rel=0.02)
+
+
+def test_clear_sky_brightness_p372_eq_10():
+    # T = T_ext 10^(-A/10) + T_mr (1 - 10^(-A/10)) with A the slant-path loss at the same elevation.
+    f_hz = 436.5 * MHZ
+    elevation = np.array([0.5, 5.0, 30.0, 90.0])
+    loss = atmosphere.gaseous_loss_db(f_hz, elevation)
+    tau = 10 ** (-loss / 10)
+    t_mr = atmosphere.mean_radiating_temperature_k(288.15)
+    assert atmosphere.clear_sky_brightness_k(f_hz, elevation, background_k=0.0) == pytest.approx(t_mr * (1 - tau))
+    assert atmosphere.clear_sky_brightness_k(f_hz, elevation, background_k=40.0) == pytest.approx(40.0 * tau + t_mr * (1 - tau))
+    # A background at T_mr is seen unchanged (an isothermal absorber in equilibrium).
+    assert atmosphere.clear_sky_brightness_k(f_hz, elevation, background_k=t_mr) == pytest.approx(np.full(4, t_mr))
+    assert isinstance(atmosphere.clear_sky_brightness_k(f_hz, 10.0, background_k=40.0), float)
+    with pytest.raises(UserError):
+        atmosphere.clear_sky_brightness_k(f_hz, 10.0, background_k=-1.0)

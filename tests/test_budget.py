@@ -82,22 +82,21 @@ def test_end_to_end_budget_recomputed_by_hand(study):
     loss_db = (cable.k1_db_per_100m_sqrt_mhz * sqrt(f_mhz) + cable.k2_db_per_100m_per_mhz * f_mhz) * length_m / 100
     loss_db += candidate.connectors * candidate.connector_loss_db
     # Friis (Proc. IRE 1944) with the LNA at the antenna: T = T_ant + T_lna + T_line/G_lna + L T_rx / G_lna,
-    # T_line = (L - 1) 290 K, T(NF) = 290 (10^(NF/10) - 1).
+    # T_line = (L - 1) 290 K, T(NF) = 290 (10^(NF/10) - 1), behind the feed mismatch M = 1 - |Gamma|^2
+    # (Pozar: M of the carrier and of the antenna noise pass, so the chain is divided by M at the terminals).
     t_ant = setup.noise_terms["antenna_noise_temperature_k"]
     t_lna = 290 * (10 ** (receiver.lna_noise_figure_db / 10) - 1)
     t_rx = 290 * (10 ** (receiver.receiver_noise_figure_db / 10) - 1)
     g_lna = 10 ** (receiver.lna_gain_db / 10)
     line = 10 ** (loss_db / 10)
-    t_sys = t_ant + t_lna + (line - 1) * receiver.feedline_temperature_k / g_lna + line * t_rx / g_lna
+    vswr = candidate.feed_vswr or 1.0
+    m = 1 - ((vswr - 1) / (vswr + 1)) ** 2
+    t_sys = t_ant + (t_lna + (line - 1) * receiver.feedline_temperature_k / g_lna + line * t_rx / g_lna) / m
     assert row["system_noise_temperature_k"] == pytest.approx(t_sys, rel=1e-6)
     atm = float(row["atmospheric_loss_db"])
     assert 0.0 < atm < 1.0  # well under 1 dB on UHF above 5 deg (ITU-R P.676, REFERENCES.md)
 
-    # Mismatch loss of the table's feed VSWR: -10 log10(1 - |Gamma|^2), |Gamma| = (s - 1) / (s + 1) (Pozar).
-    vswr = pattern.feed_vswr
-    gamma = (vswr - 1) / (vswr + 1)
-    mismatch_db = -10 * log10(1 - gamma**2)
-    cn0 = eirp - fsl - atm - pol_loss + rx_gain - mismatch_db + 228.60 - 10 * log10(t_sys)
+    cn0 = eirp - fsl - atm - pol_loss + rx_gain + 228.60 - 10 * log10(t_sys)
     ebn0 = cn0 - 10 * log10(sat.data_rate_bps)
     from planner.modem import required_ebn0_db
 
@@ -107,6 +106,7 @@ def test_end_to_end_budget_recomputed_by_hand(study):
     assert row["polarization_loss_db"] == pytest.approx(pol_loss, abs=1e-6)
     assert row["rx_antenna_gain_dbic"] == pytest.approx(rx_gain, abs=1e-6)
     assert row["feedline_loss_db"] == pytest.approx(loss_db, abs=1e-6)
+    assert row["mismatch_loss_db"] == pytest.approx(-10 * log10(m), abs=1e-9)
     assert row["g_over_t_dbk"] == pytest.approx(rx_gain - 10 * log10(t_sys), abs=1e-6)
     assert row["cn0_dbhz"] == pytest.approx(cn0, abs=0.02)
     assert row["ebn0_db"] == pytest.approx(ebn0, abs=0.02)
@@ -193,6 +193,11 @@ def assert_user_error(result, *fragments):
         assert fragment in lines[0], lines[0]
 
 
+def demo_pattern_text(name="turnstile-close"):
+    """The quoted pattern path of a demo candidate as demo_variant writes it."""
+    return f'"{load_scenario(DEMO).candidate_named(name).pattern}"'
+
+
 def demo_variant(tmp_path, old, new):
     text = DEMO.read_text().replace('"../', f'"{ROOT}/')
     assert old in text
@@ -205,7 +210,7 @@ def test_bad_budget_inputs(tmp_path):
     args = ("--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "30")
     broken = tmp_path / "broken.csv"
     broken.write_text("# frequency_mhz = 436\nelevation_deg,gain_rhcp_dbic,gain_lhcp_dbic\n0,abc,-20\n")
-    path = demo_variant(tmp_path, f'"{ROOT}/patterns/turnstile-close.csv"', f'"{broken}"')
+    path = demo_variant(tmp_path, demo_pattern_text(), f'"{broken}"')
     assert_user_error(run("budget", path, *args), "broken.csv")
     path = demo_variant(tmp_path, 'cable = "RG-58"', 'cable = "RG-999"')
     assert_user_error(run("budget", path, "--satellite", "WRENLING-1", "--candidate", "turnstile-close-rg58-lna-in-shack", "--elevation-deg", "30"), "RG-999")
@@ -216,3 +221,261 @@ def test_bad_budget_inputs(tmp_path):
     assert_user_error(run("budget", DEMO, "--satellite", "NOSAT", *args[2:]), "NOSAT")
     assert_user_error(run("budget", DEMO, "--satellite", "WRENLING-1", "--candidate", "nope", "--elevation-deg", "30"), "nope")
     assert_user_error(run("budget", DEMO, "--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--pass", "999"), "--pass")
+
+
+# --- each term once: mismatch, pre-LNA losses, sky, slant range, refusals, notes ------------
+# These tests set their own feed VSWR, pre-LNA losses and tables where it matters, so they hold
+# whatever candidates the demo ships.
+
+
+def _m(vswr):
+    """Mismatch factor M = 1 - |Gamma|^2, |Gamma| = (VSWR - 1) / (VSWR + 1) (Pozar)."""
+    vswr = 1.0 if vswr is None else vswr
+    return 1 - ((vswr - 1) / (vswr + 1)) ** 2
+
+
+def _main_run_db(candidate, f_hz):
+    (cable, length_m), = candidate.feedline
+    return float(cable.loss_db_per_100m(f_hz)) * length_m / 100 + candidate.connectors * candidate.connector_loss_db
+
+
+def _hand_chain_k(receiver, pre_db, f_loss_db, lna_at_antenna=True):
+    """Friis by hand at the 50 ohm side of the mismatch: pre-LNA line, LNA, feedline, receiver."""
+    t0 = receiver.feedline_temperature_k
+    t_lna = 290 * (10 ** (receiver.lna_noise_figure_db / 10) - 1)
+    t_rx = 290 * (10 ** (receiver.receiver_noise_figure_db / 10) - 1)
+    g = 10 ** (receiver.lna_gain_db / 10)
+    pre, line = 10 ** (pre_db / 10), 10 ** (f_loss_db / 10)
+    if lna_at_antenna:
+        return (pre - 1) * t0 + pre * t_lna + pre * (line - 1) * t0 / g + pre * line * t_rx / g
+    return (pre * line - 1) * t0 + pre * line * t_lna + pre * line * t_rx / g
+
+
+def test_cn0_change_with_vswr_matches_the_formula_by_hand():
+    # Pozar (noise of a mismatched source): a mismatch M = 1 - |Gamma|^2 passes M of the carrier and
+    # M of the antenna noise, so C/N0 = M C / k (M T_A + T_chain). VSWR 4 (|Gamma| = 0.6, M = 0.64)
+    # set on a demo candidate, against the same candidate matched (VSWR 1).
+    from dataclasses import replace
+
+    study = Study.from_scenario(load_scenario(DEMO))
+    receiver = study.scenario.receiver
+    base = study.candidate("turnstile-close")
+    cache = study.__dict__["_candidates"]
+    rows, setups = {}, {}
+    for vswr in (4.0, 1.0):
+        cache["turnstile-close"] = replace(base, feed_vswr_override=vswr)
+        assert study.candidate("turnstile-close").feed_vswr_source == "scenario"
+        setups[vswr] = downlink_setup(study, "WRENLING-1", "turnstile-close")
+        rows[vswr] = evaluate(setups[vswr], [0.0], [30.0], [1000.0]).iloc[0]
+    row, setup, m = rows[4.0], setups[4.0], 0.64
+    assert _m(4.0) == pytest.approx(m)
+    t_a = setup.antenna_noise_temperature_k
+    t_chain = _hand_chain_k(receiver, 0.0, _main_run_db(base, setup.frequency_hz))
+    available_dbw = row["eirp_dbw"] - row["free_space_loss_db"] - row["atmospheric_loss_db"] - row["polarization_loss_db"] + row["rx_antenna_gain_dbic"]
+    cn0 = available_dbw + 10 * log10(m) + 228.5991 - 10 * log10(m * t_a + t_chain)
+    assert row["received_power_dbw"] == pytest.approx(available_dbw, abs=1e-9)
+    assert row["mismatch_loss_db"] == pytest.approx(-10 * log10(m), abs=1e-9)
+    assert row["system_noise_temperature_k"] == pytest.approx(t_a + t_chain / m, rel=1e-9)
+    assert row["cn0_dbhz"] == pytest.approx(cn0, abs=1e-3)
+    assert row["g_over_t_dbk"] == pytest.approx(row["rx_antenna_gain_dbic"] - 10 * log10(t_a + t_chain / m), abs=1e-9)
+    # C/N0 moves by 10 log10 M - 10 log10((M T_A + T_chain) / (T_A + T_chain)) from the matched antenna.
+    change = 10 * log10(m) - 10 * log10((m * t_a + t_chain) / (t_a + t_chain))
+    assert row["cn0_dbhz"] - rows[1.0]["cn0_dbhz"] == pytest.approx(change, abs=1e-6)
+    # Charging M against the carrier but not against the antenna noise was pessimistic by about 1 dB here.
+    old_cn0 = available_dbw + 10 * log10(m) + 228.5991 - 10 * log10(t_a + t_chain)
+    assert 0.5 < row["cn0_dbhz"] - old_cn0 < 1.5
+
+
+def _variant_study(tmp_path, old, new):
+    return Study.from_scenario(load_scenario(demo_variant(tmp_path, old, new)))
+
+
+PRE_LNA = 'pre_lna_feedline = [{ cable = "RG-58", length_m = 1.5 }]\npre_lna_connectors = 2\npre_lna_loss_db = 0.3\n'
+
+
+def test_pre_lna_losses_are_charged_before_the_lna(tmp_path):
+    # Friis (Proc. IRE 1944): loss ahead of the LNA adds (L - 1) T_line and multiplies the rest by L.
+    # A 1.5 m RG-58 jumper, 2 connectors at 0.1 dB and a 0.3 dB bias-tee before the LNA.
+    study = _variant_study(tmp_path, 'name = "turnstile-close"\n', 'name = "turnstile-close"\n' + PRE_LNA)
+    receiver = study.scenario.receiver
+    candidate = study.candidate("turnstile-close")
+    setup = downlink_setup(study, "WRENLING-1", "turnstile-close")
+    f_hz = setup.frequency_hz
+    m = _m(candidate.feed_vswr)
+    (jumper, jumper_m), = candidate.pre_lna_feedline
+    pre_db = float(jumper.loss_db_per_100m(f_hz)) * jumper_m / 100 + 2 * 0.1 + 0.3
+    f_loss_db = _main_run_db(candidate, f_hz)
+    t_a = setup.antenna_noise_temperature_k
+    assert setup.pre_lna_loss_db == pytest.approx(pre_db, abs=1e-9)
+    assert setup.system_noise_temperature_k == pytest.approx(t_a + _hand_chain_k(receiver, pre_db, f_loss_db) / m, rel=1e-9)
+    assert setup.noise_terms["pre_lna_noise_k"] == pytest.approx((10 ** (pre_db / 10) - 1) * receiver.feedline_temperature_k / m)
+    row = evaluate(setup, [0.0], [30.0], [1000.0]).iloc[0]
+    assert row["pre_lna_loss_db"] == pytest.approx(pre_db)
+    assert row["feedline_loss_db"] == pytest.approx(f_loss_db)  # the main run is unchanged
+    # Charged before the LNA, about 1 dB costs tens of kelvin; after it (the old bookkeeping) next to nothing.
+    plain = downlink_setup(Study.from_scenario(load_scenario(DEMO)), "WRENLING-1", "turnstile-close")
+    assert setup.system_noise_temperature_k - plain.system_noise_temperature_k > 50.0
+    # With the LNA in the shack the pre-LNA losses simply join the run before it.
+    name = "turnstile-close-rg58-lna-in-shack"
+    shack = _variant_study(tmp_path, f'name = "{name}"\n', f'name = "{name}"\n' + PRE_LNA)
+    candidate = shack.candidate(name)
+    setup = downlink_setup(shack, "WRENLING-1", name)
+    chain = _hand_chain_k(receiver, pre_db, _main_run_db(candidate, f_hz), lna_at_antenna=False)
+    expected = setup.antenna_noise_temperature_k + chain / _m(candidate.feed_vswr)
+    assert setup.system_noise_temperature_k == pytest.approx(expected, rel=1e-9)
+
+
+def test_pre_lna_defaults_from_the_receiver_and_old_scenarios_keep_their_meaning(tmp_path):
+    study = _variant_study(tmp_path, "feedline_temperature_k = 290\n", "feedline_temperature_k = 290\npre_lna_loss_db = 0.2\n")
+    assert study.candidate("turnstile-far").pre_lna_loss_db == 0.2
+    assert study.candidate("turnstile-far").pre_lna_connectors == 0
+    # The demo gives none: zero loss before the LNA, the old Friis sum unchanged (test above by hand).
+    demo = Study.from_scenario(load_scenario(DEMO))
+    assert downlink_setup(demo, "WRENLING-1", "turnstile-far").pre_lna_loss_db == 0.0
+    # A candidate's own value wins over the receiver's.
+    both = _variant_study(tmp_path, 'name = "turnstile-far"\n', 'name = "turnstile-far"\npre_lna_loss_db = 0.0\n')
+    assert both.candidate("turnstile-far").pre_lna_loss_db == 0.0
+
+
+def test_ladder_shows_pre_lna_row_chain_and_noise_breakdown(tmp_path):
+    path = demo_variant(tmp_path, 'name = "turnstile-close"\n', 'name = "turnstile-close"\nfeed_vswr = 4.0\npre_lna_loss_db = 0.4\n')
+    result = run("budget", path, "--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "30", "--format", "json")
+    assert result.returncode == 0, result.stderr
+    document = json.loads(result.stdout)
+    assert document["pre_lna_loss_db"] == pytest.approx(0.4)
+    assert document["mismatch_loss_db"] == pytest.approx(-10 * log10(0.64), abs=1e-9)  # 1.94 dB
+    noise = document["noise"]
+    for key in ("pre_lna_noise_k", "lna_noise_k", "feedline_noise_k", "receiver_noise_k", "antenna_sky_atmosphere_k"):
+        assert key in noise
+    assert noise["pre_lna_noise_k"] == pytest.approx((10 ** 0.04 - 1) * 290 / 0.64)
+    parts = noise["antenna_noise_temperature_k"] + noise["pre_lna_noise_k"] + noise["lna_noise_k"] + noise["feedline_noise_k"] + noise["receiver_noise_k"]
+    assert parts == pytest.approx(document["system_noise_temperature_k"], rel=1e-9)
+    assert document["chain_noise_temperature_k"] == pytest.approx(noise["receiver_chain_temperature_k"], rel=1e-9)
+    # The ladder recomputes by hand: C/N0 = available carrier - 10 log10 k - 10 log10 T_sys.
+    assert document["cn0_dbhz"] == pytest.approx(
+        document["received_power_dbw"] - document["boltzmann_dbw_per_k_hz"] - 10 * log10(document["system_noise_temperature_k"]), abs=1e-9
+    )
+    assert document["notes"] == []  # the VSWR is given
+    assert {t["key"] for t in document["terms"]} >= {"pre_lna_loss_db", "chain_noise_temperature_k"}
+    text = run("budget", path, "--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "30").stdout
+    assert "pre_lna_loss_db" in text and "pre_lna_noise_k" in text
+
+
+def test_uplink_has_no_pre_lna_row(study):
+    setup = uplink_setup(study, "CALDERWISP")
+    from planner.budget import ladder_values
+
+    values = ladder_values(setup, evaluate(setup, [0.0], [45.0], [800.0]).iloc[0])
+    assert values["pre_lna_loss_db"] is None and values["antenna_noise_temperature_k"] is None
+
+
+def test_sky_temperature_of_a_candidate_includes_the_atmosphere(study):
+    # ITU-R P.372 clear-air emission: a few kelvin for these UHF patterns, and the station height passed on.
+    from planner.noise import antenna_noise_temperature_k
+
+    setup = downlink_setup(study, "WRENLING-1", "turnstile-close")
+    pattern = study.candidate("turnstile-close").pattern
+    f_hz = setup.frequency_hz
+    without = antenna_noise_temperature_k(pattern, f_hz, "rural", atmospheric_emission=False)
+    with_air = antenna_noise_temperature_k(pattern, f_hz, "rural", altitude_m=study.station.altitude_m)
+    assert setup.antenna_noise_temperature_k == pytest.approx(with_air.total_k, rel=1e-12)
+    assert 0.5 < with_air.total_k - without.total_k < 6.0
+    assert setup.noise_terms["antenna_sky_atmosphere_k"] == pytest.approx(with_air.atmosphere_k)
+
+
+def test_slant_range_from_the_station_wgs84_position_against_skyfield(study):
+    # skyfield (wgs84 geodetic site, ITRS): a point at the computed range along (az, el) of the site's
+    # geodetic frame is at the orbit's geocentric radius, and skyfield sees it at that elevation,
+    # azimuth and distance.
+    from skyfield.api import load, wgs84
+    from skyfield.toposlib import ITRSPosition
+    from skyfield.units import Distance
+
+    from planner.budget import slant_range_km
+
+    station = study.station
+    topos = wgs84.latlon(station.latitude_deg, station.longitude_deg, elevation_m=station.altitude_m)
+    when = load.timescale(builtin=True).utc(2027, 1, 4)
+    radius_km = 6928.0
+    for elevation, azimuth in [(0.0, 45.0), (10.0, 0.0), (10.0, 90.0), (30.0, 200.0), (89.0, 10.0), (-2.0, 300.0)]:
+        d = slant_range_km(elevation, radius_km, station, azimuth)
+        e, a = np.radians(elevation), np.radians(azimuth)
+        u = np.array([np.cos(e) * np.sin(a), np.cos(e) * np.cos(a), np.sin(e)]) @ station.enu_rotation
+        point = topos.itrs_xyz.km + d * u
+        assert np.linalg.norm(point) == pytest.approx(radius_km, abs=1e-6)
+        alt, az, distance = (ITRSPosition(Distance(km=point)) - topos).at(when).altaz()
+        assert alt.degrees == pytest.approx(elevation, abs=1e-6)
+        assert distance.km == pytest.approx(d, abs=1e-6)
+        assert (az.degrees - azimuth + 180) % 360 - 180 == pytest.approx(0.0, abs=1e-6)
+    # The station's geocentric radius (WGS84 at 52.1 deg N, 142 m: 6365.0 km) and not the equatorial
+    # 6378.137 km: at 10 deg the range to 6928 km is about 40 km longer than the equatorial formula says.
+    assert np.linalg.norm(topos.itrs_xyz.km) == pytest.approx(6364.99, abs=0.01)
+    r = 6378.137
+    equatorial = sqrt(radius_km**2 - (r * np.cos(np.radians(10))) ** 2) - r * np.sin(np.radians(10))
+    assert slant_range_km(10.0, radius_km, station, 0.0) - equatorial > 30.0
+
+
+def test_budget_at_an_elevation_uses_the_station_radius(study):
+    from planner.budget import orbit_radii_km, slant_range_km
+
+    result = run("budget", DEMO, "--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "10", "--format", "json")
+    assert result.returncode == 0, result.stderr
+    document = json.loads(result.stdout)
+    satrec = next(t for t in study.targets if t.display_name == "WRENLING-1").element_set.satrec
+    assert document["range_km"] == pytest.approx(slant_range_km(10.0, orbit_radii_km(satrec)[1], study.station, 0.0), rel=1e-9)
+    assert "WGS84" in document["geometry"]
+
+
+def test_range_the_orbit_cannot_give_is_refused(study):
+    from planner.budget import orbit_radii_km, slant_range_km
+
+    args = ("budget", DEMO, "--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "30")
+    assert_user_error(run(*args, "--range-km", "100"), "--range-km", "100 km", "WRENLING-1", "elevation 30 deg", "allowed")
+    assert_user_error(run(*args, "--range-km", "40000"), "--range-km", "allowed")
+    satrec = next(t for t in study.targets if t.display_name == "WRENLING-1").element_set.satrec
+    fine = slant_range_km(30.0, orbit_radii_km(satrec)[1], study.station, 0.0)
+    assert run(*args, "--range-km", f"{fine:.1f}").returncode == 0
+
+
+def test_pattern_far_from_its_frequency_is_refused_and_near_it_warns(tmp_path, study):
+    args = ("--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "30")
+    table = study.candidate("turnstile-close").pattern
+    name, mhz = table.path.name, f"{table.frequency_hz / 1e6:g} MHz"
+    far = demo_variant(tmp_path, "downlink_mhz = 436.525", f"downlink_mhz = {table.frequency_hz / 1e6 * 1.28:.3f}")
+    assert_user_error(run("budget", far, *args), "turnstile-close", name, mhz, "allowed: within 20 %")
+    near = demo_variant(tmp_path, "downlink_mhz = 436.525", f"downlink_mhz = {table.frequency_hz / 1e6 * 1.05:.3f}")
+    result = run("budget", near, *args)
+    assert result.returncode == 0, result.stderr
+    assert "warning" in result.stderr and f"{name} was computed at {mhz}" in result.stderr
+    quiet = run("budget", DEMO, *args)
+    assert "was computed at" not in quiet.stderr
+
+
+def test_no_feed_data_is_said_in_the_ladder_and_the_comparison(tmp_path):
+    # An image-theory turnstile table (closed form, no feed network) carries no feed_vswr; the demo's
+    # wire-solver tables do. One candidate is pointed at such a table.
+    from planner.patterns import build_pattern, write_pattern
+
+    bare = tmp_path / "bare-turnstile.csv"
+    write_pattern(bare, build_pattern("image-turnstile", spacing_wavelengths=0.25, frequency_hz=436e6))
+    assert load_pattern(bare).feed_vswr is None
+    path = demo_variant(tmp_path, demo_pattern_text(), f'"{bare}"')
+    args = ("--satellite", "WRENLING-1", "--elevation-deg", "30")
+    document = json.loads(run("budget", path, *args, "--candidate", "turnstile-close", "--format", "json").stdout)
+    assert len(document["notes"]) == 1 and "no feed mismatch charged for turnstile-close" in document["notes"][0]
+    assert "bare-turnstile.csv" in document["notes"][0]
+    assert document["mismatch_loss_db"] == 0.0
+    text = run("budget", path, *args, "--candidate", "turnstile-close").stdout
+    assert "note: no feed mismatch charged for turnstile-close" in text and "[[candidate]]" in text
+    assert "no feed mismatch" not in run("budget", path, *args, "--candidate", "loops-round-close").stdout
+    report = tmp_path / "report"
+    result = run("compare", path, "--candidate", "turnstile-close", "--candidate", "loops-round-close", "--quiet", "--report", report)
+    assert result.returncode == 0, result.stderr
+    said = "No feed mismatch was charged for turnstile-close:"
+    assert said in " ".join(result.stdout.split())
+    assert said in (report / "summary.md").read_text()
+    notes = json.loads((report / "compare.json").read_text())["notes"]
+    assert len(notes) == 1 and "turnstile-close" in notes[0] and "loops-round-close" not in notes[0]
+    # The scenario's feed_vswr counts as feed data.
+    given = demo_variant(tmp_path, demo_pattern_text(), f'"{bare}"\nfeed_vswr = 1.5')
+    assert json.loads(run("budget", given, *args, "--candidate", "turnstile-close", "--format", "json").stdout)["notes"] == []

@@ -117,10 +117,15 @@ def test_unknown_environment_lists_allowed():
 
 
 def test_sky_and_ground_brightness():
+    # Beyond the atmosphere (atmospheric_emission=False): galactic + CMB, uniform; ground below.
     t_sky = noise.galactic_noise_temperature_k(435 * MHZ) + 2.725  # + CMB (Fixsen 2009)
-    t = noise.sky_brightness_k(435 * MHZ, np.array([-30.0, -0.1, 0.0, 45.0, 90.0]))
+    t = noise.sky_brightness_k(435 * MHZ, np.array([-30.0, -0.1, 0.0, 45.0, 90.0]), atmospheric_emission=False)
     assert t == pytest.approx([290.0, 290.0, t_sky, t_sky, t_sky])
     assert noise.CMB_K == 2.725
+    # Through the clear atmosphere (the default) the ground is unchanged and the sky is warmer.
+    seen = noise.sky_brightness_k(435 * MHZ, np.array([-30.0, -0.1, 0.0, 45.0, 90.0]))
+    assert seen[:2] == pytest.approx([290.0, 290.0])
+    assert np.all(seen[2:] > t_sky)
 
 
 # --- antenna temperature ------------------------------------------------------------------
@@ -129,15 +134,16 @@ def test_sky_and_ground_brightness():
 def test_isotropic_antenna_sees_half_ground_half_sky():
     # Half of the sphere is ground at 290 K, half is sky at T_s: an isotropic antenna gets
     # exactly (290 + T_s) / 2 from the integral (the quadrature uses exact cell solid angles).
+    # A uniform sky needs the atmosphere's emission left out (it is tested on its own below).
     f = 145.9 * MHZ
     t_s = noise.galactic_noise_temperature_k(f) + noise.CMB_K
-    result = noise.antenna_noise_temperature_k(isotropic(), f, None)
+    result = noise.antenna_noise_temperature_k(isotropic(), f, None, atmospheric_emission=False)
     assert result.sky_k + result.ground_k == pytest.approx((290.0 + t_s) / 2, rel=1e-12)
     assert result.ground_k == pytest.approx(145.0, rel=1e-12)
     assert result.fraction_below_horizon == pytest.approx(0.5, rel=1e-12)
     assert result.man_made_k == 0.0
     # With an environment, P.372 man-made noise is added as received by an omni antenna.
-    with_env = noise.antenna_noise_temperature_k(isotropic(), f, "rural")
+    with_env = noise.antenna_noise_temperature_k(isotropic(), f, "rural", atmospheric_emission=False)
     assert with_env.man_made_k == pytest.approx(noise.man_made_noise_temperature_k(f, "rural"))
     assert with_env.total_k == pytest.approx((290.0 + t_s) / 2 + with_env.man_made_k, rel=1e-12)
 
@@ -145,7 +151,7 @@ def test_isotropic_antenna_sees_half_ground_half_sky():
 def test_upward_looking_antenna_sees_sky_only():
     f = 435 * MHZ
     t_s = noise.galactic_noise_temperature_k(f) + noise.CMB_K
-    result = noise.antenna_noise_temperature_k(upper_hemisphere_only(), f, None)
+    result = noise.antenna_noise_temperature_k(upper_hemisphere_only(), f, None, atmospheric_emission=False)
     # Ground leaks in only through the -60 dBic floor: 290 K * 1e-6 / 2 ~ 1.5e-4 K.
     assert result.ground_k < 1e-3
     assert result.fraction_below_horizon < 1e-6
@@ -240,3 +246,124 @@ def test_receive_chain_without_lna():
         noise.receive_chain(
             50.0, feedline_loss_db=2.0, lna_noise_figure_db=0.5, lna_gain_db=None, receiver_noise_figure_db=6.0
         )
+
+
+# --- the clear atmosphere's own emission (ITU-R P.372) --------------------------------------
+
+P372_TMR_SEA_LEVEL_K = 37.34 + 0.81 * 288.15  # P.372-16 eq. 11 at the P.835 sea-level 288.15 K
+
+
+@pytest.mark.parametrize(
+    "frequency_hz, elevation_deg",
+    [(145.9 * MHZ, 3.3), (436.5 * MHZ, 0.7), (436.5 * MHZ, 5.5), (436.5 * MHZ, 90.0), (2245 * MHZ, 12.4)],
+)
+def test_sky_brightness_is_p372_clear_air_by_hand(frequency_hz, elevation_deg):
+    # ITU-R P.372-16 eq. 10: T_sky = T_ext 10^(-A/10) + T_mr (1 - 10^(-A/10)), T_mr = 37.34 + 0.81 T_s
+    # (eq. 11). A from itur's own P.676 exact mode at sea level (not the planner's spline), T_ext the
+    # P.372 galactic line + 2.725 K. itur has no P.372 function, so the formula is the reference.
+    from itur.models import itu676
+
+    loss_db = float(itu676.gaseous_attenuation_slant_path(frequency_hz / 1e9, elevation_deg, 7.5, 1013.25, 288.15, mode="exact").value)
+    tau = 10 ** (-loss_db / 10)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", PlannerWarning)
+        t_ext = noise.galactic_noise_temperature_k(frequency_hz) + noise.CMB_K
+        expected = t_ext * tau + P372_TMR_SEA_LEVEL_K * (1 - tau)
+        assert noise.sky_brightness_k(frequency_hz, elevation_deg) == pytest.approx(expected, abs=0.01)
+
+
+def test_atmosphere_warms_the_uhf_sky_and_cools_the_vhf_one():
+    # At 436 MHz the sky beyond (about 42 K) is colder than the air (T_mr 271 K), so the air adds
+    # (its emission less the background it absorbs, P.372 eq. 10 with P.676 A = 0.021 dB at the
+    # zenith, 0.22 dB at 5 deg): (271 - 42)(1 - 10^-0.0021) = 1.1 K, (271 - 42)(1 - 10^-0.022) = 11 K,
+    # and over 30 K near the horizon.
+    # At 145.9 MHz the galaxy (about 480 K) is hotter than the air, which then absorbs more than it adds.
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", PlannerWarning)
+        t_ext = noise.galactic_noise_temperature_k(436 * MHZ) + noise.CMB_K
+        added = noise.sky_brightness_k(436 * MHZ, np.array([90.0, 5.0, 0.5])) - t_ext
+        assert added[0] == pytest.approx(1.1, abs=0.1)
+        assert added[1] == pytest.approx(11.0, abs=1.0)
+        assert added[2] > 30.0
+        vhf = noise.sky_brightness_k(145.9 * MHZ, np.array([90.0, 2.0]))
+        assert np.all(vhf < noise.galactic_noise_temperature_k(145.9 * MHZ) + noise.CMB_K)
+
+
+@pytest.mark.parametrize("frequency_hz", [145.9 * MHZ, 436.5 * MHZ, 2245 * MHZ])
+def test_antenna_temperature_with_the_atmosphere_matches_an_independent_integral(frequency_hz):
+    # An antenna of uniform gain over the upper hemisphere: T_A = int_0^1 T_sky(asin u) du (u = sin el,
+    # equal solid angle per du), by adaptive quadrature of P.372 eq. 10 on the planner's P.676 loss.
+    # The vectorized cell sum (0.5 deg bands, brightness once per band) must agree within 0.01 K.
+    from scipy.integrate import quad
+
+    from planner import atmosphere
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", PlannerWarning)
+        t_ext = noise.galactic_noise_temperature_k(frequency_hz) + noise.CMB_K
+
+        def sky(u):
+            tau = 10 ** (-atmosphere.gaseous_loss_db(frequency_hz, math.degrees(math.asin(u))) / 10)
+            return t_ext * tau + P372_TMR_SEA_LEVEL_K * (1 - tau)
+
+        reference = quad(sky, 0.0, 1.0, limit=200)[0]
+        result = noise.antenna_noise_temperature_k(upper_hemisphere_only(), frequency_hz, None)
+        assert result.total_k == pytest.approx(reference, abs=0.01)
+        # The emission part alone, and a higher station sees less of it.
+        assert 0 < result.atmosphere_k < result.sky_k
+        high = noise.antenna_noise_temperature_k(upper_hemisphere_only(), frequency_hz, None, altitude_m=2000.0)
+        assert high.atmosphere_k < result.atmosphere_k
+    if frequency_hz > 400 * MHZ:
+        # From UHF up the atmosphere adds several kelvin to an antenna that sees the whole sky.
+        assert result.total_k - (t_ext) > 3.0
+
+
+# --- feed mismatch in the cascade -----------------------------------------------------------
+
+
+def test_mismatched_lossless_antenna_delivers_k_290_b_m():
+    # Pozar, Microwave Engineering (noise of a mismatched source): a lossless antenna seeing a uniform
+    # 290 K scene, behind a mismatch M = 1 - |Gamma|^2, delivers k 290 K B M to a matched load. Here the
+    # scene is 290 K ground only (a pattern looking down), the chain a noiseless receiver with no line.
+    from planner.feedline import mismatch_loss_db
+
+    down = DuckPattern(lambda az, el: np.where(el < 0, 2.0, 0.0))
+    t_a = noise.antenna_noise_temperature_k(down, 435 * MHZ, None, ground_temperature_k=290.0).total_k
+    assert t_a == pytest.approx(290.0, abs=1e-3)
+    for vswr in (1.0, 2.0, 4.0):
+        gamma = (vswr - 1) / (vswr + 1)
+        m = 1 - gamma**2
+        chain = noise.receive_chain(
+            t_a, mismatch_loss_db=float(mismatch_loss_db(vswr)), feedline_loss_db=0.0,
+            lna_noise_figure_db=None, receiver_noise_figure_db=0.0,
+        )
+        delivered_k = chain.system_noise_temperature_k * 10 ** (chain.gain_to_receiver_db / 10)
+        assert delivered_k == pytest.approx(290.0 * m, abs=1e-3)
+        assert chain.breakdown["mismatch"] == 0.0  # a lossless mismatch adds no noise of its own
+
+
+def test_mismatch_divides_the_chain_after_it():
+    # Referred to the antenna terminals: T_sys = T_A + T_chain / M (Friis with a noiseless stage of gain M).
+    common = dict(feedline_loss_db=3.0, lna_noise_figure_db=0.5, lna_gain_db=20.0, receiver_noise_figure_db=6.0)
+    m = 1 - (3 / 5) ** 2  # VSWR 4: |Gamma| = 0.6
+    chain = noise.receive_chain(100.0, mismatch_loss_db=-10 * math.log10(m), **common)
+    assert chain.system_noise_temperature_k == pytest.approx(100.0 + LNA_FIRST_K / m, abs=0.02)
+    assert list(chain.breakdown) == ["antenna", "mismatch", "lna", "feedline", "receiver"]
+    assert chain.chain_noise_temperature_k == pytest.approx(LNA_FIRST_K / m, abs=0.02)
+
+
+def test_pre_lna_loss_sits_before_the_lna():
+    # A 0.5 dB jumper + bias-tee before the LNA (L = 1.12202): Friis by hand with the worked example above,
+    #   T = (L - 1) 290 + L * 55.52 = 35.385 + 62.295 = 97.68 K, against 55.52 + 0.5 dB more after the LNA
+    #   (about 55.8 K): charged before the LNA it costs 42 K, not 0.3 K.
+    common = dict(feedline_loss_db=3.0, lna_noise_figure_db=0.5, lna_gain_db=20.0, receiver_noise_figure_db=6.0)
+    loss = 10 ** 0.05
+    chain = noise.receive_chain(0.0, pre_lna_loss_db=0.5, **common)
+    assert chain.system_noise_temperature_k == pytest.approx((loss - 1) * 290 + loss * LNA_FIRST_K, abs=0.02)
+    assert chain.breakdown["pre_lna"] == pytest.approx((loss - 1) * 290)
+    assert list(chain.breakdown) == ["antenna", "pre_lna", "lna", "feedline", "receiver"]
+    # With the LNA at the receiver end, the pre-LNA loss simply joins the run before it.
+    after = noise.receive_chain(0.0, pre_lna_loss_db=0.5, lna_at_antenna=False, **common)
+    joined = noise.receive_chain(0.0, lna_at_antenna=False, **dict(common, feedline_loss_db=3.5))
+    assert after.system_noise_temperature_k == pytest.approx(joined.system_noise_temperature_k, rel=1e-12)
+    assert list(after.breakdown) == ["antenna", "pre_lna", "feedline", "lna", "receiver"]

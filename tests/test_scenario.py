@@ -470,6 +470,37 @@ BAD_CASES = [
         ['satellite #2 (TARN\\nBECK).name', "control characters"],
         id="name with a newline",
     ),
+    # Losses between the antenna and the LNA (candidate keys, defaults in [receiver]).
+    pytest.param(
+        'name = "turnstile-close"\n',
+        'name = "turnstile-close"\npre_lna_loss_db = -1\n',
+        ["candidate #1 (turnstile-close).pre_lna_loss_db: -1 is out of range; allowed: 0 to 10"],
+        id="negative pre-LNA loss",
+    ),
+    pytest.param(
+        'name = "turnstile-close"\n',
+        'name = "turnstile-close"\npre_lna_connectors = 1.5\n',
+        ["candidate #1 (turnstile-close).pre_lna_connectors: expected a whole number, got 1.5", "0 to 30"],
+        id="fractional pre-LNA connectors",
+    ),
+    pytest.param(
+        'name = "turnstile-close"\n',
+        'name = "turnstile-close"\npre_lna_feedline = [{ cable = "RG-58" }]\n',
+        ["candidate #1 (turnstile-close).pre_lna_feedline #1.length_m: missing required key", "more than 0, up to 1000"],
+        id="pre-LNA run without a length",
+    ),
+    pytest.param(
+        'name = "turnstile-close"\n',
+        'name = "turnstile-close"\npre_lna_los_db = 0.2\n',
+        ["candidate #1 (turnstile-close).pre_lna_los_db: unknown key (did you mean pre_lna_loss_db?)"],
+        id="misspelt pre-LNA key",
+    ),
+    pytest.param(
+        "lna_gain_db = 20",
+        "lna_gain_db = 20\npre_lna_loss_db = 11",
+        ["receiver.pre_lna_loss_db: 11 is out of range; allowed: 0 to 10"],
+        id="receiver pre-LNA loss too large",
+    ),
     # tomllib (the reference parser) reports the line of the broken table header.
     pytest.param(
         "[window]",
@@ -648,3 +679,17 @@ def test_mutations_give_a_scenario_or_a_user_error(tree: Path, text: str) -> Non
     names = [sat.name for sat in scenario.satellite]
     assert names and len(set(names)) == len(names)
     assert all(sat.elements.is_file() and math.isfinite(sat.downlink_mhz) for sat in scenario.satellite)
+
+
+def test_pre_lna_cable_is_checked_like_the_feedline(tree: Path) -> None:
+    # An unknown cable in pre_lna_feedline: one line naming the file, the key and the cables allowed.
+    from planner.study import Study
+
+    path = _variant(tree, 'name = "turnstile-close"\n', 'name = "turnstile-close"\npre_lna_feedline = [{ cable = "RG-999", length_m = 1 }]\n')
+    study = Study.from_scenario(load_scenario(path))
+    with pytest.raises(UserError) as info:
+        study.candidate("turnstile-close")
+    message = str(info.value)
+    assert "\n" not in message
+    assert message.startswith(f"{path}: candidate #1 (turnstile-close).pre_lna_feedline #1: "), message
+    assert "RG-999" in message and "RG-58" in message
