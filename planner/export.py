@@ -1,4 +1,4 @@
-"""Machine-readable outputs: the column contracts of DESIGN.md as CSV and JSON."""
+"""Machine-readable outputs: the output column contracts as CSV and JSON."""
 
 from __future__ import annotations
 

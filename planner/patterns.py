@@ -1,7 +1,7 @@
 """Antenna pattern tables: the file format, loading, interpolation, polarization per direction,
 and the analytic generators behind the shipped tables.
 
-Table format (our own, see DESIGN.md)
+Table format (our own, see patterns/README.md)
 -------------------------------------
 A UTF-8 CSV file::
 

@@ -23,7 +23,7 @@ wave the antenna is matched to.  This is ``cos^2`` of half the angle between the
 points on the Poincare sphere, whose Stokes unit vectors are
 ``(cos2tau cos2tilt, cos2tau sin2tilt, sin2tau)``.
 
-It is the axial-ratio form of REFERENCES.md.  With signed axial ratios ``r`` (|r| >= 1,
+It is Stutzman's axial-ratio form.  With signed axial ratios ``r`` (|r| >= 1,
 sign = sense) ``tan(tau) = 1/r``, hence::
 
     sin2tau = 2 tan(tau) / (1 + tan^2 tau) = 2 r / (r^2 + 1)

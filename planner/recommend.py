@@ -53,7 +53,7 @@ class Recommendation:
     notes: list[str] = field(default_factory=list)  # e.g. candidates charged no feed mismatch
 
     def to_contract(self) -> dict:
-        """The `planner compare --format json` document of DESIGN.md (plus a few extra keys)."""
+        """The `planner compare --format json` document (its contract keys plus a few extra)."""
         return {
             "recommended": self.recommended,
             "objective": self.objective,

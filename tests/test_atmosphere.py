@@ -58,7 +58,7 @@ def test_zenith_loss_is_the_integral_of_specific_attenuation():
 
 
 def test_uhf_well_under_one_db_above_5_deg():
-    # REFERENCES.md (ITU-R P.676): well under 1 dB on UHF slant paths above 5 deg elevation.
+    # ITU-R P.676: well under 1 dB on UHF slant paths above 5 deg elevation.
     elevation = np.linspace(5.0, 90.0, 50)
     for f_hz in (300 * MHZ, 436.5 * MHZ, 1000 * MHZ):
         loss = atmosphere.gaseous_loss_db(f_hz, elevation)

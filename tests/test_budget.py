@@ -46,7 +46,7 @@ def run(*args):
 
 def test_free_space_loss_itu_p525():
     # ITU-R P.525: L = 32.45 + 20 log f[MHz] + 20 log d[km]; 435 MHz at 1000 km = 145.22 dB
-    # (../shared/REFERENCES.md). The constant 32.45 is rounded, hence 0.01 dB.
+    # The constant 32.45 is rounded, hence 0.01 dB.
     assert free_space_loss_db(435e6, 1000.0) == pytest.approx(145.22, abs=0.01)
     assert free_space_loss_db(145.8e6, 2574.5) == pytest.approx(32.45 + 20 * log10(145.8) + 20 * log10(2574.5), abs=0.01)
 
@@ -94,7 +94,7 @@ def test_end_to_end_budget_recomputed_by_hand(study):
     t_sys = t_ant + (t_lna + (line - 1) * receiver.feedline_temperature_k / g_lna + line * t_rx / g_lna) / m
     assert row["system_noise_temperature_k"] == pytest.approx(t_sys, rel=1e-6)
     atm = float(row["atmospheric_loss_db"])
-    assert 0.0 < atm < 1.0  # well under 1 dB on UHF above 5 deg (ITU-R P.676, REFERENCES.md)
+    assert 0.0 < atm < 1.0  # well under 1 dB on UHF above 5 deg (ITU-R P.676)
 
     cn0 = eirp - fsl - atm - pol_loss + rx_gain + 228.60 - 10 * log10(t_sys)
     ebn0 = cn0 - 10 * log10(sat.data_rate_bps)

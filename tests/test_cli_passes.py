@@ -41,7 +41,7 @@ def assert_user_error(result, *fragments):
 
 
 def test_csv_follows_the_contract(tmp_path):
-    # Output contract of DESIGN.md: one row a pass with these columns, UTC ending in Z.
+    # Output contract: one row a pass with these columns, UTC ending in Z.
     out = tmp_path / "passes.csv"
     result = run("passes", DEMO, "--format", "csv", "--output", out)
     assert result.returncode == 0, result.stderr

@@ -15,7 +15,7 @@ from planner.errors import PlannerWarning, UserError
 MHZ = 1e6
 
 
-# REFERENCES.md "Lines and matching": typical coaxial attenuation near 400 MHz per 100 m
+# Manufacturers' data sheets, from memory: typical coaxial attenuation near 400 MHz per 100 m
 # (from memory, datasheet-typical, +/-25 %): RG-174 ~55, RG-58 ~30, RG-8X ~21, RG-213 ~15 dB.
 @pytest.mark.parametrize(
     "name, expected_db_per_100m",
@@ -98,7 +98,7 @@ def test_mismatch_loss_pozar():
 
 
 def test_line_noise_worked_example():
-    # REFERENCES.md: a lossy line of loss L at 290 K adds (L - 1) 290 K at its input.
+    # Pozar, noise of a lossy line: loss L at 290 K adds (L - 1) 290 K at its input.
     # 1 dB: L = 10^0.1 = 1.2589, (0.2589)(290) = 75.1 K.
     assert fl.line_noise_temperature_k(1.0) == pytest.approx(75.1, abs=0.05)
     assert fl.line_noise_temperature_k(0.0) == 0.0

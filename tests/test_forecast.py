@@ -162,7 +162,7 @@ def test_windows_do_not_span_two_passes(study):
 
 
 def test_data_volume_is_usable_time_times_rate_times_framing(day, study):
-    # Definition (issue 4): data volume = usable seconds x data rate x framing efficiency, and 0
+    # Definition (the forecast's contract): data volume = usable seconds x data rate x framing efficiency, and 0
     # for FM voice whose usable time still counts; value = weight x volume (objective data_volume).
     out = day.outcomes
     assert len(out) > 0
@@ -247,7 +247,7 @@ def test_pass_table_local_hour_and_band(day, study):
 
 
 def test_weekly_table_contract_and_totals(day, study):
-    # DESIGN.md "planner week" contract columns, then totals recomputed from the per-pass rows.
+    # The "planner week" contract columns, then totals recomputed from the per-pass rows.
     weekly = day.weekly
     assert list(weekly.columns[: len(WEEK_COLUMNS)]) == WEEK_COLUMNS
     assert len(weekly) == len(study.candidate_names) * len(study.scenario.satellite)

@@ -1,6 +1,6 @@
 """Phasing-harness arithmetic (planner.harness) against hand calculations, the polarization
 ellipse traced independently (Born & Wolf, Principles of Optics, sec. 1.4; Stutzman, Polarization
-in Electromagnetic Systems), Stutzman's polarization efficiency (REFERENCES.md) and Pozar's line
+in Electromagnetic Systems), Stutzman's polarization efficiency and Pozar's line
 formulas (Microwave Engineering)."""
 
 from __future__ import annotations
@@ -48,7 +48,7 @@ def ellipse_by_stokes(a1: float, a2: float, delta_rad: float) -> float:
 
 
 def stutzman_efficiency(r_w: float, r_a: float, dtilt_rad: float = 0.0) -> float:
-    """Polarization efficiency between signed axial ratios (Stutzman; REFERENCES.md)."""
+    """Polarization efficiency between signed axial ratios (Stutzman)."""
     return 0.5 + (4 * r_w * r_a + (1 - r_w**2) * (1 - r_a**2) * math.cos(2 * dtilt_rad)) / (
         2 * (1 + r_w**2) * (1 + r_a**2)
     )
@@ -136,7 +136,7 @@ def test_axial_ratio_from_circular_components_matches_the_traced_ellipse(d_deg, 
 @pytest.mark.parametrize("d_deg", [0.0, 5.0, 20.0, 45.0, 80.0, 100.0, 150.0])
 def test_loss_against_rhcp_matches_stutzman_efficiency(d_deg):
     # Independent route: AR and sense from the traced ellipse, then Stutzman's efficiency with an
-    # ideal RHCP antenna (r_a = +1), no tilt dependence for a circular antenna (REFERENCES.md).
+    # ideal RHCP antenna (r_a = +1), no tilt dependence for a circular antenna (Stutzman).
     delta = -math.radians(90.0 + d_deg)
     jones = (1.0 + 0j, complex(math.cos(delta), math.sin(delta)))
     ar, sense = ellipse_by_time_trace(jones)

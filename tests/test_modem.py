@@ -2,8 +2,8 @@
 
 External references used here:
 * Sklar, *Digital Communications* (2nd ed.), and Proakis, *Digital Communications*:
-  AWGN bit error probabilities and the Eb/N0 needed for BER 1e-5 (values as listed in
-  /work/shared/REFERENCES.md, "Modulation").
+  AWGN bit error probabilities and the Eb/N0 needed for BER 1e-5 (the tabulated AWGN values
+  of those texts).
 * Murota & Hirade, "GMSK modulation for digital mobile radio telephony", IEEE Trans.
   Commun. 1981, via Rappaport, *Wireless Communications*: Pb = Q(sqrt(2 alpha Eb/N0)),
   alpha = 0.68 at BT = 0.25, 0.85 at BT = infinity (from memory).
@@ -36,7 +36,7 @@ from planner import modem
 THEORY = [m for m in MODULATIONS if m not in NO_THEORY]
 
 
-# Sklar, Digital Communications: Eb/N0 for Pb = 1e-5 (REFERENCES.md, Modulation).
+# Sklar, Digital Communications: Eb/N0 for Pb = 1e-5 (tabulated AWGN values).
 @pytest.mark.parametrize(
     "modulation, expected_db",
     [

@@ -1,6 +1,6 @@
 """Thin-wire method of moments (planner.synth) against published antenna theory.
 
-Sources: Balanis, Antenna Theory: Analysis and Design (ch. 2, 4; REFERENCES.md "Antennas");
+Sources: Balanis, Antenna Theory: Analysis and Design (ch. 2, 4);
 Harrington, Field Computation by Moment Methods (1968) for the method; circuit theory for loads
 and ports; IEEE Std 145 for the sense of circular polarization.
 """
@@ -58,7 +58,7 @@ def z_in(model, **kw):
 
 
 def test_copper_skin_depth_at_435_mhz():
-    # REFERENCES.md (Antennas): delta = sqrt(rho / (pi f mu0)), copper 1.68e-8 ohm m at 435 MHz is 3.13 um
+    # Skin depth (Balanis ch. 2): delta = sqrt(rho / (pi f mu0)), copper 1.68e-8 ohm m at 435 MHz is 3.13 um
     assert MATERIALS["copper"] == pytest.approx(1.68e-8)
     assert skin_depth_m(MATERIALS["copper"], 435e6) == pytest.approx(3.13e-6, abs=0.005e-6)
     rs = surface_resistance_ohm(1.68e-8, 435e6)
@@ -165,7 +165,7 @@ def _two_dipoles(angle_deg=60.0, separation=0.05 * LAM, ground="free-space", hei
     ids=["free-vertical", "pec-horizontal", "pec-vertical", "pec-slanted", "free-two-port", "pec-two-port"],
 )
 def test_radiated_power_equals_input_power_for_lossless_wires(model, voltages):
-    # REFERENCES.md / energy conservation: the far field integrated over the sphere (the upper
+    # Energy conservation: the far field integrated over the sphere (the upper
     # half over a perfect ground) equals 0.5 Re(V I*) for lossless wires; within 1 %.
     sol = solve(model)
     p_in = sol.input_power_w(voltages)
@@ -175,7 +175,7 @@ def test_radiated_power_equals_input_power_for_lossless_wires(model, voltages):
 
 
 def test_horizontal_dipole_half_wavelength_above_ground_has_zenith_null():
-    # Balanis ch. 4 (REFERENCES.md): horizontal current at h above a PEC plane, array factor
+    # Balanis ch. 4: horizontal current at h above a PEC plane, array factor
     # 2 sin(k h sin E); h = lambda/2 puts a null at the zenith and the maximum at 30 deg in the
     # plane perpendicular to the dipole (there the element pattern is uniform).
     h = 0.5 * LAM
@@ -190,7 +190,7 @@ def test_horizontal_dipole_half_wavelength_above_ground_has_zenith_null():
 
 
 def test_horizontal_dipole_quarter_wavelength_above_ground_peaks_at_zenith():
-    # Balanis ch. 4 (REFERENCES.md): h = lambda/4 puts the maximum at the zenith.
+    # Balanis ch. 4: h = lambda/4 puts the maximum at the zenith.
     sol = solve(dipole_model(ground="pec", centre=(0, 0, 0.25 * LAM), axis=(1, 0, 0)))
     el = np.arange(0.0, 90.0001, 0.1)
     for az in (0.0, 90.0, 45.0):

@@ -44,7 +44,7 @@ def upper_hemisphere_only():
 
 
 def test_noise_figure_to_temperature():
-    # REFERENCES.md: T = 290 (10^(NF/10) - 1): 0.5 dB -> 35.4 K, 1 dB -> 75.1 K.
+    # IEEE noise-figure definition: T = 290 (10^(NF/10) - 1): 0.5 dB -> 35.4 K, 1 dB -> 75.1 K.
     assert noise.noise_figure_to_temperature_k(0.5) == pytest.approx(35.4, abs=0.05)
     assert noise.noise_figure_to_temperature_k(1.0) == pytest.approx(75.1, abs=0.05)
     # 3.01 dB is 290 K (T = T0 at NF = 10 log10 2).
@@ -66,7 +66,7 @@ def test_boltzmann_dbw():
 
 
 def test_galactic_noise_references():
-    # REFERENCES.md (ITU-R P.372, from memory): Fa = 52.0 - 23.0 log10 f; T = 290 * 10^(Fa/10):
+    # ITU-R P.372 (from memory): Fa = 52.0 - 23.0 log10 f; T = 290 * 10^(Fa/10):
     # 145 MHz about 490 K, 435 MHz about 39 K (within 10 %).
     assert noise.galactic_noise_temperature_k(145 * MHZ) == pytest.approx(490.0, rel=0.10)
     assert noise.galactic_noise_temperature_k(435 * MHZ) == pytest.approx(39.0, rel=0.10)
@@ -77,7 +77,7 @@ def test_galactic_noise_references():
     [("city", 76.8, 27.7), ("residential", 72.5, 27.7), ("rural", 67.2, 27.7), ("quiet_rural", 53.6, 28.6)],
 )
 def test_man_made_constants_at_145_mhz(category, c, d):
-    # ITU-R P.372 (REFERENCES.md, from memory): Fa = c - d log10 f_MHz, inside 0.3-250 MHz.
+    # ITU-R P.372 (from memory): Fa = c - d log10 f_MHz, inside 0.3-250 MHz.
     # Hand values: log10 145 = 2.1614; rural 67.2 - 27.7 * 2.1614 = 7.33 dB -> 290 * 5.41 = 1569 K.
     with warnings.catch_warnings():
         warnings.simplefilter("error")  # 145 MHz is inside the range: no warning
@@ -99,7 +99,7 @@ def test_man_made_ordering():
 
 
 def test_man_made_extrapolation_warns_at_435_mhz():
-    # P.372 gives the man-made lines for 0.3-250 MHz (REFERENCES.md): 435 MHz is extrapolated.
+    # P.372 gives the man-made lines for 0.3-250 MHz (ITU-R P.372): 435 MHz is extrapolated.
     with pytest.warns(PlannerWarning, match="extrapolated"):
         t = noise.man_made_noise_temperature_k(435 * MHZ, "rural")
     # Still the same formula: 67.2 - 27.7 log10 435 = -5.89 dB -> 75 K.

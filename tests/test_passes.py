@@ -68,7 +68,7 @@ def skyfield_passes(element_set, station, start, end, altitude_deg):
 @pytest.mark.parametrize("site_name", list(SITES))
 def test_passes_match_skyfield(element_sets, site_name):
     # Reference: skyfield EarthSatellite.find_events (rise/culminate/set) and altaz.
-    # Required agreement (issue "Foundation"): AOS/LOS within 1 s, maximum elevation
+    # Required agreement: AOS/LOS within 1 s, maximum elevation
     # within 0.01 deg, same number of passes.
     station = SITES[site_name]
     end = START + timedelta(days=2)
@@ -99,7 +99,7 @@ def test_range_rate_matches_skyfield(element_sets):
 
 
 def slant_range_km(radius_km, height_km, elevation_deg):
-    """Spherical-Earth slant range, Wertz & Larson (SMAD); ../shared/REFERENCES.md."""
+    """Spherical-Earth slant range, Wertz & Larson (SMAD)."""
     e = radians(elevation_deg)
     return sqrt((radius_km + height_km) ** 2 - (radius_km * cos(e)) ** 2) - radius_km * sin(e)
 
@@ -108,7 +108,7 @@ def test_slant_range_against_spherical_geometry(tmp_path):
     # A near-circular equatorial orbit seen from the equator passes through the zenith;
     # on the equator the geodetic and geocentric verticals agree, so the spherical
     # formula (R = the site's geocentric radius, R + h = the satellite's) applies exactly.
-    # Source: Wertz & Larson, SMAD (../shared/REFERENCES.md); tolerance 0.5 % per the issue.
+    # Source: Wertz & Larson, SMAD ; tolerance 0.5 %.
     path = tmp_path / "eq.tle"
     write_three_line(path, [("EQ-500", make_tle(99810, height_km=500, inclination_deg=0.0, eccentricity=0.0001))])
     element_set = read_elements(path)[0]
@@ -132,14 +132,14 @@ def test_slant_range_against_spherical_geometry(tmp_path):
 
 
 def test_reference_slant_ranges_from_references_md():
-    # The worked values in ../shared/REFERENCES.md (R = 6378.137 km, h = 500 km).
+    # Worked values from the same formula (R = 6378.137 km, h = 500 km).
     assert slant_range_km(6378.137, 500, 0) == pytest.approx(2574.5, abs=0.1)
     assert slant_range_km(6378.137, 500, 10) == pytest.approx(1695.1, abs=0.1)
     assert slant_range_km(6378.137, 500, 90) == pytest.approx(500.0, abs=1e-9)
 
 
 def test_doppler_sign_and_leo_peak(element_sets):
-    # f_d = -f * range_rate / c (../shared/REFERENCES.md): approaching (range falling)
+    # f_d = -f * range_rate / c (first-order Doppler): approaching (range falling)
     # is a positive shift. The LEO peak at 435 MHz stays under about 11 kHz
     # (common practice, no published source).
     station = SITES["high-north"]

@@ -118,7 +118,7 @@ def skyfield_reference(element_set, station, start, end):
 def test_batch_engine_matches_skyfield_on_varied_orbits(catalog):
     # Reference: skyfield EarthSatellite.find_events (rise/culminate/set) and altaz, on
     # 300 invented orbits (LEO at many inclinations, eccentric, retrograde) over 12 h.
-    # Required (issue "Scale and hardening"): same pass count, AOS/LOS within 1 s,
+    # Required: same pass count, AOS/LOS within 1 s,
     # maximum elevation within 0.01 deg.  Beyond that, AOS/LOS agree with the zero of
     # skyfield's altitude (refined around find_events' times) within 20 ms.
     end = START + timedelta(hours=12)
@@ -224,7 +224,7 @@ def _same_passes(a, b):
 
 
 def test_results_do_not_depend_on_chunking_or_workers(catalog):
-    # Determinism (issue: identical results whatever the chunking or worker count):
+    # Determinism (identical results whatever the chunking or worker count):
     # all 40 satellites in one chunk in this process, chunks of 7 in this process, and
     # chunks of 7 over 2 worker processes must give the same passes, bit for bit, sorted
     # by (AOS, NORAD id).  A horizon mask with walls exercises the azimuth path.

@@ -5,13 +5,13 @@ External facts the checks rest on, each repeated beside its check:
   cos(pi/2 cos psi)/sin psi, radiation resistance eta/(4 pi) Cin(2 pi) = 73 ohm, directivity
   4/Cin(2 pi) = 1.64 (2.15 dBi); image theory for a horizontal current at height h above a perfect
   conductor: array factor 2 sin(k h sin E), nulls at sin E = n lambda/(2h), maxima at
-  sin E = (2n+1) lambda/(4h) (also REFERENCES.md).
+  sin E = (2n+1) lambda/(4h) (Balanis ch. 4).
 - Balanis ch. 8 (induced EMF): mutual resistance of two parallel side-by-side half-wave dipoles at
   distance d, R21 = eta/(4 pi) [2 Ci(u0) - Ci(u1) - Ci(u2)], u0 = k d, u1 = k(sqrt(d^2+l^2)+l),
   u2 = k(sqrt(d^2+l^2)-l) (formula from memory; checked below against its own d -> 0 limit, which
   must give the self resistance). Ci and Cin come from scipy.special.sici.
 - Energy conservation: the far field integrated over the sphere is the radiated power, so a
-  lossless antenna's gain averages to 1 over the sphere (REFERENCES.md).
+  lossless antenna's gain averages to 1 over the sphere (Balanis ch. 2).
 - IEEE Std 145 polarization sense; Stutzman, Polarization in Electromagnetic Systems: axial ratio
   from the circular components, AR = (|E_R| + |E_L|)/| |E_R| - |E_L| |, tan(tau) = 1/AR with
   sin(2 tau) = (G_R - G_L)/(G_R + G_L).
@@ -151,7 +151,7 @@ def test_free_space_crossed_dipoles_in_quadrature():
 
 
 # ---------------------------------------------------------------------------------------------
-# Image theory over a perfect conductor (Balanis ch. 4 and 8; REFERENCES.md)
+# Image theory over a perfect conductor (Balanis ch. 4 and 8)
 # ---------------------------------------------------------------------------------------------
 
 
@@ -211,7 +211,7 @@ def test_table_is_free_space_turnstile_times_image_array_factor(spacing, shipped
 
 @pytest.mark.parametrize("spacing", IMAGE_SPACINGS_WAVELENGTHS)
 def test_array_factor_nulls(spacing, shipped):
-    # Balanis ch. 4 / REFERENCES.md: nulls where sin E = n lambda / (2 h), n = 0, 1, ...
+    # Balanis ch. 4: nulls where sin E = n lambda / (2 h), n = 0, 1, ...
     table = shipped[spacing]
     n = np.arange(0, int(2 * spacing) + 1)
     null_el = np.degrees(np.arcsin(n / (2 * spacing)))
@@ -228,10 +228,10 @@ def test_array_factor_nulls(spacing, shipped):
 def test_array_factor_maxima_and_nulls_for_quarter_half_and_one_wavelength(shipped):
     el = np.arange(0.0, 90.1, 0.5)
     for az in (0.0, 90.0):
-        # h = lambda/4: sin E = 1 -> maximum at the zenith (REFERENCES.md).
+        # h = lambda/4: sin E = 1 -> maximum at the zenith (Balanis ch. 4).
         g = shipped[0.25].total_gain_dbi(az, el)
         assert el[np.argmax(g)] == 90.0
-        # h = lambda/2: null at the zenith, array-factor maximum at 30 deg (REFERENCES.md); the
+        # h = lambda/2: null at the zenith, array-factor maximum at 30 deg (Balanis ch. 4); the
         # element factor falls toward the horizon, so the gain peak sits a little above 30 deg.
         g = shipped[0.5].total_gain_dbi(az, el)
         assert g[-1] == pytest.approx(10 * math.log10(2) + P.GAIN_FLOOR_DBIC, abs=1e-9)
@@ -278,7 +278,7 @@ def test_turnstile_zenith_is_rhcp_and_low_angles_are_nearly_linear(spacing, ship
 
 @pytest.mark.parametrize("name", list(P.SHIPPED_PATTERNS))
 def test_total_gain_integrates_to_4pi(name):
-    # Energy conservation (REFERENCES.md): total gain (relative to the input power) integrated over
+    # Energy conservation (Balanis ch. 2): total gain (relative to the input power) integrated over
     # the sphere is 4 pi times the radiation efficiency (1 for the lossless analytic tables; the
     # wire-solver tables include copper loss and record the efficiency in their header).
     # Integrated here independently of the generator's quadrature: on the table's own grid,

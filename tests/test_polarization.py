@@ -2,7 +2,7 @@
 
 External references used here:
 * Stutzman, *Polarization in Electromagnetic Systems*: polarization efficiency in
-  ellipticity/tilt form and in axial-ratio form (REFERENCES.md, "Polarization"), the
+  ellipticity/tilt form and in axial-ratio form (Stutzman), the
   Poincare-sphere meaning of the efficiency, and the classic cases (same-sense circular
   0 dB, linear against circular 3.01 dB, opposite circular no coupling).
 * IEEE Std 145 definitions: axial ratio, sense, and the decomposition of a state into
@@ -37,7 +37,7 @@ INF = float("inf")
 
 
 def stutzman_axial_ratio_form(r_w, r_a, dtilt_rad):
-    """REFERENCES.md (Stutzman): p from signed axial ratios (|r| >= 1, sign = sense)."""
+    """Stutzman: p from signed axial ratios (|r| >= 1, sign = sense)."""
     return 0.5 + (4 * r_w * r_a + (1 - r_w**2) * (1 - r_a**2) * np.cos(2 * dtilt_rad)) / (
         2 * (1 + r_w**2) * (1 + r_a**2)
     )
@@ -70,7 +70,7 @@ def test_linear_against_circular_is_3db(kind, g_r, g_l):
 
 
 def test_opposite_circular_is_rejected():
-    # Cross-circular: no coupling at all (Stutzman; REFERENCES.md); clipped at 60 dB.
+    # Cross-circular: no coupling at all (Stutzman); clipped at 60 dB.
     for kind, g_r, g_l in (("lhcp", 0.0, -INF), ("rhcp", -INF, 0.0), ("lhcp", 0.0, -80.0)):
         expected, fade = polarization_loss_db(WavePolarization(kind), g_r, g_l)
         assert expected >= 60.0 and fade >= 60.0
@@ -99,7 +99,7 @@ signed_ar = st.tuples(st.floats(0.0, 60.0), st.sampled_from([-1.0, 1.0]))
 @settings(max_examples=200, deadline=None)
 @given(w=signed_ar, a=signed_ar, dtilt=st.floats(-math.pi, math.pi))
 def test_tau_form_equals_axial_ratio_form(w, a, dtilt):
-    # Module formula (ellipticity angle) against Stutzman's axial-ratio form (REFERENCES.md).
+    # Module formula (ellipticity angle) against Stutzman's axial-ratio form.
     (ar_w_db, sense_w), (ar_a_db, sense_a) = w, a
     s_w, c_w = axial_ratio_db_to_tau(ar_w_db, sense_w)
     s_a, c_a = axial_ratio_db_to_tau(ar_a_db, sense_a)

@@ -117,7 +117,7 @@ def test_calendar_parses_back_with_the_same_passes(demo_short):
 
 
 def test_compare_json_follows_the_contract(demo_short, tmp_path):
-    # DESIGN.md: {"recommended": NAME, "ranking": [{"candidate", "score", "usable_minutes",
+    # Output contract: {"recommended": NAME, "ranking": [{"candidate", "score", "usable_minutes",
     # "data_volume_mbit"}...], "explanation": TEXT}
     path = demo_short[0]
     out = tmp_path / "compare.json"

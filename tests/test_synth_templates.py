@@ -234,7 +234,7 @@ def test_parameters_from_text_and_direct_calls_validate_alike():
 
 
 def quarter_wave_m(vf):
-    return vf * C_M_S / F_HZ / 4.0  # lambda_g / 4 (REFERENCES.md, lines)
+    return vf * C_M_S / F_HZ / 4.0  # lambda_g / 4 (transmission-line guide wavelength, Pozar)
 
 
 def test_matched_quarter_wave_line_gives_exactly_minus_90_deg():
@@ -415,7 +415,7 @@ def test_crossed_loops_over_pec_table_has_the_header_and_loads_back(tmp_path):
     # RHCP dominates overhead.
     zenith = loaded.elevation_deg == 90
     assert np.all(loaded.gain_rhcp_dbic[zenith] > loaded.gain_lhcp_dbic[zenith] + 15.0)
-    # Energy conservation (Balanis; REFERENCES.md): the gain averaged over the sphere equals the
+    # Energy conservation (Balanis): the gain averaged over the sphere equals the
     # radiation efficiency (grid interpolation in dB costs a little on this coarse grid).
     assert sphere_mean_gain(loaded) == pytest.approx(loaded.radiation_efficiency, rel=0.03)
     assert 0.95 < loaded.radiation_efficiency < 1.0  # copper at UHF: small loss
@@ -447,7 +447,7 @@ def test_table_rebuilds_from_its_own_header():
     again = builder(**params)
     assert np.allclose(again.gain_rhcp_dbic, table.gain_rhcp_dbic, atol=1e-9)
     assert again.header["parameters"] == table.header["parameters"]
-    # The phasing line's length was a quarter wave at the velocity factor (REFERENCES.md).
+    # The phasing line's length was a quarter wave at the velocity factor (Pozar).
     assert float(params["line_length_m"]) == pytest.approx(0.8 * LAMBDA_M / 4, rel=1e-6)
 
 

@@ -7,7 +7,7 @@ Frame: x = east, y = north, z = up (as in ``planner.patterns``); azimuth is a co
 from north toward east, elevation above the horizontal; time convention e^{jwt}; SI units
 (metres, hertz, ohms, volts, watts).
 
-API (helper M owns ``geometry.py`` and ``mom.py``; names below are stable, extend only)
+API (``geometry.py`` and ``mom.py``; the names below are stable: extend, do not rename)
 -------------------------------------------------------------------------------------------
 ``planner.synth.geometry``
 

@@ -58,7 +58,7 @@ JOIN_TOLERANCE_M = 1e-6
 
 MATERIALS: dict[str, float | None] = {
     "pec": None,  # perfect conductor: lossless
-    "copper": 1.68e-8,  # annealed copper at 20 C (REFERENCES.md; handbook value)
+    "copper": 1.68e-8,  # annealed copper at 20 C (handbook value)
     "aluminium": 2.65e-8,  # handbook value at 20 C (from memory)
     "copper-clad-steel": 1.68e-8,  # skin depth lies in the copper cladding (from memory; see module doc)
     "brass": 6.4e-8,  # typical 70/30 brass (from memory)
