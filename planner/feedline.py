@@ -352,6 +352,16 @@ def velocity_factor_from_length(length_m: float, frequency_hz: float, electrical
     return float(vf)
 
 
+def line_gamma_length(length_m, frequency_hz: float, velocity_factor: float, loss_db=0.0):
+    """gamma l of a line (complex, nepers + j radians): loss_db / 8.686 + j 2 pi l / lambda_g (Pozar).
+
+    ``loss_db`` is the matched loss of that length; arrays of lengths (and losses) are accepted.
+    """
+    beta_l = 2.0 * np.pi * np.asarray(length_m, dtype=float) / wavelength_in_line_m(frequency_hz, velocity_factor)
+    gamma_l = np.asarray(loss_db, dtype=float) / NEPER_DB + 1j * beta_l
+    return complex(gamma_l) if np.ndim(gamma_l) == 0 else gamma_l
+
+
 def line_input_impedance(
     z0: float,
     z_load,
@@ -372,9 +382,7 @@ def line_input_impedance(
         raise UserError(f"length_m must be zero or positive, got {length_m!r}")
     if not (np.isfinite(loss_db) and loss_db >= 0):
         raise UserError(f"loss_db must be zero or positive, got {loss_db!r}")
-    beta_l = 2.0 * np.pi * length_m / wavelength_in_line_m(frequency_hz, velocity_factor)
-    gamma_l = loss_db / NEPER_DB + 1j * beta_l
-    t = np.tanh(gamma_l)
+    t = np.tanh(line_gamma_length(length_m, frequency_hz, velocity_factor, loss_db))
     zl = np.asarray(z_load, dtype=complex)
     with np.errstate(invalid="ignore", divide="ignore"):
         zin = np.where(np.isinf(zl), z0 / t, z0 * (zl + z0 * t) / (z0 + zl * t))

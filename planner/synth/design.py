@@ -83,9 +83,9 @@ from scipy.optimize import minimize_scalar
 from planner.errors import UserError, warn
 from planner.feedline import (
     CABLES,
-    NEPER_DB,
     Cable,
     get_cable,
+    line_gamma_length,
     line_input_impedance,
     mismatch_loss_db,
     vswr_from_impedance,
@@ -462,7 +462,7 @@ def _line_section(cable: Cable, load: complex, length_m: float, frequency_hz: fl
     alpha_db_per_m = float(cable.loss_db_per_100m(frequency_hz)) / 100.0
     loss_db = alpha_db_per_m * length_m
     z_in = complex(line_input_impedance(cable.impedance_ohm, load, length_m, frequency_hz, cable.velocity_factor, loss_db))
-    gamma_l = loss_db / NEPER_DB + 2j * math.pi * length_m / wavelength_in_line_m(frequency_hz, cable.velocity_factor)
+    gamma_l = line_gamma_length(length_m, frequency_hz, cable.velocity_factor, loss_db)
     return _section("quarter-wave", frequency_hz, load, z_in, reference_ohm, cable=cable, length_m=length_m,
                     ideal_impedance_ohm=ideal, efficiency=_line_efficiency(cable.impedance_ohm, load, gamma_l))
 
@@ -551,7 +551,7 @@ def port_fields(solution: "mom.Solution", azimuth_deg: float = 0.0, elevation_de
 
 def _line_terms(length_m, z0: float, velocity_factor: float, alpha_db_per_m: float, frequency_hz: float):
     length = np.asarray(length_m, dtype=float)
-    gamma_l = alpha_db_per_m * length / NEPER_DB + 2j * np.pi * length / wavelength_in_line_m(frequency_hz, velocity_factor)
+    gamma_l = line_gamma_length(length, frequency_hz, velocity_factor, alpha_db_per_m * length)
     return np.cosh(gamma_l), z0 * np.sinh(gamma_l)
 
 

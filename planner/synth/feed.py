@@ -54,11 +54,10 @@ import numpy as np
 
 from planner.errors import UserError, positive_number
 from planner.feedline import (
-    NEPER_DB,
+    line_gamma_length,
     line_input_impedance,
     mismatch_loss_db,
     vswr_from_impedance,
-    wavelength_in_line_m,
 )
 
 __all__ = ["FeedResult", "ideal_quadrature", "phasing_line", "single_port", "REFERENCE_IMPEDANCE_OHM"]
@@ -192,7 +191,7 @@ def phasing_line(
         raise UserError(f"loss_db_per_m: must be zero or positive (matched loss in dB per metre), got {loss_db_per_m!r}")
     z = _matrix(Z)
     loss_db = alpha * length
-    gamma_l = loss_db / NEPER_DB + 2j * math.pi * length / wavelength_in_line_m(frequency_hz, vf)
+    gamma_l = line_gamma_length(length, frequency_hz, vf, loss_db)
     a_line, b_line = cmath.cosh(gamma_l), z0 * cmath.sinh(gamma_l)
     system = np.array(
         [[z[0, 0], z[0, 1]], [a_line * z[1, 0], a_line * z[1, 1] + b_line]],
