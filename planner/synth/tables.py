@@ -298,7 +298,7 @@ def template_options(template: str) -> dict[str, Parameter]:
     )
 
 
-def _resolve_options(template: str, options: dict[str, Any], given: Mapping[str, Any]) -> dict[str, Any]:
+def _resolve_options(template: str, options: dict[str, Any], given: Mapping[str, Any], frequency_hz: float) -> dict[str, Any]:
     """Refuse options that do not apply to the chosen feed or trim; blank the ones not used (so they
     stay out of the header) and write the defaults that are used."""
     if template in TWO_PORT_TEMPLATES:
@@ -314,7 +314,7 @@ def _resolve_options(template: str, options: dict[str, Any], given: Mapping[str,
         if feed == "line":
             options["sense"] = None  # set by the line, not chosen
             if options["line_length_m"] is None:
-                options["line_length_m"] = round(quarter_wave_length_m(float(options["_frequency_hz"]), options["velocity_factor"]), 9)
+                options["line_length_m"] = round(quarter_wave_length_m(frequency_hz, options["velocity_factor"]), 9)
         if feed == "harness":
             options["match"] = options["match"] or "none"  # an explicit none
     if template in SIZE_PARAMETERS:
@@ -324,7 +324,6 @@ def _resolve_options(template: str, options: dict[str, Any], given: Mapping[str,
                 raise UserError(f"template {template!r}: {wrong[0]} applies to trim=resonance only; allowed: trim=resonance")
         elif options["target_reactance_ohm"] is None:
             options["target_reactance_ohm"] = 0.0
-    options.pop("_frequency_hz", None)
     return options
 
 
@@ -347,8 +346,7 @@ def solve_template(template: str, values: Mapping[str, Any] | None = None):
     params = check_parameters(template, {k: v for k, v in values.items() if k in specs})
     given = {k: v for k, v in values.items() if k in extra}
     options = _check_options(template, extra, given)
-    options["_frequency_hz"] = params["frequency_hz"]
-    options = _resolve_options(template, options, given)
+    options = _resolve_options(template, options, given, float(params["frequency_hz"]))
     trim = None
     if options.get("trim") == "resonance":
         trim = design.trim_to_resonance(
