@@ -45,8 +45,8 @@ Emission (the sky brightness of the clear atmosphere)
     planner.noise) and T_mr the mean radiating temperature of the path. For T_mr this
     module uses P.372-16 eq. 11, T_mr = 37.34 + 0.81 T_s (K), with T_s the P.835 reference
     temperature at the station height (288.15 K at sea level gives 270.7 K). The form was
-    checked against a public implementation of P.372-16 (ItuRP372, function
-    ``earthstationnoisetemperature``); older editions give T_mr = 1.12 T_s - 50 K (272.7 K at
+    checked against a public implementation of P.372-16 (to be checked against the
+    Recommendation's own text); older editions give T_mr = 1.12 T_s - 50 K (272.7 K at
     288.15 K) or about 275 K for clear air: all within 2 %, far below the spread of the
     galactic term. A is :func:`gaseous_loss_db` at the same elevation and station height.
     At 436 MHz the emission is about 1.3 K at the zenith, 13 K at 5 deg and 40 K at the horizon.
