@@ -20,7 +20,7 @@ $(TEST_STAMP): pyproject.toml | $(BIN)/python
 	touch $@ $(STAMP)
 
 demo: $(STAMP)
-	$(BIN)/planner compare scenarios/demo.toml --report report
+	$(BIN)/planner compare scenarios/demo.toml --report report --force
 
 test: $(TEST_STAMP)
 	$(BIN)/python -m pytest

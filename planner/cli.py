@@ -14,6 +14,7 @@ from rich.console import Console
 from rich.table import Table
 
 from planner.errors import PlannerWarning, UserError
+from planner.fileio import WriteRules
 
 app = typer.Typer(
     add_completion=False,
@@ -22,6 +23,9 @@ app = typer.Typer(
 )
 
 FORMATS = ("table", "csv", "json")
+
+# Shared by every command that writes files.
+FORCE = typer.Option(False, "--force", help="Replace output files that already exist (never the run's own input files).")
 
 
 @app.callback()
@@ -41,15 +45,70 @@ def _azimuth(value_deg: float) -> str:
     return f"{round(value_deg) % 360:d}"
 
 
-def _emit(text: str, output: Optional[Path]) -> None:
-    """Write machine output to a file atomically, or to stdout."""
+def _emit(text: str, output: Optional[Path], rules) -> None:
+    """Write machine output to a file atomically (under the run's write rules), or to stdout."""
     from planner.fileio import write_atomically
 
     if output is None:
         sys.stdout.write(text)
     else:
-        write_atomically(output, text)
+        write_atomically(output, text, rules=rules)
         print(f"wrote {output}", file=sys.stderr)
+
+
+def _write_rules(force: bool, *, scenario=None, inputs: tuple = ()):
+    """The run's write rules: its input files (the scenario and every file it names) are protected."""
+    from planner.fileio import WriteRules
+
+    files = list(inputs)
+    if scenario is not None:
+        files += scenario.input_files()
+    return WriteRules.for_run(files, force=force)
+
+
+def _check_outputs(rules, outputs: dict[str, Optional[Path]]) -> None:
+    """Refuse, before any computation, an output file the rules forbid (option name -> path)."""
+    for option, path in outputs.items():
+        if path is not None:
+            _output_folder(option, path)
+            rules.check(path, option)
+
+
+def _output_folder(option: str, path: Path) -> Path:
+    """The existing folder ``path`` is written into, or one UserError line."""
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        what = "is not a folder" if folder.exists() else "does not exist"
+        raise UserError(f"{option}: {path}: folder {folder} {what}; create it first")
+    return folder
+
+
+def _check_folder_outputs(rules, option: str, folder: Optional[Path], names) -> None:
+    """Refuse an output folder that is a file, or that holds files of these names the rules forbid."""
+    if folder is None:
+        return
+    if folder.exists() and not folder.is_dir():
+        raise UserError(f"{option}: {folder} exists and is not a folder")
+    for parent in folder.parents:
+        if parent.exists():
+            if not parent.is_dir():
+                raise UserError(f"{option}: {folder}: {parent} is a file, not a folder")
+            break
+    if folder.is_dir():
+        for name in names:
+            if (folder / name).exists() or (folder / name).is_symlink():
+                rules.check(folder / name, option)
+
+
+def _figure_target(option: str, figure: Path, rules) -> tuple[Path, str]:
+    """(folder, stem) of a figure given as a stem; .png and .svg are added to it."""
+    stem = figure.name
+    if stem in ("", ".", ".."):
+        raise UserError(f"{option}: {figure} is not a figure stem; give a file name without extension, e.g. out/cuts")
+    folder = _output_folder(option, figure)
+    for suffix in (".png", ".svg"):
+        rules.check(folder / f"{stem}{suffix}", option)
+    return folder, stem
 
 
 def _check_format(value: str) -> str:
@@ -176,6 +235,7 @@ def passes(
     format: str = typer.Option("table", "--format", help="table, csv or json."),
     output: Optional[Path] = typer.Option(None, "--output", help="Write to this file (atomically) instead of stdout."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+    force: bool = FORCE,
 ) -> None:
     """Predict every pass over the station, with AOS, TCA, LOS and sky track."""
     from planner.export import PASS_COLUMNS, pass_row, to_csv, to_json
@@ -199,6 +259,8 @@ def passes(
         studies = [_adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step_s, satellite, allow_stale)]
     else:
         raise UserError("passes: give a SCENARIO file, or --elements FILE with --lat and --lon")
+    rules = _write_rules(force, scenario=studies[0].scenario, inputs=(scenario, elements))
+    _check_outputs(rules, {"--output": output})
     several = len(studies) > 1
     rows = []
     for study in studies:
@@ -207,9 +269,9 @@ def passes(
             _print_passes_table(study, found)
         rows += _with_station([pass_row(p) for p in found], study, several)
     if format == "json":
-        _emit(to_json(rows), output)
+        _emit(to_json(rows), output, rules)
     elif format == "csv":
-        _emit(to_csv(rows, [*PASS_COLUMNS, *(["station"] if several else [])]), output)
+        _emit(to_csv(rows, [*PASS_COLUMNS, *(["station"] if several else [])]), output, rules)
 
 
 def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, range_km, azimuth_deg):
@@ -307,6 +369,7 @@ def budget(
     format: str = typer.Option("table", "--format", help="table or json."),
     output: Optional[Path] = typer.Option(None, "--output", help="Write JSON to this file (atomically)."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+    force: bool = FORCE,
 ) -> None:
     """Print the link budget as a ladder of terms, each one recomputable by hand."""
     from planner.budget import LADDER, downlink_setup, evaluate, ladder_values, pass_budget, uplink_setup
@@ -317,6 +380,8 @@ def budget(
     if direction not in ("downlink", "uplink"):
         raise UserError(f"--direction: {direction!r}; allowed: downlink, uplink")
     study = _load_study(scenario, allow_stale, station)
+    rules = _write_rules(force, scenario=study.scenario, inputs=(scenario,))
+    _check_outputs(rules, {"--output": output})
     sat_name = study.satellite_config(satellite).name
     if direction == "downlink":
         if candidate is None:
@@ -353,7 +418,7 @@ def budget(
         }
         if summary:
             document["pass_summary"] = summary
-        _emit(to_json(document), output)
+        _emit(to_json(document), output, rules)
         _print_exposure(study, sys.stderr)
         return
     if output is not None:
@@ -424,6 +489,7 @@ def week(
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
     station: Optional[list[str]] = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+    force: bool = FORCE,
 ) -> None:
     """Weekly forecast per candidate and satellite: passes, usable passes, minutes, data volume."""
     from planner.export import WEEK_COLUMNS, to_csv, to_json, week_rows
@@ -432,6 +498,8 @@ def week(
     if format == "table" and output is not None:
         raise UserError("--output: a table is for the terminal; use --format csv or json with --output")
     studies = _load_studies(scenario, allow_stale, station)
+    rules = _write_rules(force, scenario=studies[0].scenario, inputs=(scenario,))
+    _check_outputs(rules, {"--output": output})
     several = len(studies) > 1
     rows = []
     for study in studies:
@@ -440,9 +508,9 @@ def week(
         if format == "table":
             _print_week(study, result)
     if format == "csv":
-        _emit(to_csv(rows, [*WEEK_COLUMNS, *(["station"] if several else [])]), output)
+        _emit(to_csv(rows, [*WEEK_COLUMNS, *(["station"] if several else [])]), output, rules)
     elif format == "json":
-        _emit(to_json(rows), output)
+        _emit(to_json(rows), output, rules)
 
 
 def _print_week(study, result) -> None:
@@ -483,6 +551,7 @@ def compare(
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
     station: Optional[list[str]] = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+    force: bool = FORCE,
 ) -> None:
     """Compare the candidate set-ups and recommend one, with the reasons and a robustness check."""
     from planner.export import to_json
@@ -492,11 +561,10 @@ def compare(
     if format == "table" and output is not None:
         raise UserError("--output: the comparison table is for the terminal; use --format json with --output")
     for option, folder in (("--figures", figures), ("--report", report)):
-        if folder is not None and folder.exists() and not folder.is_dir():
-            raise UserError(f"{option}: {folder} exists and is not a folder")
-    if calendar is not None and not (calendar.parent if str(calendar.parent) else Path(".")).is_dir():
-        raise UserError(f"--calendar: folder {calendar.parent} does not exist")
+        _check_folder_outputs(WriteRules(), option, folder, ())
     studies = _load_studies(scenario, allow_stale, station)
+    rules = _write_rules(force, scenario=studies[0].scenario, inputs=(scenario,))
+    _check_outputs(rules, {"--output": output})
     several = len(studies) > 1
     documents = []
     for study in studies:
@@ -507,13 +575,24 @@ def compare(
             figures=figures if not several or figures is None else figures / slug,
             report=report if not several or report is None else report / slug,
         )
-        decision = _compare_one(study, candidate, quiet, format, **where)
+        _check_compare_outputs(rules, study, **where)
+        decision = _compare_one(study, candidate, quiet, format, rules, **where)
         documents.append(dict(station=study.station.name, **decision.to_contract()) if several else decision.to_contract())
     if format == "json":
-        _emit(to_json({"stations": documents} if several else documents[0]), output)
+        _emit(to_json({"stations": documents} if several else documents[0]), output, rules)
 
 
-def _compare_one(study, candidate, quiet, format, *, calendar, figures, report):
+def _check_compare_outputs(rules, study, *, calendar, figures, report) -> None:
+    """Refuse, before the forecast, every file of compare's outputs the rules forbid."""
+    from planner.export import figure_file_names, report_file_names
+
+    satellites = [t.display_name for t in study.targets]
+    _check_outputs(rules, {"--calendar": calendar})
+    _check_folder_outputs(rules, "--figures", figures, figure_file_names(satellites))
+    _check_folder_outputs(rules, "--report", report, report_file_names(satellites))
+
+
+def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, report):
     from planner.export import calendar_ics, write_figures, write_report
     from planner.fileio import write_atomically
     from planner.recommend import recommend
@@ -521,13 +600,13 @@ def _compare_one(study, candidate, quiet, format, *, calendar, figures, report):
     result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet)
     decision = recommend(result, study)
     if calendar is not None:
-        write_atomically(calendar, calendar_ics(result.outcomes, study, decision.recommended))
+        write_atomically(calendar, calendar_ics(result.outcomes, study, decision.recommended), rules=rules)
         print(f"wrote {calendar}", file=sys.stderr)
     if figures is not None:
-        written = write_figures(figures, study, result, decision)
+        written = write_figures(figures, study, result, decision, rules=rules)
         print(f"wrote {len(written)} figure files in {figures}", file=sys.stderr)
     if report is not None:
-        write_report(report, study, result, decision)
+        write_report(report, study, result, decision, rules=rules)
     if format == "json":
         return decision
     console = _stdout()
@@ -556,6 +635,7 @@ def rank(
     output: Optional[Path] = typer.Option(None, "--output", help="Write to this file (atomically)."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+    force: bool = FORCE,
 ) -> None:
     """Rank every object of the scenario (a whole catalog) by usable contact time for one set-up."""
     from planner.export import to_csv, to_json
@@ -564,6 +644,8 @@ def rank(
     if top < 1:
         raise UserError(f"--top: {top} is out of range; allowed 1 or more")
     study = _load_study(scenario, allow_stale, station)
+    rules = _write_rules(force, scenario=study.scenario, inputs=(scenario,))
+    _check_outputs(rules, {"--output": output})
     study.candidate(candidate)
     result = _forecast_with_progress(study, [candidate], quiet, keep_samples=False)
     weekly = result.weekly.sort_values(["usable_minutes", "data_volume_mbit", "satellite"], ascending=[False, False, True])
@@ -582,10 +664,10 @@ def rank(
         for position, record in enumerate(weekly.to_dict("records"), start=1)
     ]
     if format == "csv":
-        _emit(to_csv(rows, list(rows[0]) if rows else ["rank"]), output)
+        _emit(to_csv(rows, list(rows[0]) if rows else ["rank"]), output, rules)
         return
     if format == "json":
-        _emit(to_json(rows), output)
+        _emit(to_json(rows), output, rules)
         return
     if output is not None:
         raise UserError("--output: a table is for the terminal; use --format csv or json with --output")
@@ -610,6 +692,7 @@ def sweep(
     output: Optional[Path] = typer.Option(None, "--output", help="Write CSV/JSON to this file (atomically)."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+    force: bool = FORCE,
 ) -> None:
     """Weekly usable minutes and data volume against reflector spacing; names the best spacing."""
     from rich.progress import BarColumn, Progress, TextColumn
@@ -619,9 +702,10 @@ def sweep(
     from planner.sweep import parse_spacing_range, sweep_reflector
 
     _check_format(format)
-    if figure is not None and not (figure.parent if str(figure.parent) else Path(".")).is_dir():
-        raise UserError(f"--figure: folder {figure.parent} does not exist")
     study = _load_study(scenario, allow_stale, station)
+    rules = _write_rules(force, scenario=study.scenario, inputs=(scenario,))
+    _check_outputs(rules, {"--output": output})
+    figure_at = None if figure is None else _figure_target("--figure", figure, rules)
     base = study.candidate(candidate)
     spacings = parse_spacing_range(reflector_spacing, base.pattern.frequency_hz)
     if quiet:
@@ -631,21 +715,20 @@ def sweep(
         with bar:
             task = bar.add_task("spacings", total=len(spacings))
             result = sweep_reflector(study, candidate, spacings, progress=lambda done, total: bar.update(task, completed=done))
-    if figure is not None:
+    if figure_at is not None:
         chart = plots.sweep_chart(result.table, result.per_satellite, title=f"{candidate}: reflector spacing sweep",
                                   best_spacing_wavelengths=result.best_spacing_wavelengths)
-        folder = figure.parent if str(figure.parent) else Path(".")
-        for path in plots.save_figure(chart, folder, figure.name):
+        for path in plots.save_figure(chart, *figure_at, rules=rules):
             print(f"wrote {path}", file=sys.stderr)
     rows = [{k: (round(v, 4) if isinstance(v, float) else v) for k, v in r.items()} for r in result.table.to_dict("records")]
     if format == "csv":
-        _emit(to_csv(rows, list(result.table.columns)), output)
+        _emit(to_csv(rows, list(result.table.columns)), output, rules)
         return
     if format == "json":
         _emit(to_json({"candidate": candidate, "objective": result.objective, "spacings": rows,
                        "best_spacing_wavelengths": result.best_spacing_wavelengths,
                        "runner_up_spacing_wavelengths": result.runner_up_spacing_wavelengths,
-                       "margin_of_victory": result.margin_of_victory, "summary": result.summary()}), output)
+                       "margin_of_victory": result.margin_of_victory, "summary": result.summary()}), output, rules)
         return
     if output is not None:
         raise UserError("--output: a table is for the terminal; use --format csv or json with --output")
@@ -683,17 +766,20 @@ def pattern_build(
     frequency_mhz: Optional[float] = typer.Option(None, "--frequency-mhz", help="Design frequency, MHz (default 436)."),
     out: Optional[Path] = typer.Option(None, "--out", help="Output file (one template) or folder (all shipped tables)."),
     list_parameters: bool = typer.Option(False, "--list", help="List the template's parameters with their ranges, then stop."),
+    force: bool = FORCE,
 ) -> None:
     """Generate pattern tables from the project's own antenna models."""
-    from planner.patterns import build_pattern, build_shipped_patterns, write_pattern
+    from planner.patterns import SHIPPED_PATTERNS, build_pattern, build_shipped_patterns, write_pattern
     from planner.patterns import TEMPLATES as ANALYTIC
     from planner.synth.templates import TEMPLATES as WIRE
 
+    rules = _write_rules(force)
     if template is None:
         folder = out or Path("patterns")
         if not folder.is_dir():
             raise UserError(f"--out: folder {folder} does not exist")
-        for path in build_shipped_patterns(folder):
+        _check_folder_outputs(rules, "--out", folder, SHIPPED_PATTERNS)
+        for path in build_shipped_patterns(folder, rules=rules):
             print(f"wrote {path}", file=sys.stderr)
         return
     if template not in ANALYTIC and template not in WIRE:
@@ -713,6 +799,7 @@ def pattern_build(
         return
     if out is None:
         raise UserError("--out: give the file to write the pattern table to")
+    _check_outputs(rules, {"--out": out})
     values: dict[str, object] = _key_values(parameters or [])
     if spacing_wl is not None:
         values["spacing_wavelengths"] = spacing_wl
@@ -726,7 +813,7 @@ def pattern_build(
     else:
         values.setdefault("frequency_hz", 436e6)
         table = build_pattern(template, **values)
-    write_pattern(out, table)
+    write_pattern(out, table, rules=rules)
     for key in ("feed_impedance_ohm", "feed_vswr", "radiation_efficiency"):
         if key in table.header:
             print(f"{key}: {table.header[key]}", file=sys.stderr)
@@ -823,6 +910,7 @@ def pattern_show(
     azimuth_deg: float = typer.Option(0.0, "--azimuth-deg", help="Azimuth of the elevation cut, deg."),
     step_deg: float = typer.Option(10.0, "--step-deg", help="Elevation step of the printed cut, deg."),
     figure: Optional[Path] = typer.Option(None, "--figure", help="Also write the elevation cuts as a figure (stem; .png and .svg)."),
+    force: bool = FORCE,
 ) -> None:
     """Elevation cut, axial ratio against elevation, and the feed data a pattern table carries."""
     from planner import plots
@@ -832,6 +920,8 @@ def pattern_show(
         raise UserError(f"--step-deg: {step_deg:g} is out of range; allowed 0.5 to 90")
     if not np.isfinite(azimuth_deg):
         raise UserError(f"--azimuth-deg: {azimuth_deg:g} is not a finite number; allowed e.g. 0 to 360")
+    rules = _write_rules(force, inputs=(file,))
+    figure_at = None if figure is None else _figure_target("--figure", figure, rules)
     table = load_pattern(file)
     console = _stdout()
     for key in ("model", "parameters", "feed_impedance_ohm", "feed_vswr", "radiation_efficiency", "generated_by"):
@@ -851,11 +941,8 @@ def pattern_show(
         el, r, l, t, ar, sn = row
         cut.add_row(f"{el:g}", f"{r:.2f}", f"{l:.2f}", f"{t:.2f}", f"{ar:.1f}", {1: "RHCP", -1: "LHCP"}.get(int(sn), "linear"))
     console.print(cut)
-    if figure is not None:
-        folder = figure.parent if str(figure.parent) else Path(".")
-        if not folder.is_dir():
-            raise UserError(f"--figure: folder {folder} does not exist")
-        for path in plots.save_figure(plots.elevation_cuts({file.stem: table}, azimuth_deg=azimuth_deg), folder, figure.name):
+    if figure_at is not None:
+        for path in plots.save_figure(plots.elevation_cuts({file.stem: table}, azimuth_deg=azimuth_deg), *figure_at, rules=rules):
             print(f"wrote {path}", file=sys.stderr)
 
 
@@ -883,6 +970,10 @@ def main() -> None:
     except KeyboardInterrupt:
         print("planner: interrupted", file=sys.stderr)
         sys.exit(130)
+    except OSError as error:  # a filesystem problem no reader or writer foresaw: still one line
+        where = error.filename if error.filename is not None else "file system"
+        print(f"planner: error: {where}: {error.strerror or error}", file=sys.stderr)
+        sys.exit(2)
     except Exception as error:  # noqa: BLE001 - the command-line parser's own exceptions
         if hasattr(error, "format_message") and hasattr(error, "exit_code"):
             message = " ".join(str(error.format_message()).split())

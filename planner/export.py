@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import csv
-import io
 import json
 import math
 from datetime import datetime, timedelta, timezone
@@ -41,13 +39,39 @@ def pass_row(p: Pass) -> dict:
     }
 
 
+# A cell starting with one of these is read as a formula by spreadsheet programs (OWASP,
+# "CSV Injection": =, +, -, @, tab and carriage return).
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def _is_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+def csv_cell(value) -> str:
+    """One CSV field (RFC 4180): quoted when it must be; text a spreadsheet would run as a formula
+    gets a leading apostrophe and quotes, so it shows as text. Numbers are never changed."""
+    if value is None:
+        return ""
+    text = str(value)
+    formula = isinstance(value, str) and text.startswith(FORMULA_STARTS) and not _is_number(text)
+    if formula:
+        text = "'" + text
+    if formula or any(c in text for c in ',"\n\r'):
+        return '"' + text.replace('"', '""') + '"'
+    return text
+
+
 def to_csv(rows: Iterable[dict], columns: Sequence[str]) -> str:
-    buffer = io.StringIO()
-    writer = csv.DictWriter(buffer, fieldnames=list(columns), lineterminator="\n", extrasaction="ignore")
-    writer.writeheader()
-    for row in rows:
-        writer.writerow(row)
-    return buffer.getvalue()
+    """Rows as CSV with a header row, one line per row ending in LF; keys not in ``columns`` are left out."""
+    names = list(columns)
+    lines = [",".join(csv_cell(name) for name in names)]
+    lines += [",".join(csv_cell(row.get(name)) for name in names) for row in rows]
+    return "\n".join(lines) + "\n"
 
 
 def _finite(value):
@@ -143,14 +167,15 @@ def pass_of_widest_spread(forecast) -> tuple[str, int] | None:
     return satellite, int(pass_number)
 
 
-def write_figures(folder, study, forecast, recommendation) -> list:
-    """Every report figure as PNG and SVG in ``folder``; returns the paths written."""
-    from pathlib import Path
+def write_figures(folder, study, forecast, recommendation, *, rules=None) -> list:
+    """Every report figure as PNG and SVG in ``folder``; returns the paths written.
 
+    ``rules`` (planner.fileio.WriteRules) decide which files may be written; by default any."""
     from planner import plots
+    from planner.fileio import REPLACE_ANY, ensure_folder
 
-    folder = Path(folder)
-    folder.mkdir(parents=True, exist_ok=True)
+    rules = rules or REPLACE_ANY
+    folder = ensure_folder(folder, "figure folder")
     threshold = study.scenario.criteria.min_margin_db
     written = []
     samples = forecast.samples
@@ -162,9 +187,9 @@ def write_figures(folder, study, forecast, recommendation) -> list:
             mine, title=f"{satellite}: tracks over {study.station.name}, margin with {best}",
             min_margin_db=threshold, horizon_mask=study.station.mask,
         )
-        written += plots.save_figure(fig, folder, f"sky-{_slug(satellite)}")
+        written += plots.save_figure(fig, folder, f"sky-{_slug(satellite)}", rules=rules)
     patterns = {name: study.candidate(name).pattern for name in forecast.outcomes["candidate"].unique()}
-    written += plots.save_figure(plots.elevation_cuts(patterns, colours=colours), folder, "elevation-cuts")
+    written += plots.save_figure(plots.elevation_cuts(patterns, colours=colours), folder, "elevation-cuts", rules=rules)
     chosen = pass_of_widest_spread(forecast)
     if chosen is not None:
         satellite, number = chosen
@@ -172,10 +197,26 @@ def write_figures(folder, study, forecast, recommendation) -> list:
             name: group for name, group in samples[(samples["satellite"] == satellite) & (samples["pass_number"] == number)].groupby("candidate", sort=False)
         }
         title = f"{satellite} pass {number}: the pass where the candidates differ most"
-        written += plots.save_figure(plots.pass_margins(frames, title=title, min_margin_db=threshold, colours=colours), folder, "pass-margins")
-    written += plots.save_figure(plots.usable_minutes_bars(forecast.weekly, colours=colours), folder, "usable-minutes")
-    written += plots.save_figure(plots.margin_by_band(samples, min_margin_db=threshold, colours=colours), folder, "margin-by-band")
+        written += plots.save_figure(plots.pass_margins(frames, title=title, min_margin_db=threshold, colours=colours), folder, "pass-margins", rules=rules)
+    written += plots.save_figure(plots.usable_minutes_bars(forecast.weekly, colours=colours), folder, "usable-minutes", rules=rules)
+    written += plots.save_figure(plots.margin_by_band(samples, min_margin_db=threshold, colours=colours), folder, "margin-by-band", rules=rules)
     return written
+
+
+FIGURE_STEMS = ("elevation-cuts", "pass-margins", "usable-minutes", "margin-by-band")
+"""The figures of every comparison; each satellite adds its sky chart, ``sky-<name>``."""
+REPORT_FILES = ("weekly.csv", "passes.csv", "bands.csv", "hours.csv", "ranking.csv", "compare.json", "calendar.ics", "summary.md")
+
+
+def figure_file_names(satellites: Sequence[str]) -> list[str]:
+    """Every file :func:`write_figures` may write for these satellites (PNG and SVG of each figure)."""
+    stems = [*FIGURE_STEMS, *(f"sky-{_slug(name)}" for name in satellites)]
+    return [f"{stem}.{fmt}" for stem in stems for fmt in ("png", "svg")]
+
+
+def report_file_names(satellites: Sequence[str]) -> list[str]:
+    """Every file :func:`write_report` may write, relative to the report folder."""
+    return [*REPORT_FILES, *(f"figures/{name}" for name in figure_file_names(satellites))]
 
 
 def _slug(text: str) -> str:
@@ -191,16 +232,16 @@ def _markdown_table(rows: list[dict]) -> str:
     return "\n".join(lines) + "\n"
 
 
-def write_report(folder, study, forecast, recommendation) -> list:
+def write_report(folder, study, forecast, recommendation, *, rules=None) -> list:
     """A report folder: tables as CSV, figures, the recommended set-up's calendar, summary.md."""
     from pathlib import Path
 
-    from planner.fileio import write_atomically
+    from planner.fileio import REPLACE_ANY, ensure_folder, write_atomically
     from planner.forecast import band_table, hour_table
     from planner.safety import STATION_CAUTIONS
 
-    folder = Path(folder)
-    folder.mkdir(parents=True, exist_ok=True)
+    rules = rules or REPLACE_ANY
+    folder = ensure_folder(folder, "report folder")
     written = []
     outcomes = forecast.outcomes.drop(columns=["usable_windows"], errors="ignore")
     tables = {
@@ -212,10 +253,10 @@ def write_report(folder, study, forecast, recommendation) -> list:
     }
     for name, (rows, columns) in tables.items():
         columns = columns or (list(rows[0]) if rows else [])
-        written.append(write_atomically(folder / name, to_csv(rows, columns)))
-    written.append(write_atomically(folder / "compare.json", to_json(recommendation.to_contract())))
-    written.append(write_atomically(folder / "calendar.ics", calendar_ics(forecast.outcomes, study, recommendation.recommended)))
-    figures = write_figures(folder / "figures", study, forecast, recommendation)
+        written.append(write_atomically(folder / name, to_csv(rows, columns), rules=rules))
+    written.append(write_atomically(folder / "compare.json", to_json(recommendation.to_contract()), rules=rules))
+    written.append(write_atomically(folder / "calendar.ics", calendar_ics(forecast.outcomes, study, recommendation.recommended), rules=rules))
+    figures = write_figures(folder / "figures", study, forecast, recommendation, rules=rules)
     written += figures
     ranking = [
         {
@@ -256,7 +297,7 @@ def write_report(folder, study, forecast, recommendation) -> list:
         *[f"- {c}" for c in STATION_CAUTIONS],
         "",
     ]
-    written.append(write_atomically(folder / "summary.md", "\n".join(summary)))
+    written.append(write_atomically(folder / "summary.md", "\n".join(summary), rules=rules))
     return written
 
 

@@ -65,7 +65,7 @@ from typing import Any, Callable, Sequence
 import numpy as np
 
 from planner.errors import UserError, positive_number, warn
-from planner.fileio import write_atomically
+from planner.fileio import REPLACE_ANY, WriteRules, write_atomically
 
 GAIN_FLOOR_DBIC = -60.0
 """Gain written (and clipped to on loading) where there is no field: a zero of the model."""
@@ -545,9 +545,9 @@ def format_pattern(table: PatternTable) -> str:
     return "\n".join(lines) + "\n"
 
 
-def write_pattern(path: str | Path, table: PatternTable) -> Path:
+def write_pattern(path: str | Path, table: PatternTable, *, rules: WriteRules = REPLACE_ANY) -> Path:
     """Write ``format_pattern(table)`` to ``path`` atomically."""
-    return write_atomically(path, format_pattern(table))
+    return write_atomically(path, format_pattern(table), rules=rules)
 
 
 # --------------------------------------------------------------------------------------------
@@ -914,10 +914,10 @@ def _wire_table(template: str, **values: Any) -> PatternTable:
     return build_template_table(template, values, command="planner pattern build")
 
 
-def build_shipped_patterns(folder: str | Path) -> list[Path]:
+def build_shipped_patterns(folder: str | Path, *, rules: WriteRules = REPLACE_ANY) -> list[Path]:
     """(Re)generate every shipped table into ``folder`` (which must exist); returns the paths."""
     folder = Path(folder)
     written = []
     for name, (builder, kwargs) in SHIPPED_PATTERNS.items():
-        written.append(write_pattern(folder / name, builder(**kwargs)))
+        written.append(write_pattern(folder / name, builder(**kwargs), rules=rules))
     return written

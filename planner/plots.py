@@ -50,7 +50,7 @@ from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Rectangle
 
-from planner.fileio import write_atomically
+from planner.fileio import REPLACE_ANY, WriteRules, write_atomically
 
 PALETTE: tuple[str, ...] = (
     "#1f4e9c",  # deep blue
@@ -587,7 +587,7 @@ def _dark(colour: str) -> bool:
 # --------------------------------------------------------------------------------------------
 
 
-def save_figure(fig: Figure, folder: str | Path, stem: str) -> list[Path]:
+def save_figure(fig: Figure, folder: str | Path, stem: str, *, rules: WriteRules = REPLACE_ANY) -> list[Path]:
     """Write ``folder/stem.png`` (150 dpi) and ``folder/stem.svg`` atomically; returns the paths.
 
     The folder must exist (planner.errors.UserError otherwise, from write_atomically). The SVG
@@ -602,7 +602,7 @@ def save_figure(fig: Figure, folder: str | Path, stem: str) -> list[Path]:
         buffer = BytesIO()
         with matplotlib.rc_context({"svg.hashsalt": "planner"}):
             fig.savefig(buffer, format=fmt, facecolor="white", **options)
-        written.append(write_atomically(folder / f"{stem}.{fmt}", buffer.getvalue()))
+        written.append(write_atomically(folder / f"{stem}.{fmt}", buffer.getvalue(), rules=rules))
     return written
 
 

@@ -634,6 +634,14 @@ class Scenario(BaseModel):
         """The home [station] first, then every [[network_station]]."""
         return [self.station, *self.network_station]
 
+    def input_files(self) -> list[Path]:
+        """Every file this scenario reads: itself, the element files and the candidates' pattern tables."""
+        files = [] if self.source_path is None else [self.source_path]
+        files += [s.elements for s in self.satellite]
+        files += [] if self.catalog is None else [self.catalog.elements]
+        files += [c.pattern for c in self.candidate]
+        return files
+
     def station_named(self, name: str) -> StationConfig:
         for station in self.stations:
             if station.name == name:

@@ -51,7 +51,7 @@ from skyfield.api import EarthSatellite, load, wgs84
 import planner.cli as cli
 import planner.fileio as fileio
 from planner.errors import PlannerWarning, UserError
-from planner.fileio import write_atomically
+from planner.fileio import REPLACE_ANY, write_atomically
 from planner.orbits import read_elements, tle_checksum
 from planner.passes import predict_passes
 from planner.patterns import format_pattern, isotropic_rhcp, turnstile_over_reflector
@@ -455,7 +455,7 @@ def _files(folder: Path) -> list[str]:
 
 def test_write_atomically_writes_with_the_umask_mode(tmp_path):
     # POSIX open(2): a new file gets mode 0666 & ~umask, as a plain open() would give it.
-    target = write_atomically(tmp_path / "out.csv", "a,b\n1,2\n")
+    target = write_atomically(tmp_path / "out.csv", "a,b\n1,2\n", rules=REPLACE_ANY)
     assert target.read_text() == "a,b\n1,2\n" and _files(tmp_path) == ["out.csv"]
     mask = os.umask(0)
     os.umask(mask)
@@ -473,7 +473,7 @@ def test_failed_rename_leaves_old_file_or_none_and_no_temporary(tmp_path, monkey
 
     monkeypatch.setattr(fileio.os, "replace", refuse)
     with pytest.raises(UserError, match=r"out\.json: cannot write: No space left on device$"):
-        write_atomically(target, "new content\n")
+        write_atomically(target, "new content\n", rules=REPLACE_ANY)
     assert _files(tmp_path) == (["out.json"] if existing else [])
     if existing:
         assert target.read_text() == "old content\n"
@@ -506,15 +506,15 @@ def test_write_failing_half_way_leaves_old_file_and_no_temporary(tmp_path, monke
 
     monkeypatch.setattr(fileio.os, "fdopen", lambda fd, mode: HalfWriter(real_fdopen(fd, mode)))
     with pytest.raises(UserError if isinstance(failure, OSError) else KeyboardInterrupt):
-        write_atomically(target, "x" * 100_000)
+        write_atomically(target, "x" * 100_000, rules=REPLACE_ANY)
     assert _files(tmp_path) == ["passes.csv"] and target.read_text() == "old,content\n"
 
 
 def test_writing_onto_a_folder_or_into_a_missing_folder_is_one_line(tmp_path):
     with pytest.raises(UserError, match="is a folder"):
-        write_atomically(tmp_path, "x")
+        write_atomically(tmp_path, "x", rules=REPLACE_ANY)
     with pytest.raises(UserError, match="does not exist"):
-        write_atomically(tmp_path / "missing" / "out.csv", "x")
+        write_atomically(tmp_path / "missing" / "out.csv", "x", rules=REPLACE_ANY)
     assert _files(tmp_path) == []
 
 
@@ -557,7 +557,7 @@ def test_command_whose_write_fails_keeps_the_old_file(world, tmp_path, monkeypat
         raise OSError(28, "No space left on device")
 
     monkeypatch.setattr(fileio.os, "replace", disk_full)
-    run = run_cli("passes", world / "scenario.toml", "--format", "csv", "--output", target)
+    run = run_cli("passes", world / "scenario.toml", "--format", "csv", "--output", target, "--force")
     assert_user_error(run, str(target), "No space left on device")
     assert target.read_text() == "previous run\n" and _files(tmp_path) == ["passes.csv"]
 
