@@ -734,7 +734,7 @@ def turnstile_over_reflector(
             "north toward east, elevation_deg above the horizon; RHCP/LHCP per IEEE Std 145"
         ),
         "generated_by": "planner pattern build",
-        "builder": "planner.patterns.turnstile_over_reflector",
+        "builder": "image-turnstile",
         "parameters": (
             f"spacing_wavelengths={format_number(spacing_wavelengths)}; frequency_hz={format_number(frequency_hz)}; "
             f"elevation_step_deg={format_number(elevation_step_deg)}; azimuth_step_deg={format_number(azimuth_step_deg)}"
@@ -778,7 +778,7 @@ def isotropic_rhcp(frequency_hz: float = DEMO_FREQUENCY_HZ, *, elevation_step_de
         "model": "isotropic RHCP reference: 0 dBic RHCP over the whole sphere, no LHCP (not a realizable antenna)",
         "frame": "azimuth-symmetric; elevation_deg above the horizon; RHCP/LHCP per IEEE Std 145",
         "generated_by": "planner pattern build",
-        "builder": "planner.patterns.isotropic_rhcp",
+        "builder": "isotropic-rhcp",
         "parameters": f"frequency_hz={format_number(frequency_hz)}; elevation_step_deg={format_number(elevation_step_deg)}",
         "gain_reference": (
             f"partial gains for RHCP and LHCP waves in dBic; LHCP at the floor {format_number(GAIN_FLOOR_DBIC)} dBic "
@@ -833,39 +833,44 @@ def build_pattern(template: str, **params: Any) -> PatternTable:
     return builder(**kwargs)
 
 
-# Builders a pattern header may name, so a table can be rebuilt with other parameters (the
-# reflector sweep). Only functions of planner's own that return a PatternTable are allowed.
-REBUILDABLE_PREFIXES = ("planner.patterns.", "planner.synth.")
+# A table's header names its builder (``builder = crossed-loops``) so that it can be rebuilt with
+# other parameters (the reflector sweep, the harness cut-error check). Only the project's own
+# template names are accepted. Headers written by earlier versions held the builder function's
+# dotted path; those paths are read as aliases of the template names.
+BUILDER_ALIASES = {
+    "planner.patterns.turnstile_over_reflector": "image-turnstile",
+    "planner.patterns.isotropic_rhcp": "isotropic-rhcp",
+    "planner.synth.tables.dipole_table": "dipole",
+    "planner.synth.tables.turnstile_table": "turnstile",
+    "planner.synth.tables.crossed_loops_table": "crossed-loops",
+}
 
 
-def rebuild_pattern(builder: str, parameters: dict[str, str]) -> PatternTable:
-    """Call the builder a header names with the header's parameters (numbers as text).
+def builder_template(builder: str, source: str = "pattern table") -> str:
+    """The template name a header's ``builder`` line stands for, or one UserError line."""
+    from planner.synth.templates import TEMPLATES as WIRE
 
-    Parameters holding text that is not a number (a template or material name) are passed
-    as text.
+    name = BUILDER_ALIASES.get(builder, builder)
+    if name in TEMPLATES or name in WIRE:
+        return name
+    allowed = ", ".join([*TEMPLATES, *WIRE])
+    raise UserError(f"{source}: builder {_clip(builder)!r} is not one of planner's templates; allowed: {allowed}")
+
+
+def _clip(text: str, limit: int = 60) -> str:
+    return text if len(text) <= limit else text[:limit] + "..."
+
+
+def rebuild_pattern(builder: str, parameters: dict[str, str], source: str = "pattern table") -> PatternTable:
+    """Build the table a header describes: its template (``builder``) with its parameters (text).
+
+    Parameters are checked as ``planner pattern build`` checks them: the analytic templates take
+    numbers only, the wire templates their own typed and ranged parameters.
     """
-    import importlib
-
-    if not builder.startswith(REBUILDABLE_PREFIXES) or builder.count(".") < 2:
-        raise UserError(f"pattern builder {builder!r} is not one of planner's; allowed: names under {', '.join(REBUILDABLE_PREFIXES)}")
-    module_name, _, function_name = builder.rpartition(".")
-    try:
-        function = getattr(importlib.import_module(module_name), function_name)
-    except (ImportError, AttributeError):
-        raise UserError(f"pattern builder {builder!r} does not exist in this version of planner") from None
-    kwargs: dict[str, Any] = {}
-    accepted = inspect.signature(function).parameters
-    for name, text in parameters.items():
-        if name not in accepted:
-            raise UserError(f"pattern builder {builder!r}: unknown parameter {name!r}; allowed: {', '.join(accepted)}")
-        try:
-            kwargs[name] = float(text)
-        except ValueError:
-            kwargs[name] = text
-    table = function(**kwargs)
-    if not isinstance(table, PatternTable):
-        raise UserError(f"pattern builder {builder!r} does not return a pattern table")
-    return table
+    template = builder_template(builder, source)
+    if template in TEMPLATES:
+        return build_pattern(template, **parameters)
+    return _wire_table(template, **parameters)
 
 
 # The demo station's candidates as a careful builder would make them (planner.synth): elements

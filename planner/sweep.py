@@ -83,7 +83,7 @@ def rebuild_at_spacing(pattern, spacing_wavelengths: float):
 
     builder, parameters = _builder_and_parameters(pattern)
     parameters = dict(parameters, **{SPACING_PARAMETER: f"{spacing_wavelengths:.6g}"})
-    return rebuild_pattern(builder, parameters)
+    return rebuild_pattern(builder, parameters, source=str(pattern.path))
 
 
 @dataclass

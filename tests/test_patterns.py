@@ -78,6 +78,44 @@ def test_shipped_tables_regenerate_bit_for_bit(tmp_path):
         assert header["frequency_mhz"] == "436"
 
 
+def _header_parameters(header: dict[str, str]) -> dict[str, str]:
+    return dict(item.strip().split("=", 1) for item in header["parameters"].split(";"))
+
+
+@pytest.mark.parametrize("name", list(P.SHIPPED_PATTERNS))
+def test_every_shipped_table_rebuilds_from_its_header(name):
+    # What the sweep and the harness check do: the header alone (a template name and the
+    # parameters as text) gives the same file again, byte for byte.
+    header = P.load_pattern(SHIPPED / name).header
+    assert header["builder"] in (*P.TEMPLATES, "dipole", "turnstile", "crossed-loops")
+    again = P.rebuild_pattern(header["builder"], _header_parameters(header), source=name)
+    assert P.format_pattern(again) == (SHIPPED / name).read_text()
+
+
+def test_dotted_builder_names_of_older_headers_are_read_as_aliases():
+    text = (SHIPPED / "isotropic-rhcp.csv").read_text()
+    header = P.parse_pattern(text).header
+    again = P.rebuild_pattern("planner.patterns.isotropic_rhcp", _header_parameters(header))
+    assert P.format_pattern(again) == text
+    assert P.builder_template("planner.synth.tables.crossed_loops_table") == "crossed-loops"
+
+
+@pytest.mark.parametrize("builder", ["numpy", "os.system", "planner.cli.main", "planner.patterns.load_pattern",
+                                     "planner.synth.tables.build_pattern_table", "", "x" * 5000])
+def test_a_header_naming_anything_else_is_refused_in_one_line(builder):
+    # Only the project's template names (and their old dotted aliases) may be called from a file.
+    with pytest.raises(UserError, match="is not one of planner's templates; allowed: image-turnstile") as caught:
+        P.rebuild_pattern(builder, {"frequency_hz": "436000000"}, source="evil.csv")
+    assert "\n" not in str(caught.value) and len(str(caught.value)) < 300
+
+
+def test_rebuild_parameters_are_checked_like_the_command_line():
+    with pytest.raises(UserError, match="unknown parameter 'shell'"):
+        P.rebuild_pattern("isotropic-rhcp", {"frequency_hz": "436000000", "shell": "rm"})
+    with pytest.raises(UserError, match="must be a number"):
+        P.rebuild_pattern("image-turnstile", {"spacing_wavelengths": "__import__('os')"})
+
+
 def test_readme_describes_every_shipped_table():
     # Documentation check (common practice, no published source): each shipped file is described.
     text = (SHIPPED / "README.md").read_text()

@@ -761,11 +761,11 @@ def design_harness(solution: "mom.Solution", *, phasing_cable: str | None = None
 def harness_from_header(header: Mapping[str, str], source: str = "pattern table") -> HarnessDesign:
     """Rebuild the harness a ``feed=harness`` table was made with, from its ``builder`` and
     ``parameters`` header lines (the model is trimmed, solved and the harness designed again)."""
+    from planner.patterns import BUILDER_ALIASES
     from planner.synth import tables  # tables builds on this module
 
     builder = header.get("builder", "")
-    templates_by_builder = {f"planner.synth.tables.{name}": template for template, name in tables._TABLE_BUILDERS.items()}
-    template = templates_by_builder.get(builder)
+    template = BUILDER_ALIASES.get(builder, builder)
     if template not in tables.TWO_PORT_TEMPLATES:
         raise UserError(f"{source}: builder {builder or '(none)'!r} is not a two-port wire template; allowed: tables built by "
                         "planner pattern build turnstile|crossed-loops ... feed=harness")

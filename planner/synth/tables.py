@@ -285,9 +285,6 @@ def feed_model(solution: "mom.Solution", options: Mapping[str, Any], frequency_h
 TWO_PORT_TEMPLATES = ("turnstile", "crossed-loops")
 """Templates with ports "a" and "b" (they take the feed options); the others have one port "feed"."""
 
-_TABLE_BUILDERS = {"dipole": "dipole_table", "turnstile": "turnstile_table", "crossed-loops": "crossed_loops_table"}
-
-
 def template_options(template: str) -> dict[str, Parameter]:
     """Every option a template's table takes besides its own parameters: the grid steps, the trim
     options (templates with a size parameter) and the feed options (two-port templates)."""
@@ -389,9 +386,8 @@ def build_template_table(template: str, values: Mapping[str, Any] | None = None,
     else:
         feed = feed_model(solution, options, model.frequency_hz)
     recorded = {**params, **options}
-    builder_name = f"planner.synth.tables.{_TABLE_BUILDERS[template]}"
     if command is None:
-        command = f"{builder_name}({', '.join(f'{k}={_fmt_value(v)}' for k, v in recorded.items() if v is not None)})"
+        command = " ".join(["planner pattern build", template, *(f"{k}={_fmt_value(v)}" for k, v in recorded.items() if v is not None)])
     table = build_pattern_table(
         model,
         solution,
@@ -402,7 +398,7 @@ def build_template_table(template: str, values: Mapping[str, Any] | None = None,
         command=command,
         elevation_step_deg=options["elevation_step_deg"],
         azimuth_step_deg=options["azimuth_step_deg"],
-        builder=builder_name,
+        builder=template,
     )
     extra: dict[str, str] = {}
     if trim is not None:
