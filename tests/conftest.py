@@ -1,0 +1,16 @@
+"""Test-wide settings.
+
+Property-based tests run with a fixed seed and a fixed number of examples, so every run (on a
+laptop or in CI) draws the same inputs and a failure can be reproduced (hypothesis documentation,
+"settings: derandomize"; no example database is written). Set PLANNER_HYPOTHESIS_PROFILE=explore
+for fresh random examples on each run, and PLANNER_FUZZ_EXAMPLES for a longer hunt in the
+command-line fuzzers (tests/test_hardening.py).
+"""
+
+import os
+
+from hypothesis import settings
+
+settings.register_profile("fixed", derandomize=True, database=None, deadline=None)
+settings.register_profile("explore", derandomize=False, deadline=None)
+settings.load_profile(os.environ.get("PLANNER_HYPOTHESIS_PROFILE", "fixed"))
