@@ -4,10 +4,9 @@
 table grid (elevation -90..90, azimuth 0..350 by default) and writes the provenance into the
 header. :func:`build_template_table` does the whole chain from a template name and its parameters
 (validate, build the model, solve, feed, tabulate); it is what ``planner pattern build TEMPLATE``
-calls. The per-template builders :func:`dipole_table`, :func:`turnstile_table` and
-:func:`crossed_loops_table` take the same parameters as keywords, so a table's header
-(``builder`` and ``parameters``) is enough to rebuild it with one parameter changed (the reflector
-sweep, ``planner.patterns.rebuild_pattern``).
+calls. A table's header names its template (``builder``) and its ``parameters``, so the header alone
+is enough to rebuild it with one parameter changed (the reflector sweep,
+``planner.patterns.rebuild_pattern``).
 
 Gains
 -----
@@ -24,9 +23,8 @@ field, leakage around and through the screen included.
 
 from __future__ import annotations
 
-import inspect
 import math
-from typing import Any, Callable, Mapping
+from typing import Any, Mapping
 
 import numpy as np
 
@@ -48,9 +46,6 @@ __all__ = [
     "build_pattern_table",
     "build_template_table",
     "feed_model",
-    "dipole_table",
-    "turnstile_table",
-    "crossed_loops_table",
 ]
 
 MODEL_DESCRIPTION = "thin-wire method of moments (Galerkin, piecewise-linear basis, reduced kernel)"
@@ -408,24 +403,3 @@ def build_template_table(template: str, values: Mapping[str, Any] | None = None,
     if extra:
         _insert_after(table.header, "feed", extra)
     return table
-
-
-def _table_builder(template: str, name: str) -> Callable[..., PatternTable]:
-    """A keyword-only function ``name(**parameters)`` for ``template`` with an explicit signature
-    (so ``inspect.signature`` lists every parameter, as ``rebuild_pattern`` requires)."""
-    _, specs = TEMPLATES[template]
-    extra = template_options(template)
-
-    def builder(**values: Any) -> PatternTable:
-        return build_template_table(template, values)
-
-    params = [inspect.Parameter(k, inspect.Parameter.KEYWORD_ONLY, default=spec.default) for k, spec in {**specs, **extra}.items()]
-    builder.__signature__ = inspect.Signature(params, return_annotation=PatternTable)  # type: ignore[attr-defined]
-    builder.__name__ = builder.__qualname__ = name
-    builder.__doc__ = f"Pattern table of the {template!r} template (see build_template_table); every parameter is a keyword."
-    return builder
-
-
-dipole_table = _table_builder("dipole", "dipole_table")
-turnstile_table = _table_builder("turnstile", "turnstile_table")
-crossed_loops_table = _table_builder("crossed-loops", "crossed_loops_table")
