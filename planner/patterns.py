@@ -50,7 +50,7 @@ array factor 2 j sin(k h sin E)). Directivity is normalised by integrating the r
 over the upper hemisphere (Gauss-Legendre in sin E, trapezoid in azimuth); the antenna is lossless,
 so gain = directivity. Below the horizon an infinite perfect conductor passes no field, so the
 table holds ``GAIN_FLOOR_DBIC`` there; real, finite reflectors leak around their edges (the wire
-solver of a later issue models that).
+solver, planner.synth, models that).
 """
 
 from __future__ import annotations

@@ -131,7 +131,7 @@ def test_slant_range_against_spherical_geometry(tmp_path):
         assert look.range_km[0] == pytest.approx(expected, rel=0.005)
 
 
-def test_reference_slant_ranges_from_references_md():
+def test_reference_slant_ranges():
     # Worked values from the same formula (R = 6378.137 km, h = 500 km).
     assert slant_range_km(6378.137, 500, 0) == pytest.approx(2574.5, abs=0.1)
     assert slant_range_km(6378.137, 500, 10) == pytest.approx(1695.1, abs=0.1)
