@@ -52,6 +52,7 @@ from planner.orbits import (
     control_character,
     in_supported_years,
 )
+from planner.patterns import FREQUENCY_MAX_MHZ, FREQUENCY_MIN_MHZ
 
 __all__ = [
     "StationConfig",
@@ -234,7 +235,7 @@ Name = Annotated[str, Strict(), _NameCheck(), Field(description=_ALLOWED_NAME)]
 Latitude = Annotated[Real, _Range(-90, 90)]
 Longitude = Annotated[Real, _Range(-180, 180)]
 Altitude = Annotated[Real, _Range(-500, 9000)]
-Frequency = Annotated[Real, _Range(1, 50000)]
+Frequency = Annotated[Real, _Range(FREQUENCY_MIN_MHZ, FREQUENCY_MAX_MHZ)]  # the pattern tables' range too
 
 def _resolve_file(value: Any, info: ValidationInfo, allowed: str) -> Path:
     """A file named in the scenario: relative to the scenario's folder, and it must exist.
