@@ -418,6 +418,8 @@ def _tle_element_set(
         )
 
     two_digit_year = int(year_text)
+    # TLE convention: 57-99 are 1957-1999, 00-56 are 2000-2056, always inside EARLIEST_YEAR to
+    # LATEST_YEAR; only the day of year can be out of range.
     year = 2000 + two_digit_year if two_digit_year < 57 else 1900 + two_digit_year
     day_of_year = Decimal(day_text.strip())
     days_in_year = (datetime(year + 1, 1, 1) - datetime(year, 1, 1)).days
