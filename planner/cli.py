@@ -117,14 +117,42 @@ def _check_format(value: str) -> str:
     return value
 
 
+def _shown(text: str, limit: int = 40) -> str:
+    """A user's option value for a message: quoted, escaped, clipped to ``limit`` characters."""
+    return repr(text if len(text) <= limit else text[: limit - 3] + "...")
+
+
 def _parse_utc(option: str, text: str) -> datetime:
+    """An ISO 8601 time (naive means UTC) as aware UTC, inside the years every time must lie in.
+
+    Checked before any arithmetic: near year 1 or 9999 the conversion to UTC, the element age
+    and the time scales overflow.
+    """
+    from planner.orbits import SUPPORTED_YEARS, in_supported_years
+
+    allowed = f"allowed an ISO 8601 time in the years {SUPPORTED_YEARS}, e.g. 2027-01-04T00:00:00Z"
     try:
         moment = datetime.fromisoformat(text.replace("Z", "+00:00"))
     except ValueError:
-        raise UserError(f"{option}: {text!r} is not an ISO 8601 time; allowed e.g. 2027-01-04T00:00:00Z") from None
+        raise UserError(f"{option}: {_shown(text)} is not an ISO 8601 time; {allowed}") from None
     if moment.tzinfo is None:
         moment = moment.replace(tzinfo=timezone.utc)
+    if not in_supported_years(moment):
+        raise UserError(f"{option}: {_shown(text)} is out of range; {allowed}")
     return moment.astimezone(timezone.utc)
+
+
+def _satellite_choice(wanted: str) -> dict:
+    """``--satellite``: ASCII digits are a catalog number (at most 9 of them), anything else a name."""
+    from planner.orbits import MAX_OMM_CATALOG_NUMBER
+
+    digits = wanted.strip()
+    if not (digits.isascii() and digits.isdigit()):
+        return dict(name=wanted)
+    if len(digits.lstrip("0")) > len(str(MAX_OMM_CATALOG_NUMBER)):  # before int(): 4300 digits raise
+        raise UserError(f"--satellite: {_shown(digits)} ({len(digits)} digits) is not a catalog number; "
+                        f"allowed 1 to {MAX_OMM_CATALOG_NUMBER}, or a satellite name")
+    return dict(norad_id=int(digits))
 
 
 def _adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step_s, satellites, allow_stale):
@@ -149,8 +177,7 @@ def _adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step
     if satellites:
         chosen = []
         for wanted in satellites:
-            key = dict(norad_id=int(wanted)) if wanted.strip().isdigit() else dict(name=wanted)
-            chosen.append(select_element_set(element_sets, source=str(elements), **key))
+            chosen.append(select_element_set(element_sets, source=str(elements), **_satellite_choice(wanted)))
         element_sets = chosen
     check_element_age(element_sets, window.start_utc, window.end_utc, allow_stale=allow_stale)
     return Study(

@@ -51,6 +51,12 @@ __all__ = [
     "tle_checksum",
     "STALE_WARNING_DAYS",
     "STALE_REFUSAL_DAYS",
+    "EARLIEST_YEAR",
+    "LATEST_YEAR",
+    "SUPPORTED_YEARS",
+    "MAX_OMM_CATALOG_NUMBER",
+    "in_supported_years",
+    "control_character",
 ]
 
 TLE_LINE_COLUMNS = 69
@@ -60,6 +66,20 @@ STALE_REFUSAL_DAYS = 30.0
 # than 20 rev/day cannot be an orbit (plausibility bound, common practice).
 MAX_MEAN_MOTION_REV_PER_DAY = 20.0
 MAX_CATALOG_NUMBER = 339999  # largest five-character (Alpha-5) catalog number, 'Z9999'
+# The OMM carries NORAD_CAT_ID as a plain integer, not in five columns. Catalog numbers of
+# up to 9 digits were announced for when the five-character field runs out (from memory),
+# so an OMM may hold up to 999999999; anything longer is a mistake, not a catalog number.
+MAX_OMM_CATALOG_NUMBER = 999_999_999
+
+# Years an element-set epoch, a window or any time a user gives must fall in (inclusive).
+# 1957: the first artificial satellite was launched in October 1957, so no element set is
+# older. 2100: far beyond any element set's useful life (SGP4 errors grow by kilometres a
+# day from the epoch) and well inside what datetime and the time scales can represent.
+EARLIEST_YEAR = 1957
+LATEST_YEAR = 2100
+SUPPORTED_YEARS = f"{EARLIEST_YEAR} to {LATEST_YEAR}"
+_EARLIEST_UTC = datetime(EARLIEST_YEAR, 1, 1, tzinfo=timezone.utc)
+_AFTER_LATEST_UTC = datetime(LATEST_YEAR + 1, 1, 1, tzinfo=timezone.utc)
 
 _MINUTES_PER_DAY = 1440.0
 _REV_PER_DAY_PER_RAD_PER_MIN = _MINUTES_PER_DAY / (2.0 * math.pi)
@@ -153,6 +173,34 @@ def _detect_format(text: str, suffix: str) -> str:
     return {".xml": "xml", ".json": "json", ".csv": "csv"}.get(suffix, "tle")
 
 
+def in_supported_years(moment: datetime) -> bool:
+    """True when ``moment`` (naive means UTC) falls in EARLIEST_YEAR..LATEST_YEAR, UTC.
+
+    Times near year 1 or 9999 with an offset cannot even be converted to UTC (OverflowError);
+    they are outside, not an error.
+    """
+    try:
+        return _EARLIEST_UTC <= _utc(moment) < _AFTER_LATEST_UTC
+    except (OverflowError, ValueError):
+        return False
+
+
+def control_character(text: str) -> tuple[int, str] | None:
+    """(1-based position, escaped form like ``\\x1b``) of the first character a terminal would not
+    show as itself, or None when every character prints.
+
+    The one rule for every name the program prints (TLE titles, OMM OBJECT_NAME, scenario
+    names): an ESC sequence, BEL, any other C0 or C1 control character or DEL could recolour
+    or rewrite the user's terminal. ``str.isprintable`` is False for exactly these and for
+    the other Unicode "Other" and "Separator" characters except the ASCII space (Python docs,
+    str.isprintable), such as tabs, line separators and text-direction overrides.
+    """
+    for index, char in enumerate(text, start=1):
+        if not char.isprintable():
+            return index, char.encode("unicode_escape").decode("ascii")
+    return None
+
+
 def _clip(text: str, limit: int = 40) -> str:
     """A short, single-line rendering of user text for a message."""
     text = text if len(text) <= limit else text[: limit - 3] + "..."
@@ -202,6 +250,12 @@ def _read_tle(text: str, label: str) -> list[ElementSet]:
         start_number, start_text = lines[i]
         title = ""
         if not _looks_like_element_line(start_text):
+            bad = control_character(start_text)
+            if bad is not None:
+                raise UserError(
+                    f"{label}:{start_number}: title line holds the control character {bad[1]} at "
+                    f"column {bad[0]}; a satellite name is printable text (no control characters)"
+                )
             title = start_text.strip()
             if title.startswith("0 "):
                 title = title[2:].strip()
@@ -364,6 +418,8 @@ def _tle_element_set(
         )
 
     two_digit_year = int(year_text)
+    # TLE convention: 57-99 are 1957-1999, 00-56 are 2000-2056, always inside EARLIEST_YEAR to
+    # LATEST_YEAR; only the day of year can be out of range.
     year = 2000 + two_digit_year if two_digit_year < 57 else 1900 + two_digit_year
     day_of_year = Decimal(day_text.strip())
     days_in_year = (datetime(year + 1, 1, 1) - datetime(year, 1, 1)).days
@@ -481,9 +537,24 @@ def _omm_number(where: str, fields: dict, key: str, default: float | None = None
     return number
 
 
-def _omm_integer(where: str, fields: dict, key: str, default: int | None = None) -> int:
+def _omm_integer(where: str, fields: dict, key: str, low: int, high: int, default: int | None = None) -> int:
+    """A whole-number keyword within ``low``..``high``.
+
+    The digits are counted before ``int()`` sees them: Python refuses to convert more than
+    4300 digits (Python docs, "Integer string conversion length limitation"), and no bound
+    here has more than a few digits anyway.
+    """
     value = _omm_field(where, fields, key, default, _INTEGER_RE, "a whole number")
-    return default if value is None else int(value)
+    if value is None:
+        return default
+    digits = value.lstrip("+-").lstrip("0")
+    if len(digits) > len(str(high)):
+        shown = value if len(value) <= 20 else f"{value[:12]}... ({len(digits)} digits)"
+        raise UserError(f"{where}: {key} is {shown}; allowed {low} to {high}")
+    number = int(value)
+    if not low <= number <= high:
+        raise UserError(f"{where}: {key} is {number}; allowed {low} to {high}")
+    return number
 
 
 def _omm_epoch(where: str, fields: dict) -> datetime:
@@ -496,8 +567,8 @@ def _omm_epoch(where: str, fields: dict) -> datetime:
     if not match:
         raise UserError(f"{where}: EPOCH is {_clip(value)}; {allowed}")
     year = int(match["year"])
-    if not 1957 <= year <= 2056:
-        raise UserError(f"{where}: EPOCH year is {year}; SGP4 elements allow 1957 to 2056")
+    if not EARLIEST_YEAR <= year <= LATEST_YEAR:
+        raise UserError(f"{where}: EPOCH year is {year}; allowed {SUPPORTED_YEARS}")
     try:
         if match["doy"] is not None:
             day_of_year = int(match["doy"])
@@ -514,7 +585,10 @@ def _omm_epoch(where: str, fields: dict) -> datetime:
         raise UserError(f"{where}: EPOCH is {_clip(value)}, not a calendar date and time; {allowed}") from None
     fraction = match["fraction"] or "."
     microseconds = int((Decimal("0" + fraction) * 1_000_000).to_integral_value()) if fraction != "." else 0
-    return clock + timedelta(microseconds=microseconds)
+    epoch = clock + timedelta(microseconds=microseconds)
+    if not in_supported_years(epoch):  # 2100-12-31T23:59:59.9999999 rounds into 2101
+        raise UserError(f"{where}: EPOCH is {_clip(value)}; allowed {SUPPORTED_YEARS}")
+    return epoch
 
 
 def _omm_element_set(fields: dict, where: str, source: str) -> ElementSet:
@@ -534,13 +608,13 @@ def _omm_element_set(fields: dict, where: str, source: str) -> ElementSet:
     raan_deg = _omm_number(where, fields, "RA_OF_ASC_NODE")
     argp_deg = _omm_number(where, fields, "ARG_OF_PERICENTER")
     anomaly_deg = _omm_number(where, fields, "MEAN_ANOMALY")
-    norad_id = _omm_integer(where, fields, "NORAD_CAT_ID")
+    norad_id = _omm_integer(where, fields, "NORAD_CAT_ID", 1, MAX_OMM_CATALOG_NUMBER)
     bstar = _omm_number(where, fields, "BSTAR")
     ndot = _omm_number(where, fields, "MEAN_MOTION_DOT", 0.0)
     nddot = _omm_number(where, fields, "MEAN_MOTION_DDOT", 0.0)
-    ephemeris_type = _omm_integer(where, fields, "EPHEMERIS_TYPE", 0)
-    element_set_no = _omm_integer(where, fields, "ELEMENT_SET_NO", 999)
-    rev_at_epoch = _omm_integer(where, fields, "REV_AT_EPOCH", 0)
+    ephemeris_type = _omm_integer(where, fields, "EPHEMERIS_TYPE", 0, 9, 0)
+    element_set_no = _omm_integer(where, fields, "ELEMENT_SET_NO", 0, 9999, 999)  # 4 TLE columns
+    rev_at_epoch = _omm_integer(where, fields, "REV_AT_EPOCH", 0, 99999, 0)  # 5 TLE columns
     classification = fields.get("CLASSIFICATION_TYPE") or "U"
 
     _check_mean_motion(where, "MEAN_MOTION", mean_motion)
@@ -549,25 +623,21 @@ def _omm_element_set(fields: dict, where: str, source: str) -> ElementSet:
     _check_range(where, "RA_OF_ASC_NODE (deg)", raan_deg, 0.0, 360.0)
     _check_range(where, "ARG_OF_PERICENTER (deg)", argp_deg, 0.0, 360.0)
     _check_range(where, "MEAN_ANOMALY (deg)", anomaly_deg, 0.0, 360.0)
-    if not 0 <= norad_id <= MAX_CATALOG_NUMBER:
-        raise UserError(f"{where}: NORAD_CAT_ID is {norad_id}; allowed 0 to {MAX_CATALOG_NUMBER}")
     if ephemeris_type == 4:
         raise UserError(f"{where}: EPHEMERIS_TYPE is 4 (SGP4-XP elements); this planner propagates "
                         "SGP4 elements (type 0)")
-    if not 0 <= ephemeris_type <= 9:
-        raise UserError(f"{where}: EPHEMERIS_TYPE is {ephemeris_type}; allowed 0 to 9 (0 for SGP4)")
-    if not 0 <= element_set_no <= 9999:
-        raise UserError(f"{where}: ELEMENT_SET_NO is {element_set_no}; allowed 0 to 9999")
-    if not 0 <= rev_at_epoch <= 99999:
-        raise UserError(f"{where}: REV_AT_EPOCH is {rev_at_epoch}; allowed 0 to 99999")
     if len(classification) != 1 or not ("A" <= classification.upper() <= "Z"):
         raise UserError(f"{where}: CLASSIFICATION_TYPE is {_clip(classification)}; expected one letter (U, C or S)")
 
+    name = _omm_name(where, fields.get("OBJECT_NAME") or "")
     satrec = Satrec()
+    # sgp4 takes catalog numbers up to the Alpha-5 limit only; the number plays no part in
+    # the propagation, so a larger one lives on the ElementSet alone and SGP4 is given 0.
+    satnum = norad_id if norad_id <= MAX_CATALOG_NUMBER else 0
     satrec.sgp4init(
-        WGS72, "i", norad_id, _days_since_sgp4_epoch0(epoch), bstar, ndot / _NDOT_UNITS,
-        nddot / _NDDOT_UNITS, eccentricity, math.radians(argp_deg), math.radians(inclination_deg),
-        math.radians(anomaly_deg), mean_motion / _REV_PER_DAY_PER_RAD_PER_MIN, math.radians(raan_deg),
+        WGS72, "i", satnum, _days_since_sgp4_epoch0(epoch), bstar, ndot / _NDOT_UNITS, nddot / _NDDOT_UNITS,
+        eccentricity, math.radians(argp_deg), math.radians(inclination_deg), math.radians(anomaly_deg),
+        mean_motion / _REV_PER_DAY_PER_RAD_PER_MIN, math.radians(raan_deg),
     )
     satrec.classification = classification.upper()
     object_id = _OBJECT_ID_RE.fullmatch(fields.get("OBJECT_ID") or "")
@@ -576,11 +646,16 @@ def _omm_element_set(fields: dict, where: str, source: str) -> ElementSet:
     satrec.elnum = element_set_no
     satrec.revnum = rev_at_epoch
     _check_satrec(where, satrec)
-    name = " ".join((fields.get("OBJECT_NAME") or "").split())
-    if not name.isprintable():
-        bad = next(c for c in name if not c.isprintable())
-        raise UserError(f"{where}: OBJECT_NAME holds the control character {bad!r}; allowed: printable text")
     return ElementSet(name=name, norad_id=norad_id, epoch=epoch, satrec=satrec, source=source)
+
+
+def _omm_name(where: str, text: str) -> str:
+    """OBJECT_NAME with runs of spaces made one; control characters are refused, not folded."""
+    bad = control_character(text)
+    if bad is not None:
+        raise UserError(f"{where}: OBJECT_NAME holds the control character {bad[1]} at character "
+                        f"{bad[0]}; a satellite name is printable text (no control characters)")
+    return " ".join(text.split())
 
 
 def _clean_value(value: str | None) -> str | None:
@@ -641,7 +716,7 @@ def _json_entry_lines(text: str) -> list[int]:
     def line_of(index: int) -> int:
         return bisect.bisect_right(newlines, index - 1) + 1
 
-    decoder = json.JSONDecoder()
+    decoder = json.JSONDecoder(parse_int=str)
     index = len(text) - len(text.lstrip())
     if text[index] != "[":
         return [line_of(index)]
@@ -662,7 +737,9 @@ def _json_entry_lines(text: str) -> list[int]:
 
 def _read_omm_json(text: str, label: str) -> list[ElementSet]:
     try:
-        data = json.loads(text, parse_constant=lambda name: name)  # NaN/Infinity stay text
+        # NaN/Infinity and integers stay text: the keyword checks read them (and int() of
+        # more than 4300 digits would raise; Python docs, integer string conversion limit).
+        data = json.loads(text, parse_constant=lambda name: name, parse_int=str)
     except json.JSONDecodeError as exc:
         raise UserError(f"{label}:{exc.lineno}: not valid JSON: {exc.msg} (column {exc.colno})") from None
     except RecursionError:
@@ -692,8 +769,8 @@ def _read_omm_json(text: str, label: str) -> list[ElementSet]:
                 fields[key] = None
             elif isinstance(value, bool) or isinstance(value, (list, dict)):
                 raise UserError(f"{where}: {key} is {_clip(json.dumps(value))}; expected a number or text")
-            elif isinstance(value, (int, float)):
-                fields[key] = repr(value) if isinstance(value, float) else str(value)
+            elif isinstance(value, float):
+                fields[key] = repr(value)
             else:
                 fields[key] = _clean_value(str(value))
         element_sets.append(_omm_element_set(fields, where, f"{label}:{line}"))

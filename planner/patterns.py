@@ -70,8 +70,12 @@ from planner.fileio import REPLACE_ANY, WriteRules, write_atomically
 GAIN_FLOOR_DBIC = -60.0
 """Gain written (and clipped to on loading) where there is no field: a zero of the model."""
 
-GAIN_CEILING_DBIC = 100.0
-"""Largest gain a table may hold; anything above is a unit or typing error."""
+GAIN_CEILING_DBIC = 40.0
+"""Largest gain a table may hold, in any direction (each column and their sum). The tables are of
+fixed, unpointed station antennas, omnidirectional and low-gain (a few dBic); 40 dBic is a beam
+about 2 deg wide (G ~ 41253 deg^2 / beam solid angle, Kraus; from memory), which a passing
+satellite crosses in seconds, so no fixed antenna this tool compares comes near it (common
+practice, no published source). Anything above is a unit or typing error."""
 
 AXIAL_RATIO_CAP_DB = 60.0
 """Axial ratio reported for a linearly polarized (or field-free) direction."""
@@ -298,19 +302,41 @@ def load_pattern(path: str | Path) -> PatternTable:
     return parse_pattern(text, source=source, path=p)
 
 
+def _clip_text(text: str, limit: int = 24) -> str:
+    """A value from the file for a message, quoted and escaped, at most ``limit`` characters of it."""
+    return repr(text if len(text) <= limit else text[: limit - 3] + "...")
+
+
 def _number(text: str, what: str, where: str) -> float:
     try:
         value = float(text)
     except ValueError:
-        raise UserError(f"{where}: {what} {text!r} is not a number") from None
+        raise UserError(f"{where}: {what} {_clip_text(text)} is not a number") from None
     if not math.isfinite(value):
-        raise UserError(f"{where}: {what} must be a finite number, got {text!r}")
+        raise UserError(f"{where}: {what} must be a finite number, got {_clip_text(text)}")
     return value
 
 
 def _fmt_deg(value: float) -> str:
     text = f"{value:.6f}".rstrip("0").rstrip(".")
     return "0" if text in ("-0", "") else text
+
+
+# Design frequencies a table may have: the link frequencies a scenario accepts (downlink_mhz,
+# uplink_mhz), 1 MHz to 50 GHz. Inside it the models of planner.noise (ITU-R P.372 lines from
+# 0.3 MHz, extrapolated beyond their stated ranges with a warning) and planner.atmosphere
+# (ITU-R P.676, stated for 1-1000 GHz, its low-frequency tail used below 1 GHz) are evaluated;
+# a table outside it serves no link the planner computes, so it is a unit mistake.
+FREQUENCY_MIN_MHZ = 1.0
+FREQUENCY_MAX_MHZ = 50_000.0
+
+# Energy conservation: a passive antenna radiates at most the power it is fed, so its total gain
+# G_RHCP + G_LHCP averaged over the sphere equals its radiation efficiency, at most 1 (IEEE Std 145
+# definition of gain; Balanis, Antenna Theory, ch. 2, gain and antenna efficiency). The table's mean is taken of its own
+# interpolant (sphere_mean_gain), which can fill nulls between rows on a coarse grid and over real
+# ground conserves power only to 1-2 % (planner.synth.ground); 0.6 dB (x 1.15) covers both, and
+# gains written to 0.001 dB. The shipped tables give 0.91 to 1.00.
+SPHERE_MEAN_GAIN_TOLERANCE = 1.15
 
 
 def _header_values(header: dict[str, str], header_lines: dict[str, int], source: str, fallback_line: int) -> dict[str, Any]:
@@ -323,8 +349,11 @@ def _header_values(header: dict[str, str], header_lines: dict[str, int], source:
     values: dict[str, Any] = {}
     where = f"{source}:{header_lines['frequency_mhz']}"
     mhz = _number(header["frequency_mhz"], "frequency_mhz", where)
-    if mhz <= 0:
-        raise UserError(f"{where}: frequency_mhz must be a positive number of MHz, got {header['frequency_mhz']!r}")
+    if not FREQUENCY_MIN_MHZ <= mhz <= FREQUENCY_MAX_MHZ:
+        raise UserError(
+            f"{where}: frequency_mhz {_clip_text(header['frequency_mhz'])} is out of range; allowed {FREQUENCY_MIN_MHZ:g} to "
+            f"{FREQUENCY_MAX_MHZ:g} MHz, the link frequencies the noise and atmosphere models are used for"
+        )
     values["frequency_hz"] = mhz * 1e6
     if "feed_vswr" in header:
         where = f"{source}:{header_lines['feed_vswr']}"
@@ -413,16 +442,21 @@ def parse_pattern(text: str, *, source: str = "<pattern>", path: Path | None = N
         record = {name: _number(value, name, where) for name, value in zip(columns, fields)}
         el = record["elevation_deg"]
         if not -90.0 <= el <= 90.0:
-            raise UserError(f"{where}: elevation_deg {fields[columns.index('elevation_deg')]} outside -90..90")
+            raise UserError(f"{where}: elevation_deg {_clip_text(fields[columns.index('elevation_deg')])} outside -90..90")
         az = record.get("azimuth_deg", 0.0)
         if "azimuth_deg" in record and not 0.0 <= az < 360.0:
             raise UserError(
-                f"{where}: azimuth_deg {fields[columns.index('azimuth_deg')]} outside [0, 360) "
+                f"{where}: azimuth_deg {_clip_text(fields[columns.index('azimuth_deg')])} outside [0, 360) "
                 "(0 and 360 are the same direction: give 0 only)"
             )
         for name in ("gain_rhcp_dbic", "gain_lhcp_dbic"):
             if record[name] > GAIN_CEILING_DBIC:
-                raise UserError(f"{where}: {name} {fields[columns.index(name)]} above {GAIN_CEILING_DBIC:g} dBic; gains are in dBic")
+                raise UserError(f"{where}: {name} {_clip_text(fields[columns.index(name)])} above {GAIN_CEILING_DBIC:g} dBic; "
+                                f"allowed up to {GAIN_CEILING_DBIC:g} dBic (gains are in dBic)")
+        total_dbic = float(linear_to_db(db_to_linear(record["gain_rhcp_dbic"]) + db_to_linear(record["gain_lhcp_dbic"])))
+        if round(total_dbic, 3) > GAIN_CEILING_DBIC:  # to the 0.001 dB gains are written with
+            raise UserError(f"{where}: total gain gain_rhcp_dbic + gain_lhcp_dbic is {total_dbic:.2f} dBic; "
+                            f"allowed up to {GAIN_CEILING_DBIC:g} dBic")
         key = (el + 0.0, az + 0.0)
         if key in seen_rows:
             at = f"elevation {_fmt_deg(el)} deg" + (f", azimuth {_fmt_deg(az)} deg" if "azimuth_deg" in record else "")
@@ -494,11 +528,15 @@ def parse_pattern(text: str, *, source: str = "<pattern>", path: Path | None = N
         feed_impedance_ohm=typed.get("feed_impedance_ohm"),
         radiation_efficiency=typed.get("radiation_efficiency"),
     )
+    # Every table covers elevations -90..90 (checked above), so the mean is over the whole sphere.
     mean = sphere_mean_gain(table)
-    if mean > 1.10:
-        warn(
-            f"{source}: total gain averages {mean:.2f} over the sphere (a lossless antenna gives 1, more is "
-            "unphysical); check the columns are partial RHCP/LHCP gains in dBic"
+    if mean > SPHERE_MEAN_GAIN_TOLERANCE:
+        totals = db_to_linear(np.array([r[3] for r in rows])) + db_to_linear(np.array([r[4] for r in rows]))
+        peak_line = rows[int(np.argmax(totals))][0]
+        raise UserError(
+            f"{source}:{peak_line}: total gain averages {mean:.2f} over the sphere (largest on this line); a passive "
+            "antenna radiates at most the power it is fed, so the mean of G_RHCP + G_LHCP is at most 1, allowed up to "
+            f"{SPHERE_MEAN_GAIN_TOLERANCE:g} for interpolation; check the columns are partial RHCP/LHCP gains in dBic"
         )
     return table
 

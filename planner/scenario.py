@@ -21,6 +21,7 @@ from __future__ import annotations
 import difflib
 import math
 import os
+import re
 import tomllib
 import types
 import typing
@@ -44,6 +45,14 @@ from pydantic.fields import FieldInfo
 from pydantic_core import PydanticCustomError, core_schema
 
 from planner.errors import UserError
+from planner.orbits import (
+    LATEST_YEAR,
+    MAX_OMM_CATALOG_NUMBER,
+    SUPPORTED_YEARS,
+    control_character,
+    in_supported_years,
+)
+from planner.patterns import FREQUENCY_MAX_MHZ, FREQUENCY_MIN_MHZ
 
 __all__ = [
     "StationConfig",
@@ -66,14 +75,11 @@ __all__ = [
 SECONDS_PER_DAY = 86400.0
 _STRICT = ConfigDict(extra="forbid")
 
-# Earliest and latest window start accepted. The first artificial satellite flew in
-# October 1957; 2100 is far beyond any use of mean elements propagated by SGP4.
-_EARLIEST_START = datetime(1957, 1, 1, tzinfo=timezone.utc)
-_LATEST_START = datetime(2100, 12, 31, 23, 59, 59, tzinfo=timezone.utc)
-
+# The window lies in the years planner.orbits allows for every time (1957: the first
+# artificial satellite; 2100: beyond any element set's useful life).
 _ALLOWED_START = (
     "a TOML date-time with a time zone, such as 2027-01-04T00:00:00Z, or the same text "
-    "in quotes, between 1957 and 2100"
+    f"in quotes, in the years {SUPPORTED_YEARS}"
 )
 _ALLOWED_ELEMENTS = (
     "the path of a TLE, 3LE or OMM file in quotes; a relative path is taken from the "
@@ -210,8 +216,12 @@ def _check_name(value: str) -> str:
         raise _error("the name is empty", _ALLOWED_NAME)
     if len(value) > 80:
         raise _error(f"the name is {len(value)} characters long", _ALLOWED_NAME)
-    if not value.isprintable():
-        raise _error(f"the name {_show(value)} holds control characters", _ALLOWED_NAME)
+    bad = control_character(value)  # the same rule as element-file names
+    if bad is not None:
+        raise _error(
+            f"the name {_show(value)} holds the control character {bad[1]} at character {bad[0]}",
+            _ALLOWED_NAME,
+        )
     return value
 
 
@@ -225,7 +235,7 @@ Name = Annotated[str, Strict(), _NameCheck(), Field(description=_ALLOWED_NAME)]
 Latitude = Annotated[Real, _Range(-90, 90)]
 Longitude = Annotated[Real, _Range(-180, 180)]
 Altitude = Annotated[Real, _Range(-500, 9000)]
-Frequency = Annotated[Real, _Range(1, 50000)]
+Frequency = Annotated[Real, _Range(FREQUENCY_MIN_MHZ, FREQUENCY_MAX_MHZ)]  # the pattern tables' range too
 
 def _resolve_file(value: Any, info: ValidationInfo, allowed: str) -> Path:
     """A file named in the scenario: relative to the scenario's folder, and it must exist.
@@ -369,7 +379,7 @@ class WindowConfig(BaseModel):
             parsed = parsed.astimezone(timezone.utc)
         except (OverflowError, ValueError):
             raise _error(f"{parsed.isoformat()} is out of range", _ALLOWED_START) from None
-        if not _EARLIEST_START <= parsed <= _LATEST_START:
+        if not in_supported_years(parsed):
             raise _error(f"{parsed.isoformat()} is out of range", _ALLOWED_START)
         return parsed
 
@@ -380,6 +390,14 @@ class WindowConfig(BaseModel):
         if self.days * SECONDS_PER_DAY < self.step_s:
             raise _error(f"{_num(self.days)} days is shorter than one step of {_num(self.step_s)} s",
                          f"one step or more, here {self.step_s / SECONDS_PER_DAY:.3g} days or more", at=("days",))
+        # days is at most 31, so the end is a representable time; it must still lie in the years.
+        if not in_supported_years(self.end_utc):
+            raise _error(
+                f"the window from {self.start_utc.isoformat()} for {_num(self.days)} days ends in "
+                f"{self.end_utc.year}",
+                f"a window that ends by the end of {LATEST_YEAR}",
+                at=("days",),
+            )
         return self
 
     @property
@@ -433,7 +451,8 @@ class SatelliteConfig(RadioConfig):
 
     name: Name
     elements: Path = Field(description=_ALLOWED_ELEMENTS)
-    norad_id: Annotated[int, Strict(), _Range(1, 339999)] | None = None  # alpha-5 range
+    # Alpha-5 in a TLE reaches 339999; an OMM may carry up to 9 digits (see planner.orbits).
+    norad_id: Annotated[int, Strict(), _Range(1, MAX_OMM_CATALOG_NUMBER)] | None = None
 
     @field_validator("elements", mode="plain")
     @classmethod
@@ -900,6 +919,26 @@ def validated(
         ) from None
 
 
+# A decimal integer of more digits than Python converts (sys.int_info.default_max_str_digits),
+# standing alone: not part of a float's fraction or exponent, nor of a word.
+_LONG_INTEGER_RE = re.compile(r"(?<![\w.])[+-]?[0-9][0-9_]{4300,}(?![\w.])")
+_KEY_AT_LINE_START_RE = re.compile(r"\s*([A-Za-z0-9_-]+)\s*=")
+
+
+def _too_many_digits(source: str, text: str) -> str:
+    """The one-line report for a TOML integer too long to read, at its line and key if found."""
+    match = _LONG_INTEGER_RE.search(text)
+    allowed = "allowed: a number within the key's range; none accepts thousands of digits"
+    if match is None:
+        return f"{source}: a whole number has more than 4300 digits; {allowed}"
+    line = text.count("\n", 0, match.start()) + 1
+    line_text = text.split("\n")[line - 1]
+    key = _KEY_AT_LINE_START_RE.match(line_text)
+    digits = sum(char.isdigit() for char in match.group())
+    where = f"{source}:{line}: {key.group(1)}" if key else f"{source}:{line}"
+    return f"{where}: a whole number of {digits} digits ({match.group()[:12]}...); {allowed}"
+
+
 def load_scenario(path: str | Path) -> Scenario:
     """Read and validate a scenario TOML file; any problem is a one-line UserError."""
     file = Path(path)
@@ -920,6 +959,8 @@ def load_scenario(path: str | Path) -> Scenario:
         raise UserError(_one_line(f"{source}: not valid TOML: {exc}")) from None
     except RecursionError:
         raise UserError(f"{source}: not valid TOML: arrays or tables nested too deeply") from None
+    except ValueError:  # int() of more than 4300 digits (Python's integer string conversion limit)
+        raise UserError(_too_many_digits(source, text)) from None
     base_dir = Path(os.path.normpath(file.absolute())).parent
     try:
         scenario = Scenario.model_validate(data, context={"base_dir": base_dir})

@@ -15,7 +15,11 @@ import pytest
 from planner.orbits import read_elements
 from planner.passes import predict_passes
 from planner.station import Station
+from planner.cli import _parse_utc
+from planner.errors import UserError
 from tests.orbit_factory import make_tle, write_three_line
+from tests.test_hardening import assert_user_error as assert_one_error_line
+from tests.test_hardening import run_cli
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "scenarios" / "demo.toml"
@@ -173,3 +177,58 @@ def test_unknown_satellite_and_format(tmp_path):
 
 def test_output_folder_missing(tmp_path):
     assert_user_error(run("passes", DEMO, "--format", "csv", "--output", tmp_path / "no" / "x.csv"), "does not exist")
+
+
+# --------------------------------------------------------------------------- times and numbers in options
+
+# Every time lies in 1957 to 2100 (planner.orbits.EARLIEST_YEAR / LATEST_YEAR: the first artificial
+# satellite, and beyond any element set's useful life; common practice, no published source).
+# Near year 1 and 9999 datetime arithmetic overflows (Python docs, datetime.MINYEAR / MAXYEAR), which
+# used to end the command with a traceback.
+OUT_OF_RANGE_TIMES = ["0001-01-01T00:00:00Z", "9999-12-31T23:59:59Z", "9999-12-31T23:59:59-23:59",
+                      "1956-12-31T23:59:59Z", "2101-01-01T00:00:00Z"]
+
+
+@pytest.mark.parametrize("moment", OUT_OF_RANGE_TIMES)
+def test_budget_at_a_time_outside_1957_to_2100_is_one_line(moment):
+    run = run_cli("budget", DEMO, "--satellite", "TARNBECK", "--candidate", "turnstile-far", "--at", moment,
+                  "--allow-stale")
+    assert_one_error_line(run, f"--at: {moment!r} is out of range", "1957 to 2100")
+
+
+@pytest.mark.parametrize("moment", OUT_OF_RANGE_TIMES)
+def test_quick_look_start_outside_1957_to_2100_is_one_line(moment):
+    run = run_cli("passes", "--elements", ROOT / "sample_tle" / "demo.tle", "--lat", "52", "--lon", "0",
+                  "--start", moment, "--days", "1", "--allow-stale")
+    assert_one_error_line(run, f"--start: {moment!r} is out of range", "1957 to 2100")
+
+
+def test_quick_look_window_ending_after_2100_is_one_line():
+    run = run_cli("passes", "--elements", ROOT / "sample_tle" / "demo.tle", "--lat", "52", "--lon", "0",
+                  "--start", "2100-12-31T00:00:00Z", "--days", "2", "--allow-stale")
+    assert_one_error_line(run, "--days: the window from 2100-12-31T00:00:00+00:00 for 2 days ends in 2101")
+
+
+@pytest.mark.parametrize(
+    ("text", "expected"),
+    [("1957-01-01T00:00:00Z", datetime(1957, 1, 1, tzinfo=timezone.utc)),
+     ("2100-12-31T23:59:59.999999Z", datetime(2100, 12, 31, 23, 59, 59, 999999, tzinfo=timezone.utc)),
+     ("2101-01-01T00:30:00+01:00", datetime(2100, 12, 31, 23, 30, tzinfo=timezone.utc)),  # in 2100 as UTC
+     ("2027-01-04T00:00:00", datetime(2027, 1, 4, tzinfo=timezone.utc))],  # naive is UTC
+)
+def test_times_at_the_edges_of_the_years_are_accepted(text, expected):
+    assert _parse_utc("--at", text) == expected
+
+
+def test_a_long_non_time_is_clipped_in_the_message():
+    with pytest.raises(UserError) as info:
+        _parse_utc("--at", "x" * 5000)
+    assert len(str(info.value)) < 200 and "is not an ISO 8601 time" in str(info.value)
+
+
+def test_catalog_number_of_thousands_of_digits_is_one_line():
+    # int() of more than 4300 digits raises (Python docs, integer string conversion length limitation).
+    run = run_cli("passes", "--elements", ROOT / "sample_tle" / "demo.tle", "--lat", "52", "--lon", "0",
+                  "--start", "2027-01-04T00:00:00Z", "--days", "1", "--satellite", "9" * 5000)
+    line = assert_one_error_line(run, "--satellite:", "(5000 digits) is not a catalog number", "1 to 999999999")
+    assert len(line) < 300

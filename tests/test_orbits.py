@@ -33,6 +33,7 @@ from sgp4.api import Satrec, jday
 from planner.errors import PlannerWarning, UserError
 from planner.orbits import (
     ElementSet,
+    control_character,
     check_element_age,
     element_age_days,
     read_elements,
@@ -596,3 +597,158 @@ def test_mutated_tle_gives_element_sets_or_user_error(fuzz_dir, edits, file_name
         for es in element_sets:
             assert es.satrec.error == 0 and es.epoch.tzinfo is not None
             assert es.period_s > 0
+
+
+# --------------------------------------------------------------------------- ranges of every field
+
+# Python refuses int() of more than 4300 digits (Python docs, "Integer string conversion length
+# limitation", sys.int_info.default_max_str_digits); 5000 digits must give a one-line error that
+# does not repeat the number.
+HUGE = "7" * 5000
+
+
+def _omm_forms(tmp_path: Path, key: str, value: str) -> list[tuple[Path, int]]:
+    """The first demo OMM with ``key`` set to ``value`` as CSV, XML, JSON number and JSON text,
+    each with the line its error must name."""
+    forms = []
+    rows = (SAMPLES / "demo_omm.csv").read_text().splitlines()
+    header = rows[0].split(",")
+    cells = rows[1].split(",")
+    cells[header.index(key)] = value
+    forms.append((write(tmp_path, "huge.csv", f"{rows[0]}\n{','.join(cells)}\n"), 2))
+    xml = (SAMPLES / "demo_omm.xml").read_text()
+    old = next(line for line in xml.splitlines() if f"<{key}>" in line)
+    xml = xml.replace(old, f"            <{key}>{value}</{key}>", 1)
+    line = next(i + 1 for i, text in enumerate(xml.splitlines()) if f"<{key}>" in text)
+    forms.append((write(tmp_path, "huge.xml", xml), line))
+    entry = json.loads((SAMPLES / "demo_omm.json").read_text())[0]
+    entry[key] = 0
+    as_number = json.dumps(entry).replace(f'"{key}": 0', f'"{key}": {value}')
+    forms.append((write(tmp_path, "huge-number.json", as_number), 1))
+    entry[key] = value
+    forms.append((write(tmp_path, "huge-text.json", json.dumps(entry)), 1))
+    return forms
+
+
+@pytest.mark.parametrize("key", ["NORAD_CAT_ID", "MEAN_MOTION", "REV_AT_EPOCH", "ELEMENT_SET_NO", "BSTAR"])
+def test_omm_numbers_of_thousands_of_digits_are_refused_in_one_short_line(tmp_path, key):
+    for path, line in _omm_forms(tmp_path, key, HUGE):
+        message = expect_user_error(path, line, key)
+        assert len(message) < 300 and HUGE[:100] not in message, message
+
+
+def test_omm_catalog_number_of_nine_digits_propagates_like_a_small_one(tmp_path):
+    # NORAD_CAT_ID: a positive whole number of at most 9 digits (the 9-digit catalog numbers
+    # announced for when the 5-character TLE field runs out; from memory). The number plays no
+    # part in SGP4 (Spacetrack Report #3), so the orbit must come out the same.
+    (tmp_path / "small").mkdir()
+    (tmp_path / "large").mkdir()
+    small_path, _ = _omm_forms(tmp_path / "small", "NORAD_CAT_ID", "99901")[0]
+    large_path, _ = _omm_forms(tmp_path / "large", "NORAD_CAT_ID", "999999999")[0]
+    (small,), (large,) = read_elements(small_path), read_elements(large_path)
+    assert large.norad_id == 999_999_999 and small.norad_id == 99901
+    jd, fr = jday(2027, 1, 4, 6, 0, 0.0)
+    assert large.satrec.sgp4(jd, fr) == small.satrec.sgp4(jd, fr)
+    assert select_element_set([small, large], norad_id=999_999_999) is large
+
+
+@pytest.mark.parametrize("value", ["0", "1000000000", "-5"])
+def test_omm_catalog_number_outside_one_to_nine_digits_is_refused(tmp_path, value):
+    path, line = _omm_forms(tmp_path, "NORAD_CAT_ID", value)[0]
+    expect_user_error(path, line, "NORAD_CAT_ID", "allowed 1 to 999999999")
+
+
+def _with_catalog_number(text: str) -> list[str]:
+    lines = demo_lines()[:3]
+    return [lines[0], with_checksum(lines[1][:2] + text + lines[1][7:]), with_checksum(lines[2][:2] + text + lines[2][7:])]
+
+
+def test_tle_alpha5_edge_z9999_is_the_largest_number(tmp_path):
+    # Alpha-5 (CelesTrak/NORAD two-line element format documentation, columns 3-7): a letter
+    # A-Z without I and O, worth 10..33, then 4 digits; Z9999 = 33 * 10000 + 9999 = 339999.
+    (element_set,) = read_elements(write(tmp_path, "z.tle", "\n".join(_with_catalog_number("Z9999")) + "\n"))
+    assert element_set.norad_id == 339999
+
+
+@pytest.mark.parametrize("text", ["I0001", "O0001", "a0001", "Z999A", "1 234"])
+def test_tle_catalog_number_outside_the_five_character_field_is_refused(tmp_path, text):
+    # I and O are not Alpha-5 letters (they read as 1 and 0); same source as above.
+    path = write(tmp_path, "bad.tle", "\n".join(_with_catalog_number(text)) + "\n")
+    expect_user_error(path, 2, "catalog number (columns 3-7)", "Alpha-5")
+
+
+def _tle_with_epoch(year: int, day_text: str) -> str:
+    lines = demo_lines()[:3]
+    lines[1] = with_checksum(lines[1][:18] + f"{year % 100:02d}{day_text}" + lines[1][32:])
+    return "\n".join(lines) + "\n"
+
+
+@pytest.mark.parametrize(
+    ("two_digit_year", "day_text", "expected"),
+    [
+        # TLE epoch year convention (CelesTrak/NORAD two-line element format documentation):
+        # 57-99 are 1957-1999, 00-56 are 2000-2056.
+        (56, "001.00000000", datetime(2056, 1, 1, tzinfo=timezone.utc)),
+        (57, "001.00000000", datetime(1957, 1, 1, tzinfo=timezone.utc)),
+        (0, "001.00000000", datetime(2000, 1, 1, tzinfo=timezone.utc)),
+        # 2028 is a leap year (Gregorian rule: divisible by 4, not a century), day 366 exists.
+        (28, "366.50000000", datetime(2028, 12, 31, 12, tzinfo=timezone.utc)),
+    ],
+)
+def test_tle_epoch_edges_are_accepted(tmp_path, two_digit_year, day_text, expected):
+    (element_set,) = read_elements(write(tmp_path, "edge.tle", _tle_with_epoch(two_digit_year, day_text)))
+    assert element_set.epoch == expected
+
+
+@pytest.mark.parametrize(("two_digit_year", "day_text"), [(27, "000.50000000"), (56, "367.00000000"), (0, "999.00000000")])
+def test_tle_epoch_day_outside_its_year_is_refused(tmp_path, two_digit_year, day_text):
+    path = write(tmp_path, "day.tle", _tle_with_epoch(two_digit_year, day_text))
+    expect_user_error(path, 2, "epoch day of year")
+
+
+@pytest.mark.parametrize(
+    "epoch_text",
+    ["0001-01-01T00:00:00", "9999-12-31T23:59:59", "1956-12-31T23:59:59", "2101-01-01T00:00:00",
+     "2100-12-31T23:59:59.9999999"],  # the last rounds to the microsecond into 2101
+)
+def test_omm_epoch_outside_1957_to_2100_is_refused(tmp_path, epoch_text):
+    # 1957: the first artificial satellite; 2100: past any element set's useful life
+    # (planner.orbits.EARLIEST_YEAR / LATEST_YEAR; common practice, no published source).
+    path, line = _omm_forms(tmp_path, "EPOCH", epoch_text)[0]
+    expect_user_error(path, line, "EPOCH", "1957 to 2100")
+
+
+@pytest.mark.parametrize("epoch_text", ["1957-01-01T00:00:00", "2100-12-31T23:59:59.999999"])
+def test_omm_epoch_edges_are_accepted(tmp_path, epoch_text):
+    path, _ = _omm_forms(tmp_path, "EPOCH", epoch_text)[3]  # JSON, the epoch as text
+    (element_set,) = read_elements(path)
+    assert element_set.epoch == datetime.fromisoformat(epoch_text + "+00:00")
+
+
+# ESC (0x1b), BEL (0x07), DEL (0x7f), CSI as a C1 control (0x9b), a C0 unit separator (0x1f) and
+# a text-direction override (U+202E): control characters of ECMA-48 / ISO 6429 (C0 0x00-0x1f,
+# C1 0x80-0x9f; DEL 0x7f) and a Unicode format character, all non-printable for Python's
+# str.isprintable (Python docs).
+CONTROL_CHARACTERS = [("\x1b", "\\x1b"), ("\x07", "\\x07"), ("\x7f", "\\x7f"), ("\x9b", "\\x9b"),
+                      ("\x1f", "\\x1f"), ("\u202e", "\\u202e")]
+
+
+@pytest.mark.parametrize(("char", "escaped"), CONTROL_CHARACTERS)
+def test_tle_title_with_a_control_character_is_refused(tmp_path, char, escaped):
+    lines = demo_lines()
+    lines[3] = f"TARN{char}[2JBECK"
+    path = write(tmp_path, "title.tle", "\n".join(lines) + "\n")
+    message = expect_user_error(path, 4, "title line", escaped, "column 5")
+    assert char not in message
+
+
+@pytest.mark.parametrize(("char", "escaped"), CONTROL_CHARACTERS)
+def test_omm_object_name_with_a_control_character_is_refused(tmp_path, char, escaped):
+    for path, line in (_omm_forms(tmp_path, "OBJECT_NAME", f"WREN{char}[2JLING")[i] for i in (0, 3)):  # CSV, JSON
+        message = expect_user_error(path, line, "OBJECT_NAME", escaped, "character 5")
+        assert char not in message
+
+
+def test_printable_names_with_spaces_and_accents_are_kept():
+    assert control_character("WRENLING-1 (Cobbleford) é") is None
+    assert control_character("A\tB") == (2, "\\t")

@@ -495,7 +495,7 @@ BAD_CASES = [
     ("blank", "\n  \n", 1, "empty pattern file"),
     ("no frequency", _with(1, "# model2 = x"), 5, "frequency_mhz"),
     ("frequency not a number", _with(1, "# frequency_mhz = UHF"), 1, "not a number"),
-    ("frequency negative", _with(1, "# frequency_mhz = -436"), 1, "positive"),
+    ("frequency negative", _with(1, "# frequency_mhz = -436"), 1, "allowed 1 to 50000 MHz"),
     ("frequency infinite", _with(1, "# frequency_mhz = inf"), 1, "finite"),
     ("repeated header key", _with(2, "# frequency_mhz = 437"), 2, "repeated"),
     ("bad vswr", _with(3, "# feed_vswr = 0.5"), 3, "at least 1"),
@@ -548,12 +548,74 @@ def test_missing_file_folder_and_non_utf8(tmp_path):
         P.load_pattern(binary)
 
 
-def test_more_gain_than_power_in_warns(tmp_path):
+def test_more_gain_than_power_in_is_refused(tmp_path):
     # Energy conservation: a sphere-average gain of 100 (20 dBic everywhere) is impossible.
     path = tmp_path / "hot.csv"
     path.write_text("# frequency_mhz = 436\nelevation_deg,gain_rhcp_dbic,gain_lhcp_dbic\n-90,20,-60\n90,20,-60\n")
-    with pytest.warns(PlannerWarning, match="averages 100.00 over the sphere"):
+    with pytest.raises(UserError, match=r"hot.csv:3: total gain averages 100.00 over the sphere"):
         P.load_pattern(path)
+
+
+# ------------------------------------------------------------------ impossible gains and frequencies
+
+
+def _uniform_table(gain_dbic: float, *, frequency_mhz: str = "436", peak: tuple[float, float] | None = None) -> str:
+    """A 1-degree azimuth-symmetric table: RHCP ``gain_dbic`` everywhere, LHCP at the floor; with
+    ``peak`` = (rhcp, lhcp) at the zenith row (the last line) instead."""
+    rows = [f"{el},{gain_dbic:g},-60" for el in range(-90, 90)]
+    rows.append(f"90,{peak[0]:g},{peak[1]:g}" if peak else f"90,{gain_dbic:g},-60")
+    return f"# frequency_mhz = {frequency_mhz}\nelevation_deg,gain_rhcp_dbic,gain_lhcp_dbic\n" + "\n".join(rows) + "\n"
+
+
+def test_sphere_mean_gain_tolerance_edges():
+    # A constant gain g over the sphere averages exactly 10^(g/10); a passive antenna's sphere mean
+    # is its radiation efficiency, at most 1 (IEEE Std 145 definition of gain; Balanis, Antenna
+    # Theory, ch. 2, gain and antenna efficiency). Refused beyond the tolerance of 1.15 = 0.607 dB (planner.patterns).
+    # (the LHCP column at the -60 dBic floor adds 1e-6)
+    assert P.sphere_mean_gain(P.parse_pattern(_uniform_table(0.0))) == pytest.approx(1.0 + 1e-6, rel=1e-9)
+    assert P.sphere_mean_gain(P.parse_pattern(_uniform_table(0.60))) == pytest.approx(10 ** 0.06 + 1e-6, rel=1e-9)
+    with pytest.raises(UserError, match=r"<pattern>:3: total gain averages 1.15 over the sphere.*allowed up to 1.15"):
+        P.parse_pattern(_uniform_table(0.61))
+
+
+def test_tables_in_the_patterns_folder_conserve_energy():
+    # The same law on what ships: the sphere mean is at most the stated radiation efficiency
+    # (Balanis ch. 2); the feed network's losses, in the gains of the harness tables, take it lower.
+    # The other column's -60 dBic floor adds 1e-6.
+    for path in sorted(SHIPPED.glob("*.csv")):
+        table = P.load_pattern(path)  # raises if above the tolerance
+        assert 0.5 < P.sphere_mean_gain(table) <= (table.radiation_efficiency or 1.0) + 1e-5, path.name
+
+
+def test_peak_gain_cap_edges():
+    # 40 dBic is the cap for a fixed station antenna (planner.patterns.GAIN_CEILING_DBIC; common
+    # practice, no published source). At the zenith row alone it still conserves energy.
+    table = P.parse_pattern(_uniform_table(-10.0, peak=(40.0, -60.0)))
+    assert table.gains_dbic(0.0, 90.0)[0] == 40.0
+    with pytest.raises(UserError, match=r"<pattern>:183: gain_rhcp_dbic '40.01' above 40 dBic"):
+        P.parse_pattern(_uniform_table(-10.0, peak=(40.01, -60.0)))
+    # +100 dBic, a unit mistake
+    with pytest.raises(UserError, match=r"<pattern>:183: gain_lhcp_dbic '100' above 40 dBic"):
+        P.parse_pattern(_uniform_table(-10.0, peak=(0.0, 100.0)))
+    # Each column below the cap, their sum above: 38.5 dBic twice is 41.51 dBic total.
+    with pytest.raises(UserError, match=r"<pattern>:183: total gain .* is 41.51 dBic; allowed up to 40 dBic"):
+        P.parse_pattern(_uniform_table(-10.0, peak=(38.5, 38.5)))
+
+
+@pytest.mark.parametrize("frequency_mhz", ["1e30", "0.000001", "0.999", "50000.1", "1" * 5000])
+def test_design_frequency_outside_1_mhz_to_50_ghz_is_refused(frequency_mhz):
+    # 1 MHz to 50 GHz: the link frequencies a scenario accepts, inside the ranges planner.noise
+    # (ITU-R P.372, from 0.3 MHz) and planner.atmosphere (ITU-R P.676, to 1000 GHz) evaluate.
+    with pytest.raises(UserError) as info:
+        P.parse_pattern(_uniform_table(0.0, frequency_mhz=frequency_mhz))
+    message = str(info.value)
+    assert message.startswith("<pattern>:1: frequency_mhz ") and len(message) < 250, message
+    assert "allowed 1 to 50000 MHz" in message or "finite" in message, message
+
+
+@pytest.mark.parametrize("frequency_mhz", ["1", "50000", "436"])
+def test_design_frequency_edges_are_accepted(frequency_mhz):
+    assert P.parse_pattern(_uniform_table(0.0, frequency_mhz=frequency_mhz)).frequency_hz == float(frequency_mhz) * 1e6
 
 
 # Mutations of a small valid table: the loader returns a table or raises UserError, nothing else.

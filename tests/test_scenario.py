@@ -5,7 +5,8 @@ External facts the checks rest on, each repeated beside its check:
   Python's tomllib is the reference parser.
 - WGS84 geodetic coordinates: latitude -90..90 deg, longitude -180..180 deg (definition).
 - NORAD catalog numbers in the alpha-5 scheme reach 339999 (common practice, no published
-  source beyond the catalog operator's format notes).
+  source beyond the catalog operator's format notes); an OMM may carry 9 digits (the 9-digit
+  catalog numbers announced for the future; from memory).
 - ITU Radio Regulations Article 5: amateur-satellite allocations 144-146 MHz and 435-438 MHz
   (from memory).
 - A bit error ratio of 0.5 is what guessing gives, so a target BER must be below it
@@ -336,11 +337,11 @@ BAD_CASES = [
         ["satellite #3 (OSTRAVEL-2).norad_id: expected a whole number"],
         id="fractional catalog number",
     ),
-    # Alpha-5 catalog numbers stop at 339999 (common practice).
+    # 9-digit catalog numbers stop at 999999999 (from memory; see the module notes).
     pytest.param(
         "norad_id = 99903",
-        "norad_id = 340000",
-        ["satellite #3 (OSTRAVEL-2).norad_id: 340000 is out of range", "1 to 339999"],
+        "norad_id = 1000000000",
+        ["satellite #3 (OSTRAVEL-2).norad_id: 1000000000 is out of range", "1 to 999999999"],
         id="catalog number too large",
     ),
     pytest.param(
@@ -467,7 +468,7 @@ BAD_CASES = [
     pytest.param(
         'name = "TARNBECK"',
         'name = "TARN\\nBECK"',
-        ['satellite #2 (TARN\\nBECK).name', "control characters"],
+        ['satellite #2 (TARN\\nBECK).name', "holds the control character \\n at character 5"],
         id="name with a newline",
     ),
     # Losses between the antenna and the LNA (candidate keys, defaults in [receiver]).
@@ -693,3 +694,98 @@ def test_pre_lna_cable_is_checked_like_the_feedline(tree: Path) -> None:
     assert "\n" not in message
     assert message.startswith(f"{path}: candidate #1 (turnstile-close).pre_lna_feedline #1: "), message
     assert "RG-999" in message and "RG-58" in message
+
+
+# ------------------------------------------------------------------ ranges of every value
+
+# Python's int() refuses more than 4300 digits (Python docs, "Integer string conversion length
+# limitation"), and tomllib reads TOML integers with int(): 5000 digits must still give one line
+# naming the line and key, without repeating the number.
+@pytest.mark.parametrize(
+    ("old", "key"),
+    [("days = 7", "days"), ("latitude_deg = 52.137", "latitude_deg"), ("norad_id = 99903", "norad_id"),
+     ("connectors = 3", "connectors"), ("[40, 8]", "horizon_mask")],
+)
+def test_integers_of_thousands_of_digits_name_line_and_key(tree: Path, old: str, key: str) -> None:
+    huge = "9" * 5000
+    new = f"{key} = {huge}" if old.startswith(key) else f"[{huge}, 8]"
+    path = _variant(tree, old, new)
+    line = DEMO_TEXT[: DEMO_TEXT.index(old)].count("\n") + 1
+    with pytest.raises(UserError) as info:
+        load_scenario(path)
+    message = str(info.value)
+    assert message.startswith(f"{path}:{line}: {key}: a whole number of 5000 digits"), message
+    assert "\n" not in message and len(message) < 300 and huge[:100] not in message
+
+
+def test_integers_just_under_the_conversion_limit_are_out_of_range_in_short(tree: Path) -> None:
+    message = _user_error(_variant(tree, "days = 7", "days = " + "9" * 4000))
+    assert "window.days: 999999999999... (4000 digits) is too large a number" in message
+    assert len(message) < 300
+
+
+@pytest.mark.parametrize(
+    ("start", "days", "problem", "allowed"),
+    [
+        # 1957: the first artificial satellite; 2100: beyond any element set's useful life
+        # (planner.orbits.EARLIEST_YEAR / LATEST_YEAR; common practice, no published source).
+        ("0001-01-01T00:00:00Z", "7", "window.start_utc: 0001-01-01T00:00:00+00:00 is out of range", "1957 to 2100"),
+        ("9999-12-31T23:59:59Z", "7", "window.start_utc: 9999-12-31T23:59:59+00:00 is out of range", "1957 to 2100"),
+        ("9999-12-31T23:59:59-23:59", "7", "window.start_utc: 9999-12-31T23:59:59-23:59 is out of range", "1957 to 2100"),
+        ("1956-12-31T23:59:59Z", "7", "window.start_utc: 1956-12-31T23:59:59+00:00 is out of range", "1957 to 2100"),
+        ("2100-12-31T00:00:00Z", "7", "window.days: the window from 2100-12-31T00:00:00+00:00 for 7 days ends in 2101",
+         "a window that ends by the end of 2100"),
+        # timedelta holds at most 999999999 days (Python docs, datetime.timedelta), so these would
+        # overflow start + days; the 31-day limit refuses them first.
+        ("2027-01-04T00:00:00Z", "1e300", "window.days: 1e+300 is out of range", "more than 0, up to 31"),
+        ("2027-01-04T00:00:00Z", "3000000000", "window.days: 3000000000 is out of range", "more than 0, up to 31"),
+    ],
+)
+def test_window_outside_1957_to_2100_is_refused(tree: Path, start: str, days: str, problem: str, allowed: str) -> None:
+    text = DEMO_TEXT.replace("start_utc = 2027-01-04T00:00:00Z", f"start_utc = {start}").replace("days = 7", f"days = {days}")
+    path = tree / "scenarios" / "window.toml"
+    path.write_text(text, encoding="utf-8")
+    message = _user_error(path)
+    head, _, allowed_part = message.partition("; allowed: ")
+    assert problem in head and allowed in allowed_part, message
+
+
+@pytest.mark.parametrize(("start", "days"), [("1957-01-01T00:00:00Z", "7"), ("2100-12-24T00:00:00Z", "7")])
+def test_window_edges_inside_the_years_are_accepted(tree: Path, start: str, days: str) -> None:
+    text = DEMO_TEXT.replace("start_utc = 2027-01-04T00:00:00Z", f"start_utc = {start}").replace("days = 7", f"days = {days}")
+    path = tree / "scenarios" / "edge.toml"
+    path.write_text(text, encoding="utf-8")
+    window = load_scenario(path).window
+    assert window.start_utc == datetime.fromisoformat(start.replace("Z", "+00:00"))
+    assert window.end_utc <= datetime(2101, 1, 1, tzinfo=timezone.utc)
+
+
+def test_nine_digit_catalog_number_is_accepted(tree: Path) -> None:
+    scenario = load_scenario(_variant(tree, "norad_id = 99903", "norad_id = 999999999"))
+    assert scenario.satellite_named("OSTRAVEL-2").norad_id == 999_999_999
+
+
+# ESC, BEL, DEL, a C1 CSI and a text-direction override, written as TOML \u escapes (TOML v1.0.0,
+# basic strings): control characters of ECMA-48 / ISO 6429 (C0, C1, DEL) and a Unicode format
+# character, none printable for Python's str.isprintable (Python docs).
+_CONTROLS = [("\\u001b", "\\x1b"), ("\\u0007", "\\x07"), ("\\u007f", "\\x7f"), ("\\u009b", "\\x9b"),
+             ("\\u202e", "\\u202e")]
+_CABLE = '\n[[cable]]\nname = "{name}"\nloss_db_per_100m = [[100, 5.0]]\n'
+
+
+@pytest.mark.parametrize(("toml_escape", "shown"), _CONTROLS)
+@pytest.mark.parametrize(
+    ("old", "where"),
+    [('name = "Cobbleford Fell Radio Society"', "station.name"), ('name = "TARNBECK"', "satellite #2"),
+     ('name = "turnstile-far"', "candidate #2"), (None, "cable #1")],
+)
+def test_names_with_control_characters_are_refused(tree: Path, old, where: str, toml_escape: str, shown: str) -> None:
+    name = f"BAD{toml_escape}[2JNAME"
+    if old is None:
+        path = tree / "scenarios" / "cable.toml"
+        path.write_text(DEMO_TEXT + _CABLE.format(name=name), encoding="utf-8")
+    else:
+        path = _variant(tree, old, f'name = "{name}"')
+    message = _user_error(path)
+    assert where in message and f"holds the control character {shown} at character 4" in message, message
+    assert message.isprintable(), message
