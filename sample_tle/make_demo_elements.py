@@ -43,7 +43,7 @@ if str(REPO_ROOT) not in sys.path:
 from sgp4.api import WGS72, Satrec  # noqa: E402
 from sgp4.exporter import export_tle  # noqa: E402
 
-from planner.fileio import write_atomically  # noqa: E402
+from planner.fileio import REPLACE_ANY, write_atomically  # noqa: E402
 
 EARTH_RADIUS_KM = 6378.137  # WGS84 equatorial radius
 MU_KM3_S2 = 398600.4418  # WGS84 gravitational parameter
@@ -292,11 +292,11 @@ def main(argv: list[str] | None = None) -> int:
         tles.append((orbit.name, line1, line2))
     records = [omm_fields_from_tle(name, l1, l2) for name, l1, l2 in tles]
 
-    write_atomically(output_dir / "demo.tle", "".join(f"{n}\n{a}\n{b}\n" for n, a, b in tles))
-    write_atomically(output_dir / "demo.2le", "".join(f"{a}\n{b}\n" for _, a, b in tles))
-    write_atomically(output_dir / "demo_omm.xml", omm_xml(records))
-    write_atomically(output_dir / "demo_omm.csv", omm_csv(records))
-    write_atomically(output_dir / "demo_omm.json", omm_json(records))
+    write_atomically(output_dir / "demo.tle", "".join(f"{n}\n{a}\n{b}\n" for n, a, b in tles), rules=REPLACE_ANY)
+    write_atomically(output_dir / "demo.2le", "".join(f"{a}\n{b}\n" for _, a, b in tles), rules=REPLACE_ANY)
+    write_atomically(output_dir / "demo_omm.xml", omm_xml(records), rules=REPLACE_ANY)
+    write_atomically(output_dir / "demo_omm.csv", omm_csv(records), rules=REPLACE_ANY)
+    write_atomically(output_dir / "demo_omm.json", omm_json(records), rules=REPLACE_ANY)
     self_check(output_dir, tles)
     for name, line1, line2 in tles:
         print(f"{name}\n{line1}\n{line2}")
