@@ -88,6 +88,37 @@ def _foreign_builder(inputs: Path, out: Path) -> None:
     (out / "foreign.toml").write_text(scenario)
 
 
+def _scenario_with(inputs: Path, out: Path, name: str, old: str, new: str) -> None:
+    text = scenario_text(inputs / "elements.txt").replace(old, new)
+    assert new in text
+    (out / name).write_text(text.replace('pattern = "', f'pattern = "{inputs}/'))
+
+
+def _omm_csv_with(out: Path, name: str, column: str, value: str) -> None:
+    rows = list(csv.DictReader(io.StringIO(ELEMENT_TEXTS["csv"])))
+    rows[0][column] = value
+    buffer = io.StringIO()
+    writer = csv.DictWriter(buffer, fieldnames=list(rows[0]), lineterminator="\n")
+    writer.writeheader()
+    writer.writerows(rows)
+    (out / name).write_text(buffer.getvalue())
+
+
+def _three_line_titled(out: Path, title: str) -> None:
+    write_three_line(out / "titled.txt", [(title, ALPHA[1]), BETA])
+
+
+def _table_with_gain(out: Path, gain_dbic: str) -> None:
+    lines = PATTERN_TEXTS["symmetric"].splitlines()
+    row = next(k for k, line in enumerate(lines) if line.startswith("90,"))
+    fields = lines[row].split(",")
+    fields[1] = gain_dbic
+    lines[row] = ",".join(fields)
+    (out / "hot.csv").write_text("\n".join(lines) + "\n")
+
+
+HUGE = "7" * 5000  # more digits than Python's int() converts by default (Python docs, "int max str digits": 4300)
+QUICK_LOOK = ["--lat", "52", "--lon", "-1.8", "--start", "2027-01-04T00:00:00Z"]
 SCENARIO = "scenario.toml"
 CASES = [
     # An output that is one of the run's inputs, by any path.
@@ -141,6 +172,27 @@ CASES = [
          ("--output", "is not a folder")),
     Case("pattern-out-in-a-missing-folder", lambda i, o: ["pattern", "build", "isotropic-rhcp", "--out", o / "no" / "t.csv"],
          ("--out", "does not exist")),
+    # Numbers, dates and names out of range.
+    Case("scenario-integer-of-5000-digits", lambda i, o: ["week", o / "huge.toml"], ("huge.toml", "5000 digits"),
+         setup=lambda i, o: _scenario_with(i, o, "huge.toml", "step_s = 20", f"step_s = {HUGE}")),
+    Case("omm-csv-catalog-number-of-5000-digits", lambda i, o: ["passes", "--elements", o / "huge.csv", *QUICK_LOOK],
+         ("huge.csv", "NORAD_CAT_ID", "5000 digits"), setup=lambda i, o: _omm_csv_with(o, "huge.csv", "NORAD_CAT_ID", HUGE)),
+    Case("omm-csv-catalog-number-beyond-nine-digits", lambda i, o: ["passes", "--elements", o / "big.csv", *QUICK_LOOK],
+         ("big.csv", "NORAD_CAT_ID"), setup=lambda i, o: _omm_csv_with(o, "big.csv", "NORAD_CAT_ID", "1000000000")),
+    Case("omm-csv-epoch-in-year-1", lambda i, o: ["passes", "--elements", o / "old.csv", *QUICK_LOOK],
+         ("old.csv", "1957"), setup=lambda i, o: _omm_csv_with(o, "old.csv", "EPOCH", "0001-01-01T00:00:00")),
+    Case("budget-at-year-1", lambda i, o: ["budget", i / SCENARIO, "--satellite", "ALPHA", "--candidate", "close", "--at", "0001-01-01T00:00:00Z"],
+         ("--at", "1957")),
+    Case("quick-look-start-in-9999", lambda i, o: ["passes", "--elements", i / "elements.txt", "--lat", "52", "--lon", "-1.8",
+                                                  "--start", "9999-12-31T23:59:59Z"], ("--start", "2100")),
+    Case("tle-title-with-terminal-escapes", lambda i, o: ["passes", "--elements", o / "titled.txt", *QUICK_LOOK],
+         ("titled.txt", "\\x1b"), setup=lambda i, o: _three_line_titled(o, "EVIL\x1b]0;owned\x07\x1b[2J")),
+    Case("scenario-name-with-terminal-escapes", lambda i, o: ["passes", o / "named.toml"], ("named.toml", "\\x1b"),
+         setup=lambda i, o: _scenario_with(i, o, "named.toml", 'name = "Test site"', 'name = "Test\\u001b[31msite"')),
+    Case("pattern-table-of-100-dbic", lambda i, o: ["pattern", "show", o / "hot.csv"], ("hot.csv", "above 40 dBic"),
+         setup=lambda i, o: _table_with_gain(o, "100")),
+    Case("pattern-table-at-an-absurd-frequency", lambda i, o: ["pattern", "show", o / "far.csv"], ("far.csv", "frequency_mhz"),
+         setup=lambda i, o: (o / "far.csv").write_text(PATTERN_TEXTS["symmetric"].replace("# frequency_mhz = 436", "# frequency_mhz = 1e30"))),
     # A header may only name the project's own templates.
     Case("header-builder-names-a-module", lambda i, o: ["sweep", o / "foreign.toml", "--candidate", "isotropic",
                                                         "--reflector-spacing", "0.2:0.3:0.1", "--quiet"],
