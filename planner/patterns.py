@@ -66,6 +66,15 @@ import numpy as np
 
 from planner.errors import UserError, positive_number, warn
 from planner.fileio import write_atomically
+from planner.limits import (
+    MEMORY_LIMIT_BYTES,
+    PATTERN_BYTES_PER_POINT,
+    PATTERN_FILE_LIMIT_BYTES,
+    ReadWording,
+    ceil_significant,
+    check_allocation,
+    read_text_capped,
+)
 
 GAIN_FLOOR_DBIC = -60.0
 """Gain written (and clipped to on loading) where there is no field: a zero of the model."""
@@ -281,20 +290,20 @@ def sphere_mean_gain(table: PatternTable, *, nodes_per_step: int = 4) -> float:
 # --------------------------------------------------------------------------------------------
 
 
+_READ_WORDING = ReadWording(
+    not_found="{path}: pattern file not found; give the path of a pattern table CSV (see patterns/README.md)",
+    folder="{path}: is a folder; give the path of a pattern table CSV file",
+    not_text="{path}: not UTF-8 text (bad byte at offset {offset}); a pattern table is a UTF-8 CSV file",
+    other="{path}: cannot read the pattern file ({reason})",
+)
+"""The messages ``load_pattern`` has always given for a file it cannot read."""
+
+
 def load_pattern(path: str | Path) -> PatternTable:
     """Read and validate a pattern table; problems raise a one-line UserError "path:line: ..."."""
     source = str(path)
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        raise UserError(f"{source}: pattern file not found; give the path of a pattern table CSV (see patterns/README.md)") from None
-    except IsADirectoryError:
-        raise UserError(f"{source}: is a folder; give the path of a pattern table CSV file") from None
-    except UnicodeDecodeError as exc:
-        raise UserError(f"{source}: not UTF-8 text (bad byte at offset {exc.start}); a pattern table is a UTF-8 CSV file") from None
-    except OSError as exc:
-        raise UserError(f"{source}: cannot read the pattern file ({exc.strerror or exc})") from None
+    text = read_text_capped(p, what="pattern table", limit_bytes=PATTERN_FILE_LIMIT_BYTES, wording=_READ_WORDING)
     return parse_pattern(text, source=source, path=p)
 
 

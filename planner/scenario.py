@@ -44,6 +44,7 @@ from pydantic.fields import FieldInfo
 from pydantic_core import PydanticCustomError, core_schema
 
 from planner.errors import UserError
+from planner.limits import SCENARIO_FILE_LIMIT_BYTES, TRACK_STEP_MIN_S, WINDOW_DAYS_LIMIT, ReadWording, read_text_capped
 
 __all__ = [
     "StationConfig",
@@ -344,8 +345,8 @@ class WindowConfig(BaseModel):
     model_config = _STRICT
 
     start_utc: datetime = Field(description=_ALLOWED_START)
-    days: Annotated[Real, _Range(0, 31, lo_open=True)] = 7.0
-    step_s: Annotated[Real, _Range(0.5, 600)] = 10.0
+    days: Annotated[Real, _Range(0, WINDOW_DAYS_LIMIT, lo_open=True)] = 7.0  # why: planner.limits
+    step_s: Annotated[Real, _Range(TRACK_STEP_MIN_S, 600)] = 10.0
 
     @field_validator("start_utc", mode="plain")
     @classmethod
@@ -892,20 +893,21 @@ def validated(
         ) from None
 
 
+_READ_WORDING = ReadWording(
+    not_found="{path}: cannot read: No such file or directory",
+    folder="{path}: cannot read: Is a directory",
+    not_text="{path}: not valid TOML: not UTF-8 text (bad byte at offset {offset})",
+    other="{path}: cannot read: {reason}",
+)
+"""The messages ``load_scenario`` has always given for a file it cannot read."""
+
+
 def load_scenario(path: str | Path) -> Scenario:
     """Read and validate a scenario TOML file; any problem is a one-line UserError."""
     file = Path(path)
     source = _one_line(str(path))
-    try:
-        raw = file.read_bytes()
-    except OSError as exc:
-        raise UserError(f"{source}: cannot read: {exc.strerror or exc}") from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise UserError(
-            f"{source}: not valid TOML: not UTF-8 text (bad byte at offset {exc.start})"
-        ) from None
+    text = read_text_capped(file, what="scenario file", limit_bytes=SCENARIO_FILE_LIMIT_BYTES, label=source,
+                            wording=_READ_WORDING)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
