@@ -159,7 +159,7 @@ def format_bytes(size_bytes: float) -> str:
 
 
 def format_seconds(seconds: float) -> str:
-    """A duration for a message: 40 s, 12 min, 3.5 h, 40 days."""
+    """A duration for a message: 40 s, 12 min, 3.5 h, 40 days, 111 years."""
     s = float(seconds)
     if s < 120:
         return f"{s:.2g} s"
@@ -167,7 +167,10 @@ def format_seconds(seconds: float) -> str:
         return f"{s / 60:.0f} min"
     if s < 3 * 86400:
         return f"{s / 3600:.2g} h"
-    return f"{s / 86400:,.0f} days"
+    if s < 1000 * 86400:
+        return f"{s / 86400:,.0f} days"
+    years = s / (365.25 * 86400)
+    return f"{years:,.0f} years" if years < 1e6 else f"{years:.1e} years"
 
 
 # --------------------------------------------------------------------------- checks
