@@ -123,12 +123,12 @@ PROPAGATION_SECONDS_PER_SAMPLE = 0.75e-6
 """SGP4 time per (satellite, search-grid time) on one core, measured with ``SatrecArray.sgp4``
 (752 ns a sample over 2,000 invented satellites)."""
 
-PROPAGATION_SAMPLES_LIMIT = 4_000_000_000
-"""Most SGP4 search-grid samples one pass prediction may ask for: about 50 minutes on one core
-at PROPAGATION_SECONDS_PER_SAMPLE (25 on two). A full public catalog (~30,000 objects) over
-the longest window (31 days, a 55 s search grid for LEO) is 1.5e9; ten times the catalog is
-not a planning question. Memory is not the bound here: the pass search works in chunks of
-bounded size (``planner.passes``)."""
+PROPAGATION_SAMPLES_LIMIT = round(RUN_TIME_LIMIT_S / PROPAGATION_SECONDS_PER_SAMPLE)
+"""Most SGP4 search-grid samples one pass prediction may ask for: RUN_TIME_LIMIT_S of
+propagation on one core (4.8e9 samples; half the time on two). A full public catalog (~30,000
+objects) over the longest window (31 days, a 55 s search grid for LEO) is 1.5e9; the 10,000
+objects x 7 days of ``benchmarks/rank.py`` are 1.1e8. Memory is not the bound here: the pass
+search works in chunks of bounded size (``planner.passes``), so only the total time is."""
 
 WINDOW_DAYS_LIMIT = 31.0
 """Longest prediction window: SGP4 element sets go stale in days (errors of kilometres a day,
