@@ -214,6 +214,13 @@ class ReadWording:
     other: str = "{path}: cannot read: {reason}"
 
 
+def _size_text(size_bytes: int) -> str:
+    """A file size for a message: "1.9 MiB (2,000,000 bytes)", or "37 bytes" when small."""
+    if size_bytes < KIB:
+        return format_bytes(size_bytes)
+    return f"{format_bytes(size_bytes)} ({size_bytes:,} bytes)"
+
+
 def _regular_file_size(handle) -> int | None:
     """The size of an open regular file, or None for a pipe, a device or a socket."""
     import stat
@@ -240,14 +247,17 @@ def read_text_capped(
     are not ``encoding`` text are one line each (``wording``).
     """
     name = str(path) if label is None else label
-    limit_text = format_bytes(limit_bytes)
+    limit_text = _size_text(limit_bytes)
     try:
         with open(path, "rb") as handle:
             size = _regular_file_size(handle)
             if size is not None and size > limit_bytes:
-                raise UserError(f"{name}: the {what} is {format_bytes(size)} ({size:,} bytes); the limit is "
-                                f"{limit_text} ({limit_bytes:,} bytes)")
-            data = handle.read(limit_bytes + 1)
+                raise UserError(f"{name}: the {what} is {_size_text(size)}; the limit is {limit_text}")
+            # read(n) sets aside n bytes at once: ask a regular file for no more than it holds
+            want = limit_bytes + 1 if size is None else min(size, limit_bytes) + 1
+            data = handle.read(want)
+            if len(data) == want <= limit_bytes:  # a regular file that grew since fstat
+                data += handle.read(limit_bytes + 1 - want)
     except FileNotFoundError:
         raise UserError(wording.not_found.format(path=name, what=what, reason="No such file or directory")) from None
     except IsADirectoryError:
@@ -255,8 +265,7 @@ def read_text_capped(
     except OSError as exc:
         raise UserError(wording.other.format(path=name, what=what, reason=exc.strerror or exc)) from None
     if len(data) > limit_bytes:
-        raise UserError(f"{name}: the {what} is more than {limit_text} ({limit_bytes:,} bytes), which is the limit; "
-                        "reading stopped there")
+        raise UserError(f"{name}: the {what} is more than {limit_text}, which is the limit; reading stopped there")
     try:
         return data.decode(encoding)
     except UnicodeDecodeError as exc:
