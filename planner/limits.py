@@ -36,6 +36,7 @@ __all__ = [
     "PROPAGATION_SECONDS_PER_SAMPLE",
     "PROPAGATION_SAMPLES_LIMIT",
     "WINDOW_DAYS_LIMIT",
+    "NETWORK_STATIONS_LIMIT",
     "TRACK_STEP_MIN_S",
     "ReadWording",
     "read_text_capped",
@@ -134,6 +135,11 @@ WINDOW_DAYS_LIMIT = 31.0
 """Longest prediction window: SGP4 element sets go stale in days (errors of kilometres a day,
 and more than 30 days from their epoch they are refused), so a longer window predicts nothing
 trustworthy (common practice, no published source)."""
+
+NETWORK_STATIONS_LIMIT = 50
+"""Most [[network_station]] tables in a scenario: a small network, and every command runs the
+whole prediction and forecast once per station, so 50 stations of a catalog week (about 65 s
+each, README "Networks and catalogs") stay inside RUN_TIME_LIMIT_S."""
 
 TRACK_STEP_MIN_S = 0.5
 """Finest track step: a LEO satellite crosses the sky in about 10 minutes and moves well under

@@ -44,7 +44,14 @@ from pydantic.fields import FieldInfo
 from pydantic_core import PydanticCustomError, core_schema
 
 from planner.errors import UserError
-from planner.limits import SCENARIO_FILE_LIMIT_BYTES, TRACK_STEP_MIN_S, WINDOW_DAYS_LIMIT, ReadWording, read_text_capped
+from planner.limits import (
+    NETWORK_STATIONS_LIMIT,
+    SCENARIO_FILE_LIMIT_BYTES,
+    TRACK_STEP_MIN_S,
+    WINDOW_DAYS_LIMIT,
+    ReadWording,
+    read_text_capped,
+)
 
 __all__ = [
     "StationConfig",
@@ -619,6 +626,10 @@ class Scenario(BaseModel):
     @field_validator("network_station", mode="after")
     @classmethod
     def _network(cls, value: list[StationConfig]) -> list[StationConfig]:
+        if len(value) > NETWORK_STATIONS_LIMIT:  # every command repeats the whole run per station
+            raise _error(f"{len(value)} network stations are given",
+                         f"at most {NETWORK_STATIONS_LIMIT} (a small network: every command repeats the whole "
+                         "prediction and forecast for each station)")
         return _unique_names(value, "network station")
 
     @model_validator(mode="after")

@@ -37,6 +37,7 @@ from planner.limits import (
     MEMORY_LIMIT_BYTES,
     MIB,
     MOM_BYTES_PER_SEGMENT_PAIR,
+    NETWORK_STATIONS_LIMIT,
     PATTERN_BYTES_PER_POINT,
     PATTERN_FILE_LIMIT_BYTES,
     RUN_TIME_LIMIT_S,
@@ -325,3 +326,20 @@ def test_the_demo_scenario_window_passes(tmp_path):
     run = run_cli("passes", demo_scenario(tmp_path, days=7), "--format", "csv")
     assert run.code == 0, run.stderr
     assert len(run.stdout.splitlines()) > 1
+
+
+def test_too_many_network_stations_are_refused_and_a_few_pass(tmp_path):
+    path = demo_scenario(tmp_path)
+    base = path.read_text()
+
+    def with_stations(count: int) -> str:
+        # Invented sites along a parallel; the demo station's keys (README "Networks and catalogs").
+        tables = "".join(f'\n[[network_station]]\nname = "site-{k}"\nlatitude_deg = 52.0\nlongitude_deg = {k * 0.1:.1f}\n'
+                         for k in range(count))
+        return base + tables
+
+    path.write_text(with_stations(2))
+    assert len(load_scenario(path).stations) == 3
+    path.write_text(with_stations(NETWORK_STATIONS_LIMIT + 1))
+    assert_user_error(run_cli("passes", path), f"{NETWORK_STATIONS_LIMIT + 1} network stations",
+                      f"at most {NETWORK_STATIONS_LIMIT}")
