@@ -26,8 +26,8 @@ the sum of the two lengths: found with a k-d tree), where the inner integral has
 peak of width ~a (16 points integrate the self term to ~1e-7 relative for segment/radius ratios
 4..50). Raising any of the three orders changes dipole and loop impedances by < 0.01 ohm.
 Everything is vectorized over all (point, segment) pairs; the segment-end matrix is gathered
-into the basis matrix (each basis function has two pieces). Memory grows as N^2: models up to a
-few thousand segments.
+into the basis matrix (each basis function has two pieces). Memory grows as N^2: models up to
+about 1,090 segments fit the memory limit (``check_matrix_size``, ``planner.limits``).
 
 Sources, loads, loss and ground
 -------------------------------
