@@ -71,14 +71,14 @@ def demo_scenario(tmp_path: Path, days: float = 1.0) -> Path:
     return path
 
 
-def peak_bytes(function) -> int:
-    """Peak traced memory while ``function()`` runs (tracemalloc, Python docs); the function is
-    run once before, so the modules it imports on first use are not counted."""
+def measured(function):
+    """``function()``'s result and the peak traced memory while it ran (tracemalloc, Python
+    docs); it is run once before, so the modules it imports on first use are not counted."""
     function()
     tracemalloc.start()
     try:
-        function()
-        return tracemalloc.get_traced_memory()[1]
+        result = function()
+        return result, tracemalloc.get_traced_memory()[1]
     finally:
         tracemalloc.stop()
 
@@ -103,9 +103,8 @@ def test_byte_and_allocation_wording():
 
 @pytest.mark.skipif(not DEV_ZERO.exists(), reason="no /dev/zero on this system")
 def test_dev_zero_as_elements_is_cut_off_at_the_cap():
-    run_box = {}
-    peak = peak_bytes(lambda: run_box.setdefault("run", run_cli("passes", "--elements", DEV_ZERO, *QUICK_LOOK)))
-    line = assert_user_error(run_box["run"], str(DEV_ZERO), "element file", "more than 64 MiB", "limit")
+    run, peak = measured(lambda: run_cli("passes", "--elements", DEV_ZERO, *QUICK_LOOK))
+    line = assert_user_error(run, str(DEV_ZERO), "element file", "more than 64 MiB", "limit")
     assert "reading stopped" in line
     # One read of cap + 1 bytes: the run never holds much more than the cap (a read to the end
     # would hold everything the machine has).
@@ -116,15 +115,13 @@ def test_a_fifo_is_read_only_to_one_byte_past_the_cap(tmp_path):
     fifo = tmp_path / "elements.fifo"
     os.mkfifo(fifo)  # POSIX mkfifo(3)
     cap = 4096
-    written = {}
 
     def writer():
-        with open(fifo, "wb") as handle:
-            try:
+        try:
+            with open(fifo, "wb") as handle:
                 handle.write(b"x" * (cap * 10))
-                written["all"] = True
-            except BrokenPipeError:  # the reader closed its end at the cap, as it should
-                written["all"] = False
+        except BrokenPipeError:  # the reader closed its end at the cap, as it should
+            pass
 
     thread = threading.Thread(target=writer)
     thread.start()
@@ -188,12 +185,11 @@ def test_reading_failures_are_one_line_naming_the_file(tmp_path):
 
 def test_a_tiny_elevation_step_is_refused_before_allocating(tmp_path):
     out = tmp_path / "fine.csv"
-    box = {}
-    peak = peak_bytes(lambda: box.setdefault("run", run_cli(
-        "pattern", "build", "image-turnstile", "spacing_wavelengths=0.25", "elevation_step_deg=0.00005", "--out", out)))
+    run, peak = measured(lambda: run_cli(
+        "pattern", "build", "image-turnstile", "spacing_wavelengths=0.25", "elevation_step_deg=0.00005", "--out", out))
     # 180 / 5e-5 + 1 = 3,600,001 elevations x 360 / 10 = 36 azimuths (the default step).
     expected_gib = 3_600_001 * 36 * PATTERN_BYTES_PER_POINT / GIB
-    line = assert_user_error(box["run"], "elevation_step_deg=5e-05", "3,600,001 x 36", f"({expected_gib:,.0f} GiB)",
+    line = assert_user_error(run, "elevation_step_deg=5e-05", "3,600,001 x 36", f"({expected_gib:,.0f} GiB)",
                              "the limit is 1 GiB", "use elevation_step_deg of at least")
     assert not out.exists(), line
     assert peak < 50e6, peak
@@ -227,9 +223,8 @@ def test_a_table_with_too_many_rows_is_refused_before_parsing(tmp_path):
     path = tmp_path / "long.csv"
     path.write_text("# frequency_mhz = 436\nelevation_deg,gain_rhcp_dbic,gain_lhcp_dbic\n" + "0,0,-60\n" * rows)
     assert path.stat().st_size < PATTERN_FILE_LIMIT_BYTES  # the size cap alone lets it through
-    box = {}
-    peak = peak_bytes(lambda: box.setdefault("run", run_cli("pattern", "show", path)))
-    assert_user_error(box["run"], str(path), f"{rows + 3:,} lines", "the limit is 1 GiB")
+    run, peak = measured(lambda: run_cli("pattern", "show", path))
+    assert_user_error(run, str(path), f"{rows + 3:,} lines", "the limit is 1 GiB")
     # The text and its line count only: parsing the rows would take rows x 2,200 bytes = 1 GiB.
     assert peak < 3 * path.stat().st_size + 20e6, peak
 
@@ -267,7 +262,7 @@ def test_segment_estimate_is_the_segmenters_count_and_the_pair_cost_covers_the_r
     assert MOM_BYTES_PER_SEGMENT_PAIR >= 16  # at least the complex128 matrix itself (Harrington)
     model = templates.crossed_loops(reflector="rods")
     n = segment_model(model).n_segments
-    assert peak_bytes(lambda: mom.solve(model)) <= n * n * MOM_BYTES_PER_SEGMENT_PAIR
+    assert measured(lambda: mom.solve(model))[1] <= n * n * MOM_BYTES_PER_SEGMENT_PAIR
 
 
 def test_shipped_wire_models_and_the_default_grid_reflector_fit():
