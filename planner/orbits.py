@@ -41,6 +41,7 @@ from sgp4.alpha5 import from_alpha5
 from sgp4.api import SGP4_ERRORS, WGS72, Satrec
 
 from planner.errors import UserError, warn
+from planner.limits import ELEMENTS_FILE_LIMIT_BYTES, ReadWording, read_text_capped
 
 __all__ = [
     "ElementSet",
@@ -132,17 +133,7 @@ class ElementSet:
 def read_elements(path: str | Path) -> list[ElementSet]:
     """Read every element set in a TLE, 3LE or OMM (XML/CSV/JSON) file."""
     label = str(path)
-    try:
-        data = Path(path).read_bytes()
-    except OSError as exc:
-        raise UserError(f"{label}: cannot read: {exc.strerror or exc}") from None
-    try:
-        text = data.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise UserError(
-            f"{label}: cannot read: not UTF-8 text (byte {exc.start}); "
-            "expected TLE, 3LE or OMM (XML/CSV/JSON)"
-        ) from None
+    text = read_text_capped(path, what="element file", limit_bytes=ELEMENTS_FILE_LIMIT_BYTES, wording=_READ_WORDING)
     if not text.strip():
         raise _empty(label)
     kind = _detect_format(text, Path(path).suffix.lower())
@@ -151,6 +142,15 @@ def read_elements(path: str | Path) -> list[ElementSet]:
     if not element_sets:
         raise _empty(label)
     return element_sets
+
+
+_READ_WORDING = ReadWording(
+    not_found="{path}: cannot read: No such file or directory",
+    folder="{path}: cannot read: Is a directory",
+    not_text="{path}: cannot read: not UTF-8 text (byte {offset}); expected TLE, 3LE or OMM (XML/CSV/JSON)",
+    other="{path}: cannot read: {reason}",
+)
+"""The messages ``read_elements`` has always given for a file it cannot read."""
 
 
 def _empty(label: str) -> UserError:

@@ -56,6 +56,7 @@ from scipy.constants import c as SPEED_OF_LIGHT_M_S
 from sgp4.api import SGP4_ERRORS, WGS72, WGS72OLD, WGS84, Satrec, SatrecArray, jday
 
 from planner.errors import warn
+from planner.limits import PROPAGATION_SECONDS_PER_SAMPLE, RUN_TIME_LIMIT_S, check_duration
 from planner.orbits import ElementSet
 from planner.station import Station
 
@@ -972,6 +973,21 @@ def _run_all(jobs: list[_ChunkJob], workers: int):
                         _unlink_quietly(path)
 
 
+def _check_propagation_time(satrecs: Sequence, duration_s: float) -> None:
+    """Refuse, before propagating, a window x satellites whose SGP4 search would take longer
+    than the run-time limit (``planner.limits``). Memory needs no check: chunks bound it."""
+    if not satrecs:
+        return
+    steps = np.array([coarse_step_s(_perigee_period_s(s)) for s in satrecs])
+    samples = float(np.sum(duration_s / steps + 1.0))  # grid length per satellite, as _search_grid makes it
+    check_duration(
+        f"{len(satrecs):,} satellites over {duration_s / SECONDS_PER_DAY:g} days ask for {samples:,.0f} SGP4 "
+        "samples on the pass-search grid",
+        samples, PROPAGATION_SECONDS_PER_SAMPLE, RUN_TIME_LIMIT_S,
+        "shorten the window or predict fewer satellites (--satellite, or a catalog's max_objects)",
+    )
+
+
 def predict_passes(
     targets: Sequence[Target | ElementSet] | Target | ElementSet,
     station: Station,
@@ -1018,6 +1034,7 @@ def predict_passes(
         usable.append(index)
         satrecs.append(satrec)
         recipes.append(recipe)
+    _check_propagation_time(satrecs, duration_s)
     if workers is None:
         workers = 1 if len(usable) < _IN_PROCESS_SATELLITES else _worker_count()
     workers = max(1, int(workers))

@@ -66,6 +66,15 @@ import numpy as np
 
 from planner.errors import UserError, positive_number, warn
 from planner.fileio import REPLACE_ANY, WriteRules, write_atomically
+from planner.limits import (
+    MEMORY_LIMIT_BYTES,
+    PATTERN_BYTES_PER_POINT,
+    PATTERN_FILE_LIMIT_BYTES,
+    ReadWording,
+    ceil_significant,
+    check_allocation,
+    read_text_capped,
+)
 
 GAIN_FLOOR_DBIC = -60.0
 """Gain written (and clipped to on loading) where there is no field: a zero of the model."""
@@ -285,20 +294,20 @@ def sphere_mean_gain(table: PatternTable, *, nodes_per_step: int = 4) -> float:
 # --------------------------------------------------------------------------------------------
 
 
+_READ_WORDING = ReadWording(
+    not_found="{path}: pattern file not found; give the path of a pattern table CSV (see patterns/README.md)",
+    folder="{path}: is a folder; give the path of a pattern table CSV file",
+    not_text="{path}: not UTF-8 text (bad byte at offset {offset}); a pattern table is a UTF-8 CSV file",
+    other="{path}: cannot read the pattern file ({reason})",
+)
+"""The messages ``load_pattern`` has always given for a file it cannot read."""
+
+
 def load_pattern(path: str | Path) -> PatternTable:
     """Read and validate a pattern table; problems raise a one-line UserError "path:line: ..."."""
     source = str(path)
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        raise UserError(f"{source}: pattern file not found; give the path of a pattern table CSV (see patterns/README.md)") from None
-    except IsADirectoryError:
-        raise UserError(f"{source}: is a folder; give the path of a pattern table CSV file") from None
-    except UnicodeDecodeError as exc:
-        raise UserError(f"{source}: not UTF-8 text (bad byte at offset {exc.start}); a pattern table is a UTF-8 CSV file") from None
-    except OSError as exc:
-        raise UserError(f"{source}: cannot read the pattern file ({exc.strerror or exc})") from None
+    text = read_text_capped(p, what="pattern table", limit_bytes=PATTERN_FILE_LIMIT_BYTES, wording=_READ_WORDING)
     return parse_pattern(text, source=source, path=p)
 
 
@@ -398,6 +407,15 @@ def _parse_column_row(line: str, source: str, lineno: int) -> list[str]:
     return names
 
 
+def _check_row_count(text: str, source: str) -> None:
+    """Refuse a table with more lines than the reader can hold within the memory limit, before
+    splitting it (a count of newlines costs no memory)."""
+    lines = text.count("\n") + 1
+    most = pattern_points_limit()
+    check_allocation(f"{source}: the table has {lines:,} lines, each a grid point to read", lines, PATTERN_BYTES_PER_POINT,
+                     MEMORY_LIMIT_BYTES, f"a table holds at most {most:,} rows (e.g. 0.5 deg x 0.5 deg: 259,920 rows)")
+
+
 def parse_pattern(text: str, *, source: str = "<pattern>", path: Path | None = None) -> PatternTable:
     """Parse the text of a pattern table (``source`` names it in error messages)."""
     header: dict[str, str] = {}
@@ -408,6 +426,7 @@ def parse_pattern(text: str, *, source: str = "<pattern>", path: Path | None = N
     rows: list[tuple[int, float, float, float, float]] = []  # line, el, az, rhcp, lhcp
     seen_rows: dict[tuple[float, float], int] = {}
     any_content = False
+    _check_row_count(text, source)
     lines = text.split("\n")
     for lineno, raw in enumerate(lines, start=1):
         line = raw.strip()
@@ -721,13 +740,67 @@ def crossed_dipoles(height_wavelengths: float = 0.0) -> list[HalfWaveDipole]:
 # --------------------------------------------------------------------------------------------
 
 
-def angle_grid(step_deg: float, span_deg: float, name: str, closed: bool) -> np.ndarray:
-    """0, step, 2 step ... over ``span_deg`` (its end included when ``closed``); the step must divide it."""
+def angle_count(step_deg: float, span_deg: float, name: str, closed: bool) -> int:
+    """How many grid angles ``step_deg`` makes over ``span_deg`` (its end included when
+    ``closed``), without making them; the step must divide the span."""
     step = positive_number(name, step_deg, "a positive number of degrees")
-    count = round(span_deg / step)
+    ratio = span_deg / step
+    if not math.isfinite(ratio):
+        raise UserError(f"{name}={step:g} asks for more grid angles than can be counted; "
+                        f"use a step that divides {span_deg:g} deg, such as 1, 2, 5 or 10")
+    count = round(ratio)
     if count < 1 or abs(count * step - span_deg) > 1e-9 * span_deg:
         raise UserError(f"{name}: {step:g} deg does not divide {span_deg:g} deg evenly; pick a divisor such as 1, 2, 5 or 10")
-    return np.arange(count + 1 if closed else count, dtype=float) * step
+    return count + 1 if closed else count
+
+
+def angle_grid(step_deg: float, span_deg: float, name: str, closed: bool) -> np.ndarray:
+    """0, step, 2 step ... over ``span_deg`` (its end included when ``closed``); the step must divide it."""
+    count = angle_count(step_deg, span_deg, name, closed)
+    return np.arange(count, dtype=float) * float(step_deg)
+
+
+def pattern_points_limit() -> int:
+    """Most grid points a pattern table may have: what the reader can hold within the memory
+    limit (``planner.limits.PATTERN_BYTES_PER_POINT``)."""
+    return int(MEMORY_LIMIT_BYTES // PATTERN_BYTES_PER_POINT)
+
+
+def finest_step_deg(span_deg: float, closed: bool, other_count: int) -> float:
+    """The finest step over ``span_deg`` that keeps a grid with ``other_count`` points on the
+    other axis within :func:`pattern_points_limit` (rounded up to two significant digits)."""
+    most = max(2, pattern_points_limit() // max(1, other_count))
+    return ceil_significant(span_deg / (most - 1 if closed else most))
+
+
+def check_pattern_grid(elevation_step_deg: float, n_elevation: int, azimuth_step_deg: float | None, n_azimuth: int) -> None:
+    """Refuse, before anything is allocated, a pattern grid too large to read back within the
+    memory limit (``n_azimuth`` 1 and ``azimuth_step_deg`` None for an azimuth-symmetric table)."""
+    if azimuth_step_deg is None:
+        asked = f"elevation_step_deg={elevation_step_deg:g} asks for {n_elevation:,} elevations"
+        hint = f"use elevation_step_deg of at least {finest_step_deg(180.0, True, 1):g} deg"
+    else:
+        asked = (f"elevation_step_deg={elevation_step_deg:g} and azimuth_step_deg={azimuth_step_deg:g} ask for a "
+                 f"{n_elevation:,} x {n_azimuth:,} grid")
+        if n_elevation >= n_azimuth / 2:  # the elevation step is the finer one: say what it should be
+            hint = (f"at azimuth_step_deg={azimuth_step_deg:g} use elevation_step_deg of at least "
+                    f"{finest_step_deg(180.0, True, n_azimuth):g} deg")
+        else:
+            hint = (f"at elevation_step_deg={elevation_step_deg:g} use azimuth_step_deg of at least "
+                    f"{finest_step_deg(360.0, False, n_elevation):g} deg")
+    check_allocation(f"{asked}, a table of {n_elevation * n_azimuth:,} points", n_elevation * n_azimuth,
+                     PATTERN_BYTES_PER_POINT, MEMORY_LIMIT_BYTES, hint)
+
+
+def pattern_grid(elevation_step_deg: float, azimuth_step_deg: float | None) -> tuple[np.ndarray, np.ndarray | None]:
+    """Elevations -90..90 and azimuths [0, 360) (None for a symmetric table) at the given steps,
+    after checking that the grid fits the memory limit (:func:`check_pattern_grid`)."""
+    n_el = angle_count(elevation_step_deg, 180.0, "elevation_step_deg", closed=True)
+    n_az = 1 if azimuth_step_deg is None else angle_count(azimuth_step_deg, 360.0, "azimuth_step_deg", closed=False)
+    check_pattern_grid(elevation_step_deg, n_el, azimuth_step_deg, n_az)
+    elevation = angle_grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
+    azimuth = None if azimuth_step_deg is None else angle_grid(azimuth_step_deg, 360.0, "azimuth_step_deg", closed=False)
+    return elevation, azimuth
 
 
 def check_frequency(frequency_hz: float) -> float:
@@ -756,8 +829,7 @@ def turnstile_over_reflector(
     if spacing_wavelengths > 5:
         warn(f"spacing_wavelengths {spacing_wavelengths:g}: the lobes narrow to a few degrees near the horizon; "
              "a 1 deg elevation grid no longer resolves them")
-    elevation = angle_grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
-    azimuth = angle_grid(azimuth_step_deg, 360.0, "azimuth_step_deg", closed=False)
+    elevation, azimuth = pattern_grid(elevation_step_deg, azimuth_step_deg)
     d_r, d_l = partial_directivities(crossed_dipoles(spacing_wavelengths), azimuth[None, :], elevation[:, None], pec_ground=True)
     spacing_m = spacing_wavelengths * SPEED_OF_LIGHT_M_S / frequency_hz
     header = {
@@ -810,7 +882,7 @@ def isotropic_rhcp(frequency_hz: float = DEMO_FREQUENCY_HZ, *, elevation_step_de
     Not a realizable antenna (no antenna is circularly polarized in every direction); it is the
     yardstick against which the other patterns are read."""
     frequency_hz = check_frequency(frequency_hz)
-    elevation = angle_grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
+    elevation, _ = pattern_grid(elevation_step_deg, None)
     header = {
         "frequency_mhz": format_number(frequency_hz / 1e6),
         "model": "isotropic RHCP reference: 0 dBic RHCP over the whole sphere, no LHCP (not a realizable antenna)",

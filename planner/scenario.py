@@ -53,6 +53,14 @@ from planner.orbits import (
     in_supported_years,
 )
 from planner.patterns import FREQUENCY_MAX_MHZ, FREQUENCY_MIN_MHZ
+from planner.limits import (
+    NETWORK_STATIONS_LIMIT,
+    SCENARIO_FILE_LIMIT_BYTES,
+    TRACK_STEP_MIN_S,
+    WINDOW_DAYS_LIMIT,
+    ReadWording,
+    read_text_capped,
+)
 
 __all__ = [
     "StationConfig",
@@ -354,8 +362,8 @@ class WindowConfig(BaseModel):
     model_config = _STRICT
 
     start_utc: datetime = Field(description=_ALLOWED_START)
-    days: Annotated[Real, _Range(0, 31, lo_open=True)] = 7.0
-    step_s: Annotated[Real, _Range(0.5, 600)] = 10.0
+    days: Annotated[Real, _Range(0, WINDOW_DAYS_LIMIT, lo_open=True)] = 7.0  # why: planner.limits
+    step_s: Annotated[Real, _Range(TRACK_STEP_MIN_S, 600)] = 10.0
 
     @field_validator("start_utc", mode="plain")
     @classmethod
@@ -637,6 +645,10 @@ class Scenario(BaseModel):
     @field_validator("network_station", mode="after")
     @classmethod
     def _network(cls, value: list[StationConfig]) -> list[StationConfig]:
+        if len(value) > NETWORK_STATIONS_LIMIT:  # every command repeats the whole run per station
+            raise _error(f"{len(value)} network stations are given",
+                         f"at most {NETWORK_STATIONS_LIMIT} (a small network: every command repeats the whole "
+                         "prediction and forecast for each station)")
         return _unique_names(value, "network station")
 
     @model_validator(mode="after")
@@ -939,20 +951,21 @@ def _too_many_digits(source: str, text: str) -> str:
     return f"{where}: a whole number of {digits} digits ({match.group()[:12]}...); {allowed}"
 
 
+_READ_WORDING = ReadWording(
+    not_found="{path}: cannot read: No such file or directory",
+    folder="{path}: cannot read: Is a directory",
+    not_text="{path}: not valid TOML: not UTF-8 text (bad byte at offset {offset})",
+    other="{path}: cannot read: {reason}",
+)
+"""The messages ``load_scenario`` has always given for a file it cannot read."""
+
+
 def load_scenario(path: str | Path) -> Scenario:
     """Read and validate a scenario TOML file; any problem is a one-line UserError."""
     file = Path(path)
     source = _one_line(str(path))
-    try:
-        raw = file.read_bytes()
-    except OSError as exc:
-        raise UserError(f"{source}: cannot read: {exc.strerror or exc}") from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise UserError(
-            f"{source}: not valid TOML: not UTF-8 text (bad byte at offset {exc.start})"
-        ) from None
+    text = read_text_capped(file, what="scenario file", limit_bytes=SCENARIO_FILE_LIMIT_BYTES, label=source,
+                            wording=_READ_WORDING)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:

@@ -9,6 +9,7 @@ scored: by the one-receiver schedule's objective.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -17,10 +18,11 @@ from scipy.constants import c as SPEED_OF_LIGHT_M_S
 
 from planner.errors import UserError
 from planner.forecast import forecast
+from planner.limits import SWEEP_POINTS_LIMIT, SWEEP_SECONDS_PER_POINT, format_seconds
 from planner.recommend import score_candidates
 
 SPACING_PARAMETER = "spacing_wavelengths"
-MAX_SPACINGS = 60
+MAX_SPACINGS = SWEEP_POINTS_LIMIT  # each spacing is a full solve and forecast; why 60: planner.limits
 
 
 def parse_spacing_range(text: str, frequency_hz: float) -> np.ndarray:
@@ -46,17 +48,31 @@ def parse_spacing_range(text: str, frequency_hz: float) -> np.ndarray:
     if len(units) != 1:
         raise UserError(f"{option}: {text!r} mixes metres and wavelengths; use one unit for START, STOP and STEP")
     start, stop, step = values
+    if not all(math.isfinite(value) for value in values):
+        raise UserError(f"{option}: {text!r}; START, STOP and STEP must be finite numbers")
     if not (start > 0 and stop >= start and step > 0):
         raise UserError(f"{option}: {text!r}; allowed: 0 < START <= STOP and STEP > 0")
-    count = int(np.floor((stop - start) / step + 1e-9)) + 1
-    if count > MAX_SPACINGS:
-        raise UserError(f"{option}: {text!r} gives {count} spacings; allowed at most {MAX_SPACINGS} (use a larger STEP)")
+    count = _spacing_count(option, text, start, stop, step)
     spacings = start + step * np.arange(count)
     if units == {"m"}:
         spacings = spacings / (SPEED_OF_LIGHT_M_S / frequency_hz)
     if spacings.max() > 3.0:
         raise UserError(f"{option}: {text!r} reaches {spacings.max():.2f} wavelengths; allowed up to 3 wavelengths")
     return spacings
+
+
+def _spacing_count(option: str, text: str, start: float, stop: float, step: float) -> int:
+    """How many spacings START:STOP:STEP gives, refused past ``MAX_SPACINGS`` before any is made:
+    each is a full solve and forecast, so the message gives the estimated time too."""
+    ratio = (stop - start) / step  # finite and >= 0 here, but may be astronomically large
+    if ratio + 1 > MAX_SPACINGS:
+        asked = f"{math.floor(ratio + 1e-9) + 1:,}" if ratio < 1e15 else f"about {ratio:.2g}"
+        raise UserError(
+            f"{option}: {text!r} gives {asked} spacings, each a full solve and forecast (about "
+            f"{format_seconds((ratio + 1) * SWEEP_SECONDS_PER_POINT)} at {SWEEP_SECONDS_PER_POINT:g} s a spacing); "
+            f"allowed at most {MAX_SPACINGS} (use a larger STEP)"
+        )
+    return int(np.floor(ratio + 1e-9)) + 1
 
 
 def _builder_and_parameters(pattern) -> tuple[str, dict[str, str]]:

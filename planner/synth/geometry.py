@@ -351,6 +351,21 @@ def _resolve_wire(model: WireModel, wire: str | int | None, what: str) -> int | 
     raise UserError(f"{what}: wire {wire!r} is not in the model; give a wire name or index 0..{len(model.wires) - 1}")
 
 
+def estimated_segment_count(model: WireModel) -> int:
+    """The number of segments :func:`segment_model` will make, without making them: every edge
+    split as the segmenter splits it. Cuts at ports, loads and other wires' ends can only add
+    segments, so this never exceeds the real count (a size check on it refuses nothing that fits)."""
+    wavelength = model.wavelength_m
+    total = 0
+    for w in model.wires:
+        edges = np.linalg.norm(np.diff(w.points, axis=0), axis=1)
+        if w.segments_per_edge is not None:
+            total += int(w.segments_per_edge) * len(edges)
+        else:
+            total += int(np.sum(np.maximum(1, np.ceil(edges * model.segments_per_wavelength / wavelength - 1e-9))))
+    return total
+
+
 def segment_model(model: WireModel) -> Segmentation:
     """Split the model's wires into segments, join nodes, and build the basis functions."""
     wavelength = model.wavelength_m

@@ -26,8 +26,8 @@ the sum of the two lengths: found with a k-d tree), where the inner integral has
 peak of width ~a (16 points integrate the self term to ~1e-7 relative for segment/radius ratios
 4..50). Raising any of the three orders changes dipole and loop impedances by < 0.01 ohm.
 Everything is vectorized over all (point, segment) pairs; the segment-end matrix is gathered
-into the basis matrix (each basis function has two pieces). Memory grows as N^2: models up to a
-few thousand segments.
+into the basis matrix (each basis function has two pieces). Memory grows as N^2: models up to
+about 1,090 segments fit the memory limit (``check_matrix_size``, ``planner.limits``).
 
 Sources, loads, loss and ground
 -------------------------------
@@ -77,8 +77,15 @@ import numpy as np
 from scipy.constants import epsilon_0, mu_0, speed_of_light
 
 from planner.errors import UserError
+from planner.limits import (
+    MEMORY_LIMIT_BYTES,
+    MOM_BYTES_PER_SEGMENT_PAIR,
+    MOM_SECONDS_PER_SEGMENT_PAIR,
+    check_allocation,
+    format_seconds,
+)
 from planner.patterns import GAIN_FLOOR_DBIC, circular_components, direction_enu, spherical_unit_vectors
-from planner.synth.geometry import Segmentation, WireModel, segment_model
+from planner.synth.geometry import Segmentation, WireModel, estimated_segment_count, segment_model
 
 ETA0_OHM = math.sqrt(mu_0 / epsilon_0)
 """Wave impedance of free space (ohm), from scipy.constants."""
@@ -253,8 +260,29 @@ def _segment_end_matrix(seg: Segmentation, src: _Sources, k: float, n_outer: int
     return zse.reshape(2 * n_obs, 2 * n_srcs)
 
 
+def check_matrix_size(n_segments: int) -> None:
+    """Refuse a model whose moment-matrix fill would pass the memory limit, before filling it.
+
+    The matrix is N x N in the segments (Harrington, Field Computation by Moment Methods, ch. 4),
+    so memory grows as N^2 (``planner.limits.MOM_BYTES_PER_SEGMENT_PAIR``, the fill's measured
+    peak) and the fill time too; the solve grows as N^3 but stays second to the fill at the sizes
+    that fit.
+    """
+    pairs = n_segments * n_segments
+    most = int(math.sqrt(MEMORY_LIMIT_BYTES / MOM_BYTES_PER_SEGMENT_PAIR))
+    fill_time = format_seconds(pairs * MOM_SECONDS_PER_SEGMENT_PAIR)
+    check_allocation(
+        f"the wire model has {n_segments:,} segments, a {n_segments:,} x {n_segments:,} moment-matrix fill "
+        f"taking about {fill_time} on one core",
+        pairs, MOM_BYTES_PER_SEGMENT_PAIR, MEMORY_LIMIT_BYTES,
+        f"at most about {most:,} segments fit; lower segments_per_wavelength or segments, or use a coarser "
+        "grid_pitch_wavelengths or a smaller reflector_size_wavelengths",
+    )
+
+
 def impedance_matrix(seg: Segmentation, frequency_hz: float, *, quadrature_points: int = 4) -> np.ndarray:
     """Galerkin impedance matrix (n_basis, n_basis) of a segmented model, loads and loss included."""
+    check_matrix_size(seg.n_segments)
     k = 2.0 * math.pi * frequency_hz / speed_of_light
     own = _Sources(seg.starts, seg.tangents, seg.lengths, seg.radii)
     zse = _segment_end_matrix(seg, own, k, quadrature_points, SMOOTH_POINTS)
@@ -519,6 +547,7 @@ def solve(model: WireModel, *, quadrature_points: int = 4) -> Solution:
         raise UserError(f"quadrature_points: must be a whole number 1..32, got {quadrature_points!r}")
     if not model.ports:
         raise UserError("model: has no ports; add at least one Port to excite it")
+    check_matrix_size(estimated_segment_count(model))  # before segmenting: a huge model is refused at once
     seg = segment_model(model)
     z = impedance_matrix(seg, model.frequency_hz, quadrature_points=quadrature_points)
     rhs = np.zeros((seg.n_basis, len(model.ports)), dtype=complex)

@@ -30,7 +30,7 @@ import numpy as np
 
 from planner.errors import UserError
 from planner.feedline import CABLES, quarter_wave_length_m
-from planner.patterns import format_number, GAIN_FLOOR_DBIC, PatternTable, angle_grid, check_frequency
+from planner.patterns import format_number, GAIN_FLOOR_DBIC, PatternTable, check_frequency, pattern_grid
 from planner.synth import design, mom
 from planner.synth.design import MATCHES, SIZE_PARAMETERS
 from planner.synth.feed import FeedResult, ideal_quadrature, phasing_line, single_port
@@ -131,8 +131,7 @@ def build_pattern_table(
     frequency_hz = check_frequency(frequency_hz)
     if abs(frequency_hz - model.frequency_hz) > 1e-9 * model.frequency_hz:
         raise ValueError(f"frequency_hz {frequency_hz:g} differs from the model's {model.frequency_hz:g}")
-    elevation = angle_grid(elevation_step_deg, 180.0, "elevation_step_deg", closed=True) - 90.0
-    azimuth = angle_grid(azimuth_step_deg, 360.0, "azimuth_step_deg", closed=False)
+    elevation, azimuth = pattern_grid(elevation_step_deg, azimuth_step_deg)
     from planner.synth import ground as real_ground
 
     voltages = np.asarray(feed.port_voltages, dtype=complex)
@@ -339,6 +338,8 @@ def solve_template(template: str, values: Mapping[str, Any] | None = None):
     given = {k: v for k, v in values.items() if k in extra}
     options = _check_options(template, extra, given)
     options = _resolve_options(template, options, given, float(params["frequency_hz"]))
+    # The table's grid is checked against the memory limit now, not after minutes of solving.
+    pattern_grid(options["elevation_step_deg"], options["azimuth_step_deg"])
     trim = None
     if options.get("trim") == "resonance":
         trim = design.trim_to_resonance(
