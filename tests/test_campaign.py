@@ -193,6 +193,13 @@ CASES = [
          setup=lambda i, o: _table_with_gain(o, "100")),
     Case("pattern-table-at-an-absurd-frequency", lambda i, o: ["pattern", "show", o / "far.csv"], ("far.csv", "frequency_mhz"),
          setup=lambda i, o: (o / "far.csv").write_text(PATTERN_TEXTS["symmetric"].replace("# frequency_mhz = 436", "# frequency_mhz = 1e30"))),
+    # Sizes past the stated limits (planner/limits.py), refused before allocating.
+    Case("pattern-grid-of-billions-of-points", lambda i, o: ["pattern", "build", "image-turnstile", "spacing_wavelengths=0.25",
+                                                            "elevation_step_deg=0.00005", "--out", o / "fine.csv"],
+         ("elevation_step_deg", "the limit is")),
+    Case("elements-from-an-endless-device", lambda i, o: ["passes", "--elements", "/dev/zero", *QUICK_LOOK], ("/dev/zero", "limit")),
+    Case("sweep-of-billions-of-spacings", lambda i, o: ["sweep", i / SCENARIO, "--candidate", "close", "--reflector-spacing", "0.1:1:1e-9"],
+         ("--reflector-spacing",)),
     # A header may only name the project's own templates.
     Case("header-builder-names-a-module", lambda i, o: ["sweep", o / "foreign.toml", "--candidate", "isotropic",
                                                         "--reflector-spacing", "0.2:0.3:0.1", "--quiet"],
