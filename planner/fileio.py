@@ -56,6 +56,8 @@ class WriteRules:
             raise UserError(f"{label}: is one of this run's input files; write the output somewhere else")
         if target.is_dir():
             raise UserError(f"{label}: is a folder; give the name of a file to write")
+        if target.exists() and not target.is_file():  # a device, a pipe or a socket: renaming over it would replace it
+            raise UserError(f"{label}: is not a regular file (a device, pipe or socket); give the name of a file to write")
         if not self.force and (target.exists() or target.is_symlink()):
             raise UserError(f"{label}: already exists; give --force to replace it, or choose another name")
 

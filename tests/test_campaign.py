@@ -172,6 +172,8 @@ CASES = [
          ("--output", "is not a folder")),
     Case("pattern-out-in-a-missing-folder", lambda i, o: ["pattern", "build", "isotropic-rhcp", "--out", o / "no" / "t.csv"],
          ("--out", "does not exist")),
+    Case("output-onto-a-device", lambda i, o: ["passes", i / SCENARIO, "--format", "csv", "--output", "/dev/null", "--force"],
+         ("/dev/null", "is not a regular file")),
     # Numbers, dates and names out of range.
     Case("scenario-integer-of-5000-digits", lambda i, o: ["week", o / "huge.toml"], ("huge.toml", "5000 digits"),
          setup=lambda i, o: _scenario_with(i, o, "huge.toml", "step_s = 20", f"step_s = {HUGE}")),
