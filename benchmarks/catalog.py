@@ -44,8 +44,8 @@ ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 from planner import passes as engine  # noqa: E402
-from planner.orbits import read_elements  # noqa: E402
-from planner.station import Station  # noqa: E402
+from planner.elements import read_elements  # noqa: E402
+from planner.passes.station import Station  # noqa: E402
 from tests.orbit_factory import EARTH_RADIUS_KM, make_tle, write_three_line  # noqa: E402
 
 STATION = Station("catalog-bench", 52.137, -1.804, 142.0)

@@ -21,11 +21,11 @@ ROOT = Path(__file__).resolve().parents[1]
 
 
 def command() -> list[str]:
-    """The installed `planner` entry point next to this Python, else `python -m planner.cli`."""
+    """The installed `planner` entry point next to this Python, else `python -m planner`."""
     script = Path(sys.executable).with_name("planner")
     if script.exists():
         return [str(script)]
-    return [sys.executable, "-m", "planner.cli"]
+    return [sys.executable, "-m", "planner"]
 
 
 def main() -> None:

@@ -19,10 +19,10 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from planner.synth import mom  # noqa: E402
-from planner.synth.design import design_harness, trim_to_resonance  # noqa: E402
-from planner.synth.tables import build_template_table  # noqa: E402
-from planner.synth.templates import check_parameters  # noqa: E402
+from planner.antenna.synth import mom  # noqa: E402
+from planner.antenna.synth.design import design_harness, trim_to_resonance  # noqa: E402
+from planner.antenna.synth.tables import build_template_table  # noqa: E402
+from planner.antenna.synth.templates import check_parameters  # noqa: E402
 
 SHAPE = {"width_to_height": 0.5, "exponent": 6.0, "reflector": "pec", "spacing_wavelengths": 0.6}
 

@@ -28,9 +28,9 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from skyfield.api import EarthSatellite, load, wgs84  # noqa: E402
 
-from planner.orbits import read_elements  # noqa: E402
+from planner.elements import read_elements  # noqa: E402
 from planner.passes import predict_passes  # noqa: E402
-from planner.station import Station  # noqa: E402
+from planner.passes.station import Station  # noqa: E402
 from tests.orbit_factory import make_tle, write_three_line  # noqa: E402
 
 

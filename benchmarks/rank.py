@@ -60,7 +60,7 @@ data_rate_bps = 9600
 
 def planner_command() -> list[str]:
     script = Path(sys.executable).with_name("planner")
-    return [str(script)] if script.exists() else [sys.executable, "-m", "planner.cli"]
+    return [str(script)] if script.exists() else [sys.executable, "-m", "planner"]
 
 
 def main() -> None:

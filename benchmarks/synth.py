@@ -21,8 +21,8 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from planner.synth.geometry import Port, Wire, WireModel, segment_model  # noqa: E402
-from planner.synth.mom import impedance_matrix, solve  # noqa: E402
+from planner.antenna.synth.geometry import Port, Wire, WireModel, segment_model  # noqa: E402
+from planner.antenna.synth.mom import impedance_matrix, solve  # noqa: E402
 
 C = 299_792_458.0
 

@@ -99,7 +99,7 @@ check does the rest."""
 # --------------------------------------------------------------------------- the wire solver
 
 MOM_BYTES_PER_SEGMENT_PAIR = 900
-"""Peak memory of ``planner.synth.mom.solve`` per (segment, segment) pair: the moment matrix is
+"""Peak memory of ``planner.antenna.synth.mom.solve`` per (segment, segment) pair: the moment matrix is
 N x N complex128 (16 bytes a pair; Harrington, Field Computation by Moment Methods, ch. 4: one
 entry for each pair of basis and testing functions), and the fill keeps the four segment-end
 integral blocks and their combinations alive at once. Measured 803 bytes a pair (free space,

@@ -12,10 +12,10 @@ from datetime import datetime
 from pathlib import Path
 
 from planner.errors import UserError
-from planner.orbits import ElementSet, check_element_age, read_elements, select_element_set
+from planner.elements import ElementSet, check_element_age, read_elements, select_element_set
 from planner.passes import Pass, Target, predict_passes
 from planner.scenario import CandidateConfig, FeedlineRun, SatelliteConfig, Scenario, StationConfig
-from planner.station import Station
+from planner.passes.station import Station
 
 
 def frequencies_hz(config: SatelliteConfig) -> dict[str, float]:
@@ -35,8 +35,8 @@ class Candidate:
     """
 
     name: str
-    pattern: object                      # planner.patterns.PatternTable
-    feedline: list                       # [(planner.feedline.Cable, length_m), ...]
+    pattern: object                      # planner.antenna.PatternTable
+    feedline: list                       # [(planner.link.feedline.Cable, length_m), ...]
     connectors: int
     connector_loss_db: float
     lna_position: str | None
@@ -137,7 +137,7 @@ class Study:
 
     def feedline_runs(self, runs: list[FeedlineRun], key: str) -> list:
         """[(Cable, length_m)] for the scenario's feedline entries; unknown cables are refused."""
-        from planner.feedline import cable_from_points, get_cable
+        from planner.link.feedline import cable_from_points, get_cable
 
         user_cables = {
             c.name: cable_from_points(c.name, c.loss_db_per_100m, c.impedance_ohm, c.velocity_factor)
@@ -156,7 +156,7 @@ class Study:
         """The named candidate, loaded once (pattern table parsed, cables resolved)."""
         cache = self.__dict__.setdefault("_candidates", {})
         if name not in cache:
-            from planner.patterns import load_pattern
+            from planner.antenna import load_pattern
 
             config: CandidateConfig = self.scenario.candidate_named(name)
             position = next(i for i, c in enumerate(self.scenario.candidate, start=1) if c.name == name)

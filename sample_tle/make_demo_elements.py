@@ -257,10 +257,10 @@ def omm_json(records: list[dict[str, str]]) -> str:
 
 
 def self_check(output_dir: Path, tles: list[tuple[str, str, str]]) -> None:
-    """Reload what was written: sgp4's reader, skyfield's EarthSatellite and planner.orbits."""
+    """Reload what was written: sgp4's reader, skyfield's EarthSatellite and planner.elements."""
     from skyfield.api import EarthSatellite, load
 
-    from planner.orbits import read_elements
+    from planner.elements import read_elements
 
     timescale = load.timescale(builtin=True)
     for name, line1, line2 in tles:

@@ -10,7 +10,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from planner import atmosphere
+from planner.link import atmosphere
 from planner.errors import UserError
 
 MHZ = 1e6
@@ -102,10 +102,10 @@ def test_neglected_list_names_the_main_omissions():
 
 
 def test_itur_is_not_imported_with_the_module():
-    # Importing itur costs ~1.5 s, so planner.atmosphere must import it only when it computes.
+    # Importing itur costs ~1.5 s, so planner.link.atmosphere must import it only when it computes.
     env = dict(os.environ, PYTHONPATH=str(REPO))
     out = subprocess.run(
-        [sys.executable, "-c", "import sys, planner.atmosphere; print('itur' in sys.modules)"],
+        [sys.executable, "-c", "import sys, planner.link.atmosphere; print('itur' in sys.modules)"],
         cwd=REPO, env=env, capture_output=True, text=True, check=True,
     )
     assert out.stdout.strip() == "False"

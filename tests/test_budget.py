@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 from scipy.constants import Boltzmann
 
-from planner.budget import (
+from planner.link.budget import (
     BOLTZMANN_DBW_PER_K_HZ,
     downlink_setup,
     evaluate,
@@ -20,8 +20,8 @@ from planner.budget import (
     pass_budget,
     uplink_setup,
 )
-from planner.patterns import load_pattern
-from planner.safety import general_public_limit_mw_cm2, min_distance_m, power_density_mw_cm2
+from planner.antenna import load_pattern
+from planner.link.safety import general_public_limit_mw_cm2, min_distance_m, power_density_mw_cm2
 from planner.scenario import load_scenario
 from planner.study import Study
 
@@ -41,7 +41,7 @@ def study():
 
 
 def run(*args):
-    return subprocess.run([sys.executable, "-m", "planner.cli", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
+    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
 
 
 def test_free_space_loss_itu_p525():
@@ -98,7 +98,7 @@ def test_end_to_end_budget_recomputed_by_hand(study):
 
     cn0 = eirp - fsl - atm - pol_loss + rx_gain + 228.60 - 10 * log10(t_sys)
     ebn0 = cn0 - 10 * log10(sat.data_rate_bps)
-    from planner.modem import required_ebn0_db
+    from planner.link.modem import required_ebn0_db
 
     required = required_ebn0_db("gmsk", sat.target_ber, gmsk_bt=sat.gmsk_bt) + sat.implementation_loss_db - sat.coding_gain_db
     assert row["eirp_dbw"] == pytest.approx(eirp, abs=1e-9)
@@ -363,7 +363,7 @@ def test_ladder_shows_pre_lna_row_chain_and_noise_breakdown(tmp_path):
 
 def test_uplink_has_no_pre_lna_row(study):
     setup = uplink_setup(study, "CALDERWISP")
-    from planner.budget import ladder_values
+    from planner.link.budget import ladder_values
 
     values = ladder_values(setup, evaluate(setup, [0.0], [45.0], [800.0]).iloc[0])
     assert values["pre_lna_loss_db"] is None and values["antenna_noise_temperature_k"] is None
@@ -371,7 +371,7 @@ def test_uplink_has_no_pre_lna_row(study):
 
 def test_sky_temperature_of_a_candidate_includes_the_atmosphere(study):
     # ITU-R P.372 clear-air emission: a few kelvin for these UHF patterns, and the station height passed on.
-    from planner.noise import antenna_noise_temperature_k
+    from planner.link.noise import antenna_noise_temperature_k
 
     setup = downlink_setup(study, "WRENLING-1", "turnstile-close")
     pattern = study.candidate("turnstile-close").pattern
@@ -391,7 +391,7 @@ def test_slant_range_from_the_station_wgs84_position_against_skyfield(study):
     from skyfield.toposlib import ITRSPosition
     from skyfield.units import Distance
 
-    from planner.budget import slant_range_km
+    from planner.link.budget import slant_range_km
 
     station = study.station
     topos = wgs84.latlon(station.latitude_deg, station.longitude_deg, elevation_m=station.altitude_m)
@@ -416,7 +416,7 @@ def test_slant_range_from_the_station_wgs84_position_against_skyfield(study):
 
 
 def test_budget_at_an_elevation_uses_the_station_radius(study):
-    from planner.budget import orbit_radii_km, slant_range_km
+    from planner.link.budget import orbit_radii_km, slant_range_km
 
     result = run("budget", DEMO, "--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "10", "--format", "json")
     assert result.returncode == 0, result.stderr
@@ -427,7 +427,7 @@ def test_budget_at_an_elevation_uses_the_station_radius(study):
 
 
 def test_range_the_orbit_cannot_give_is_refused(study):
-    from planner.budget import orbit_radii_km, slant_range_km
+    from planner.link.budget import orbit_radii_km, slant_range_km
 
     args = ("budget", DEMO, "--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "30")
     assert_user_error(run(*args, "--range-km", "100"), "--range-km", "100 km", "WRENLING-1", "elevation 30 deg", "allowed")
@@ -454,7 +454,7 @@ def test_pattern_far_from_its_frequency_is_refused_and_near_it_warns(tmp_path, s
 def test_no_feed_data_is_said_in_the_ladder_and_the_comparison(tmp_path):
     # An image-theory turnstile table (closed form, no feed network) carries no feed_vswr; the demo's
     # wire-solver tables do. One candidate is pointed at such a table.
-    from planner.patterns import build_pattern, write_pattern
+    from planner.antenna import build_pattern, write_pattern
 
     bare = tmp_path / "bare-turnstile.csv"
     write_pattern(bare, build_pattern("image-turnstile", spacing_wavelengths=0.25, frequency_hz=436e6))

@@ -29,7 +29,7 @@ from typing import Callable
 
 import pytest
 
-from planner.patterns import format_pattern, isotropic_rhcp
+from planner.antenna import format_pattern, isotropic_rhcp
 from tests.orbit_factory import make_tle, write_three_line
 from tests.test_hardening import ALPHA, BETA, ELEMENT_TEXTS, PATTERN_TEXTS, PASS_COLUMNS, assert_contract, run_cli, scenario_text
 
@@ -273,7 +273,7 @@ def test_names_a_spreadsheet_would_run_are_written_as_text(tmp_path):
 
 def test_negative_numbers_are_not_touched():
     # Only text is neutralised: a negative number must stay a number a spreadsheet can add.
-    from planner.export import to_csv
+    from planner.output.export import to_csv
 
     text = to_csv([{"name": "-", "margin_db": -3.25, "note": "-3.25"}], ["name", "margin_db", "note"])
     assert text.splitlines()[1] == "\"'-\",-3.25,-3.25"

@@ -12,9 +12,9 @@ from pathlib import Path
 
 import pytest
 
-from planner.orbits import read_elements
+from planner.elements import read_elements
 from planner.passes import predict_passes
-from planner.station import Station
+from planner.passes.station import Station
 from planner.cli import _parse_utc
 from planner.errors import UserError
 from tests.orbit_factory import make_tle, write_three_line
@@ -30,7 +30,7 @@ CONTRACT = [
 
 
 def run(*args, cwd=ROOT):
-    return subprocess.run([sys.executable, "-m", "planner.cli", *map(str, args)], capture_output=True, text=True, cwd=cwd)
+    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=cwd)
 
 
 def assert_user_error(result, *fragments):
@@ -181,7 +181,7 @@ def test_output_folder_missing(tmp_path):
 
 # --------------------------------------------------------------------------- times and numbers in options
 
-# Every time lies in 1957 to 2100 (planner.orbits.EARLIEST_YEAR / LATEST_YEAR: the first artificial
+# Every time lies in 1957 to 2100 (planner.elements.EARLIEST_YEAR / LATEST_YEAR: the first artificial
 # satellite, and beyond any element set's useful life; common practice, no published source).
 # Near year 1 and 9999 datetime arithmetic overflows (Python docs, datetime.MINYEAR / MAXYEAR), which
 # used to end the command with a traceback.

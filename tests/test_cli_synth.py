@@ -9,13 +9,13 @@ from pathlib import Path
 
 import pytest
 
-from planner.patterns import load_pattern
+from planner.antenna import load_pattern
 
 ROOT = Path(__file__).resolve().parents[1]
 
 
 def run(*args):
-    return subprocess.run([sys.executable, "-m", "planner.cli", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
+    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
 
 
 def test_pattern_build_makes_crossed_loops_over_a_reflector(tmp_path):

@@ -1,6 +1,6 @@
-"""Trimming, harness and matching-section design (planner.synth.design) against Pozar's matching
+"""Trimming, harness and matching-section design (planner.antenna.synth.design) against Pozar's matching
 formulas (Microwave Engineering, sec. 2.5 and 5.1), Balanis' dipole resonance (Antenna Theory,
-ch. 4 and 8), the phase-error formula of planner.harness (Stutzman) and facts of the trade."""
+ch. 4 and 8), the phase-error formula of planner.antenna.harness (Stutzman) and facts of the trade."""
 
 from __future__ import annotations
 
@@ -16,11 +16,11 @@ import pytest
 from scipy.constants import c as C_M_S  # exact SI speed of light
 
 from planner.errors import UserError
-from planner.feedline import cable_from_points, line_input_impedance, mismatch_loss_db, vswr_from_impedance
-from planner.harness import axial_ratio_db_from_phase_error, phase_error_deg
-from planner.patterns import load_pattern, spherical_unit_vectors
-from planner.synth import design
-from planner.synth.templates import check_parameters
+from planner.link.feedline import cable_from_points, line_input_impedance, mismatch_loss_db, vswr_from_impedance
+from planner.antenna.harness import axial_ratio_db_from_phase_error, phase_error_deg
+from planner.antenna import load_pattern, spherical_unit_vectors
+from planner.antenna.synth import design
+from planner.antenna.synth.templates import check_parameters
 
 ROOT = Path(__file__).resolve().parents[1]
 F_HZ = 436e6
@@ -139,7 +139,7 @@ def test_one_wavelength_loops_resonate_a_few_per_cent_long_near_100_to_150_ohm()
     # Common practice, no published source: a one-wavelength loop resonates a few per cent above
     # one wavelength of perimeter at roughly 100-140 ohm (a round loop sits at the top of that
     # range; the bound here is 150), so two in parallel come near 50-75 ohm.
-    from planner.synth.tables import build_template_table
+    from planner.antenna.synth.tables import build_template_table
 
     table = build_template_table("crossed-loops", {"trim": "resonance", "elevation_step_deg": 30, "azimuth_step_deg": 90})
     trimmed = float(table.header["trimmed"].split()[1])
@@ -156,7 +156,7 @@ def test_one_wavelength_loops_resonate_a_few_per_cent_long_near_100_to_150_ohm()
 def test_trim_to_a_target_impedance_lands_closest_to_it():
     # Closest point of the impedance curve Z(size) to the target: a solve a little either side
     # must not come nearer.
-    from planner.synth import mom, templates
+    from planner.antenna.synth import mom, templates
 
     params = check_parameters("dipole", {"segments_per_wavelength": 20})
     target = 60.0 + 10.0j
@@ -212,8 +212,8 @@ def test_designed_harness_for_trimmed_tall_loops_is_circular_and_matched(tall_lo
 
 def test_the_grid_search_found_the_best_line_length(tall_loops):
     # No length of the chosen cable does better: brute force on a fine grid of the exact network
-    # (planner.synth.feed.phasing_line).
-    from planner.synth.feed import phasing_line
+    # (planner.antenna.synth.feed.phasing_line).
+    from planner.antenna.synth.feed import phasing_line
 
     trim, harness = tall_loops
     cable = harness.phasing.cable
@@ -229,7 +229,7 @@ def test_the_grid_search_found_the_best_line_length(tall_loops):
 
 
 def test_cut_errors_move_the_axial_ratio_as_the_phase_error_formula_says(tall_loops):
-    # A line dl too long adds the lag 360 dl / lambda_g (planner.harness.phase_error_deg); with
+    # A line dl too long adds the lag 360 dl / lambda_g (planner.antenna.harness.phase_error_deg); with
     # the design's own amplitude ratio, the formula's axial ratio must agree with the network's
     # within 0.1 dB (the network also changes the amplitude a little).
     _, harness = tall_loops
@@ -271,8 +271,8 @@ def test_match_none_leaves_the_impedance_after_the_phasing_line(tall_loops):
 
 @pytest.fixture(scope="module")
 def harness_table(tmp_path_factory):
-    from planner.patterns import write_pattern
-    from planner.synth.tables import build_template_table
+    from planner.antenna import write_pattern
+    from planner.antenna.synth.tables import build_template_table
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
@@ -305,7 +305,7 @@ def test_harness_table_header_tells_a_builder_what_to_cut(harness_table, tall_lo
 
 
 def test_sweep_rebuild_trims_again_at_another_spacing(harness_table):
-    from planner.sweep import rebuild_at_spacing
+    from planner.decision.sweep import rebuild_at_spacing
 
     table = load_pattern(harness_table)
     other = rebuild_at_spacing(table, 0.3)
@@ -315,7 +315,7 @@ def test_sweep_rebuild_trims_again_at_another_spacing(harness_table):
 
 
 def test_options_that_do_not_apply_are_refused_in_one_line():
-    from planner.synth.tables import build_template_table
+    from planner.antenna.synth.tables import build_template_table
 
     for values, word in (
         ({"feed": "quadrature", "phasing_cable": "rg-58"}, "phasing_cable"),
@@ -330,7 +330,7 @@ def test_options_that_do_not_apply_are_refused_in_one_line():
 
 
 def run(*args):
-    return subprocess.run([sys.executable, "-m", "planner.cli", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
+    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
 
 
 def test_harness_command_reports_cut_errors_of_a_harness_table(harness_table, tall_loops):

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 from scipy.constants import c
 
-from planner import feedline as fl
+from planner.link import feedline as fl
 from planner.errors import PlannerWarning, UserError
 
 MHZ = 1e6

@@ -19,10 +19,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from planner import forecast as forecast_module
-from planner.budget import downlink_setup, pass_budget
+from planner.decision import forecast as forecast_module
+from planner.link.budget import downlink_setup, pass_budget
 from planner.errors import PlannerWarning
-from planner.forecast import (
+from planner.decision.forecast import (
     ELEVATION_BAND_LABELS,
     ELEVATION_BANDS_DEG,
     PASS_COLUMNS,
@@ -208,7 +208,7 @@ def test_dt_sums_to_duration_and_every_pass_for_every_candidate(day, study):
 
 def test_samples_match_the_per_pass_budget(day, study):
     # compute_samples evaluates each (candidate, satellite) budget over all samples at once; it
-    # must equal planner.budget.pass_budget run pass by pass (the budget is per sample).
+    # must equal planner.link.budget.pass_budget run pass by pass (the budget is per sample).
     passes = study.passes()
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", PlannerWarning)

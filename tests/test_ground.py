@@ -1,4 +1,4 @@
-"""A wire antenna on a mast over real ground (planner.synth.ground) against published theory.
+"""A wire antenna on a mast over real ground (planner.antenna.synth.ground) against published theory.
 
 Sources: Balanis, Antenna Theory: Analysis and Design, ch. 4 (ground effects: image theory, the
 reflection coefficients for horizontal and vertical polarization, the Brewster angle); Pozar,
@@ -20,10 +20,10 @@ import pytest
 from scipy.constants import epsilon_0, speed_of_light
 
 from planner.errors import PlannerWarning, UserError
-from planner.noise import antenna_noise_temperature_k
-from planner.synth import mom
-from planner.synth.feed import ideal_quadrature
-from planner.synth.ground import (
+from planner.link.noise import antenna_noise_temperature_k
+from planner.antenna.synth import mom
+from planner.antenna.synth.feed import ideal_quadrature
+from planner.antenna.synth.ground import (
     GROUND_CLASSES,
     complex_permittivity,
     gains_over_ground_dbic,
@@ -32,8 +32,8 @@ from planner.synth.ground import (
     make_ground,
     reflection_coefficients,
 )
-from planner.synth.tables import build_template_table
-from planner.synth.templates import build_model
+from planner.antenna.synth.tables import build_template_table
+from planner.antenna.synth.templates import build_model
 
 ROOT = Path(__file__).resolve().parents[1]
 F_HZ = 436e6
@@ -271,7 +271,7 @@ def _turnstile(**values):
 )
 def test_lossless_antenna_over_ground_in_a_uniform_290_k_scene_sees_290_k(ground, mast_wavelengths):
     # Energy conservation and Kirchhoff's law: a lossless antenna in a uniform 290 K scene has T_A = 290 K
-    # (Kraus, Radio Astronomy, antenna temperature). planner.noise divides by the table's own integral of G,
+    # (Kraus, Radio Astronomy, antenna temperature). planner.link.noise divides by the table's own integral of G,
     # so its uniform-scene value is 290 K by construction; the physics is in the integral itself,
     # T_A = (1 / 4 pi) int G T dOmega with G relative to the input power, which is 290 K only if reflected and
     # transmitted parts carry all the power. What is left is the ground's coupling to the currents (neglected):
@@ -279,7 +279,7 @@ def test_lossless_antenna_over_ground_in_a_uniform_290_k_scene_sees_290_k(ground
     table = _turnstile(mast_height_m=mast_wavelengths * LAM, **ground)
     t_uniform = 290.0 * _cell_sum(table)
     assert t_uniform == pytest.approx(290.0, rel=0.03)
-    # planner.noise's (normalised) ground part agrees with the unnormalised integral over the lower
+    # planner.link.noise's (normalised) ground part agrees with the unnormalised integral over the lower
     # hemisphere at 290 K to the same few per cent (measured: within 1.1 %), so its normalisation hides nothing
     noise = antenna_noise_temperature_k(table, F_HZ, None, ground_temperature_k=290.0)
     unnormalised = _cell_sum(table, lambda el: np.where(el < 0.0, 290.0, 0.0))
@@ -367,7 +367,7 @@ def test_coarse_table_over_a_tall_mast_warns():
 
 
 def test_pattern_build_list_shows_the_ground_parameters():
-    result = subprocess.run([sys.executable, "-m", "planner.cli", "pattern", "build", "crossed-loops", "--list"],
+    result = subprocess.run([sys.executable, "-m", "planner", "pattern", "build", "crossed-loops", "--list"],
                             capture_output=True, text=True, cwd=ROOT)
     assert result.returncode == 0, result.stderr
     for name in ("ground", "ground_permittivity", "ground_conductivity_s_per_m", "mast_height_m"):

@@ -52,10 +52,10 @@ import planner.cli as cli
 import planner.fileio as fileio
 from planner.errors import PlannerWarning, UserError
 from planner.fileio import REPLACE_ANY, write_atomically
-from planner.orbits import read_elements, tle_checksum
+from planner.elements import read_elements, tle_checksum
 from planner.passes import predict_passes
-from planner.patterns import format_pattern, isotropic_rhcp, turnstile_over_reflector
-from planner.station import Station
+from planner.antenna import format_pattern, isotropic_rhcp, turnstile_over_reflector
+from planner.passes.station import Station
 from tests.orbit_factory import EARTH_RADIUS_KM, make_tle, write_three_line
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -577,7 +577,7 @@ def test_same_input_gives_byte_identical_output(world):
         for seed in ("1", "4242"):
             env = dict(os.environ, PYTHONHASHSEED=seed, PYTHONPATH=str(ROOT))
             argv = [a.format(seed=seed) for a in args]
-            runs[name, seed] = subprocess.Popen([sys.executable, "-m", "planner.cli", *argv], cwd=world, env=env,
+            runs[name, seed] = subprocess.Popen([sys.executable, "-m", "planner", *argv], cwd=world, env=env,
                                                 stdout=subprocess.PIPE, stderr=subprocess.PIPE)
     outputs = {key: process.communicate(timeout=300) for key, process in runs.items()}
     for name in commands:
@@ -935,7 +935,7 @@ def test_budget_at_a_time_far_from_the_epoch_is_refused_or_flagged(world):
 def test_an_undefined_direction_is_nan_not_a_linear_antenna():
     # NaN in, NaN out (IEEE 754): a direction that is not known must not read as a 60 dB
     # axial ratio, and asking for its sense must not warn about casting NaN to an integer.
-    from planner.patterns import parse_pattern
+    from planner.antenna import parse_pattern
 
     table = parse_pattern(PATTERN_TEXTS["azimuth"])
     azimuth, elevation = np.array([np.nan, 0.0]), np.array([60.0, 60.0])

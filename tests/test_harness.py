@@ -1,4 +1,4 @@
-"""Phasing-harness arithmetic (planner.harness) against hand calculations, the polarization
+"""Phasing-harness arithmetic (planner.antenna.harness) against hand calculations, the polarization
 ellipse traced independently (Born & Wolf, Principles of Optics, sec. 1.4; Stutzman, Polarization
 in Electromagnetic Systems), Stutzman's polarization efficiency and Pozar's line
 formulas (Microwave Engineering)."""
@@ -12,7 +12,7 @@ import pytest
 from scipy.constants import c as C_M_S  # reference value of the speed of light (exact, SI)
 
 from planner.errors import UserError
-from planner.harness import (
+from planner.antenna.harness import (
     HARNESS_UNITS,
     axial_ratio_db_from_circular,
     axial_ratio_db_from_phase_error,

@@ -48,10 +48,10 @@ from planner.limits import (
     format_bytes,
     read_text_capped,
 )
-from planner.patterns import SHIPPED_PATTERNS, format_pattern, turnstile_over_reflector
+from planner.antenna import SHIPPED_PATTERNS, format_pattern, turnstile_over_reflector
 from planner.scenario import load_scenario
-from planner.synth import mom, templates
-from planner.synth.geometry import estimated_segment_count, segment_model
+from planner.antenna.synth import mom, templates
+from planner.antenna.synth.geometry import estimated_segment_count, segment_model
 from tests.orbit_factory import make_tle
 from tests.test_hardening import assert_user_error, run_cli
 

@@ -1,4 +1,4 @@
-"""Required Eb/N0 from modulation theory (planner.modem).
+"""Required Eb/N0 from modulation theory (planner.link.modem).
 
 External references used here:
 * Sklar, *Digital Communications* (2nd ed.), and Proakis, *Digital Communications*:
@@ -22,7 +22,7 @@ from hypothesis import strategies as st
 from scipy import integrate, stats
 
 from planner.errors import PlannerWarning, UserError
-from planner.modem import (
+from planner.link.modem import (
     MODULATIONS,
     NO_THEORY,
     bit_error_rate,
@@ -31,7 +31,7 @@ from planner.modem import (
     q_function,
     required_ebn0_db,
 )
-from planner import modem
+from planner.link import modem
 
 THEORY = [m for m in MODULATIONS if m not in NO_THEORY]
 

@@ -1,4 +1,4 @@
-"""Thin-wire method of moments (planner.synth) against published antenna theory.
+"""Thin-wire method of moments (planner.antenna.synth) against published antenna theory.
 
 Sources: Balanis, Antenna Theory: Analysis and Design (ch. 2, 4);
 Harrington, Field Computation by Moment Methods (1968) for the method; circuit theory for loads
@@ -16,7 +16,7 @@ from scipy.constants import mu_0, speed_of_light
 from scipy.optimize import brentq
 
 from planner.errors import PlannerWarning, UserError
-from planner.synth.geometry import (
+from planner.antenna.synth.geometry import (
     MATERIALS,
     Load,
     Port,
@@ -27,7 +27,7 @@ from planner.synth.geometry import (
     skin_depth_m,
     surface_resistance_ohm,
 )
-from planner.synth.mom import ETA0_OHM, solve
+from planner.antenna.synth.mom import ETA0_OHM, solve
 
 F_HZ = 300e6
 LAM = speed_of_light / F_HZ
@@ -454,7 +454,7 @@ def test_self_term_matches_closed_form_double_integral():
     # = 2 [L asinh(L/a) - sqrt(L^2 + a^2) + a]. With k = 0 the kernel is 1/R alone, so the solver's
     # near-pair rule (closed-form inner integral, 16-point outer) must reproduce it (1e-5 relative)
     # for segment/radius ratios 4..50, and every segment must be treated as its own near pair.
-    from planner.synth import mom
+    from planner.antenna.synth import mom
 
     for ratio in (4.0, 12.5, 50.0):
         length, radius = 0.01, 0.01 / ratio

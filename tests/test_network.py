@@ -43,7 +43,7 @@ def scenario_text(days=0.5):
 
 
 def run(*args):
-    return subprocess.run([sys.executable, "-m", "planner.cli", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
+    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
 
 
 @pytest.fixture(scope="module")

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 import scipy.constants
 
-from planner import noise
+from planner.link import noise
 from planner.errors import PlannerWarning, UserError
 
 MHZ = 1e6
@@ -296,7 +296,7 @@ def test_antenna_temperature_with_the_atmosphere_matches_an_independent_integral
     # The vectorized cell sum (0.5 deg bands, brightness once per band) must agree within 0.01 K.
     from scipy.integrate import quad
 
-    from planner import atmosphere
+    from planner.link import atmosphere
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", PlannerWarning)
@@ -325,7 +325,7 @@ def test_mismatched_lossless_antenna_delivers_k_290_b_m():
     # Pozar, Microwave Engineering (noise of a mismatched source): a lossless antenna seeing a uniform
     # 290 K scene, behind a mismatch M = 1 - |Gamma|^2, delivers k 290 K B M to a matched load. Here the
     # scene is 290 K ground only (a pattern looking down), the chain a noiseless receiver with no line.
-    from planner.feedline import mismatch_loss_db
+    from planner.link.feedline import mismatch_loss_db
 
     down = DuckPattern(lambda az, el: np.where(el < 0, 2.0, 0.0))
     t_a = noise.antenna_noise_temperature_k(down, 435 * MHZ, None, ground_temperature_k=290.0).total_k

@@ -1,4 +1,4 @@
-"""Element-set reading and checks (planner.orbits) and the invented demo element files.
+"""Element-set reading and checks (planner.elements) and the invented demo element files.
 
 External references used here:
 * TLE format and checksum: NORAD two-line element format as documented in Spacetrack
@@ -31,7 +31,7 @@ from hypothesis import strategies as st
 from sgp4.api import Satrec, jday
 
 from planner.errors import PlannerWarning, UserError
-from planner.orbits import (
+from planner.elements import (
     ElementSet,
     control_character,
     check_element_age,
@@ -713,7 +713,7 @@ def test_tle_epoch_day_outside_its_year_is_refused(tmp_path, two_digit_year, day
 )
 def test_omm_epoch_outside_1957_to_2100_is_refused(tmp_path, epoch_text):
     # 1957: the first artificial satellite; 2100: past any element set's useful life
-    # (planner.orbits.EARLIEST_YEAR / LATEST_YEAR; common practice, no published source).
+    # (planner.elements.EARLIEST_YEAR / LATEST_YEAR; common practice, no published source).
     path, line = _omm_forms(tmp_path, "EPOCH", epoch_text)[0]
     expect_user_error(path, line, "EPOCH", "1957 to 2100")
 

@@ -9,9 +9,9 @@ import numpy as np
 import pytest
 from skyfield.api import EarthSatellite, load, wgs84
 
-from planner.orbits import read_elements
+from planner.elements import read_elements
 from planner.passes import Target, predict_passes
-from planner.station import HorizonMask, Station
+from planner.passes.station import HorizonMask, Station
 from tests.orbit_factory import make_tle, write_three_line
 
 START = datetime(2027, 1, 4, tzinfo=timezone.utc)

@@ -13,9 +13,9 @@ from skyfield.api import EarthSatellite, load, wgs84
 
 from planner import passes as engine
 from planner.errors import PlannerWarning
-from planner.orbits import ElementSet, read_elements
+from planner.elements import ElementSet, read_elements
 from planner.passes import Observer, Target, predict_passes
-from planner.station import HorizonMask, Station
+from planner.passes.station import HorizonMask, Station
 from tests.orbit_factory import EARTH_RADIUS_KM, make_tle, write_three_line
 
 START = datetime(2027, 1, 4, tzinfo=timezone.utc)

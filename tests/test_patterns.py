@@ -1,4 +1,4 @@
-"""Pattern tables (planner.patterns): format, loader, interpolation, polarization, generators.
+"""Pattern tables (planner.antenna): format, loader, interpolation, polarization, generators.
 
 External facts the checks rest on, each repeated beside its check:
 - Balanis, Antenna Theory: Analysis and Design, ch. 4: half-wave dipole far field
@@ -31,7 +31,7 @@ from hypothesis import strategies as st
 from scipy.integrate import trapezoid
 from scipy.special import sici
 
-from planner import patterns as P
+from planner import antenna as P
 from planner.errors import PlannerWarning, UserError
 
 REPO = Path(__file__).resolve().parents[1]
@@ -100,8 +100,8 @@ def test_dotted_builder_names_of_older_headers_are_read_as_aliases():
     assert P.builder_template("planner.synth.tables.crossed_loops_table") == "crossed-loops"
 
 
-@pytest.mark.parametrize("builder", ["numpy", "os.system", "planner.cli.main", "planner.patterns.load_pattern",
-                                     "planner.synth.tables.build_pattern_table", "", "x" * 5000])
+@pytest.mark.parametrize("builder", ["numpy", "os.system", "planner.cli.main", "planner.antenna.load_pattern",
+                                     "planner.antenna.synth.tables.build_pattern_table", "", "x" * 5000])
 def test_a_header_naming_anything_else_is_refused_in_one_line(builder):
     # Only the project's template names (and their old dotted aliases) may be called from a file.
     with pytest.raises(UserError, match="is not one of planner's templates; allowed: image-turnstile") as caught:
@@ -328,7 +328,7 @@ def test_total_gain_integrates_to_4pi(name):
     ring = 2 * np.pi * (g if table.symmetric else g.mean(axis=1))  # equal azimuth steps
     integral = trapezoid(ring * np.cos(el), el)
     # Over real ground the currents are the free-space solution: their coupling to the ground's
-    # image is neglected (planner.synth.ground), so the power balance holds only to that order,
+    # image is neglected (planner.antenna.synth.ground), so the power balance holds only to that order,
     # about 1 % for a mast of a few wavelengths; 3 % is allowed there, 0.5 % elsewhere.
     tolerance = 0.03 if "mast_height_m" in table.header else 0.005
     assert integral == pytest.approx(4 * np.pi * efficiency, rel=tolerance)
@@ -570,7 +570,7 @@ def _uniform_table(gain_dbic: float, *, frequency_mhz: str = "436", peak: tuple[
 def test_sphere_mean_gain_tolerance_edges():
     # A constant gain g over the sphere averages exactly 10^(g/10); a passive antenna's sphere mean
     # is its radiation efficiency, at most 1 (IEEE Std 145 definition of gain; Balanis, Antenna
-    # Theory, ch. 2, gain and antenna efficiency). Refused beyond the tolerance of 1.15 = 0.607 dB (planner.patterns).
+    # Theory, ch. 2, gain and antenna efficiency). Refused beyond the tolerance of 1.15 = 0.607 dB (planner.antenna).
     # (the LHCP column at the -60 dBic floor adds 1e-6)
     assert P.sphere_mean_gain(P.parse_pattern(_uniform_table(0.0))) == pytest.approx(1.0 + 1e-6, rel=1e-9)
     assert P.sphere_mean_gain(P.parse_pattern(_uniform_table(0.60))) == pytest.approx(10 ** 0.06 + 1e-6, rel=1e-9)
@@ -588,7 +588,7 @@ def test_tables_in_the_patterns_folder_conserve_energy():
 
 
 def test_peak_gain_cap_edges():
-    # 40 dBic is the cap for a fixed station antenna (planner.patterns.GAIN_CEILING_DBIC; common
+    # 40 dBic is the cap for a fixed station antenna (planner.antenna.GAIN_CEILING_DBIC; common
     # practice, no published source). At the zenith row alone it still conserves energy.
     table = P.parse_pattern(_uniform_table(-10.0, peak=(40.0, -60.0)))
     assert table.gains_dbic(0.0, 90.0)[0] == 40.0
@@ -604,8 +604,8 @@ def test_peak_gain_cap_edges():
 
 @pytest.mark.parametrize("frequency_mhz", ["1e30", "0.000001", "0.999", "50000.1", "1" * 5000])
 def test_design_frequency_outside_1_mhz_to_50_ghz_is_refused(frequency_mhz):
-    # 1 MHz to 50 GHz: the link frequencies a scenario accepts, inside the ranges planner.noise
-    # (ITU-R P.372, from 0.3 MHz) and planner.atmosphere (ITU-R P.676, to 1000 GHz) evaluate.
+    # 1 MHz to 50 GHz: the link frequencies a scenario accepts, inside the ranges planner.link.noise
+    # (ITU-R P.372, from 0.3 MHz) and planner.link.atmosphere (ITU-R P.676, to 1000 GHz) evaluate.
     with pytest.raises(UserError) as info:
         P.parse_pattern(_uniform_table(0.0, frequency_mhz=frequency_mhz))
     message = str(info.value)

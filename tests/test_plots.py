@@ -1,4 +1,4 @@
-"""Figures (planner.plots): labels with units, sky-chart orientation, files written, CVD palette.
+"""Figures (planner.output.plots): labels with units, sky-chart orientation, files written, CVD palette.
 
 External facts the checks rest on, each repeated beside its check:
 - Machado, Oliveira and Fernandes (2009), "A Physiologically-based Model for Simulation of Color
@@ -26,9 +26,9 @@ import pytest
 from matplotlib.colors import to_rgb
 from matplotlib.figure import Figure
 
-from planner import plots
+from planner.output import plots
 from planner.errors import UserError
-from planner.patterns import turnstile_over_reflector
+from planner.antenna import turnstile_over_reflector
 
 REPO = Path(__file__).resolve().parents[1]
 UNIT_RE = re.compile(r"[(\[]\s*(deg|dB|dBic|s|min/day)\s*[)\]]")
@@ -251,7 +251,7 @@ def test_sky_chart_usable_segments_thick_and_north_crossing_short(samples):
 
 
 def test_sky_chart_with_horizon_mask(samples):
-    class Mask:  # duck type of planner.station.HorizonMask
+    class Mask:  # duck type of planner.passes.station.HorizonMask
         def min_elevation_at(self, azimuth_deg):
             return np.interp(np.mod(azimuth_deg, 360.0), [0, 120, 240, 360], [3.0, 8.0, 2.0, 3.0])
 
@@ -345,14 +345,14 @@ def test_colours_follow_the_given_mapping(tables):
 
 
 def test_agg_backend_is_selected_on_import():
-    """Importing planner.plots in a fresh interpreter (no display, no MPLBACKEND) selects Agg."""
+    """Importing planner.output.plots in a fresh interpreter (no display, no MPLBACKEND) selects Agg."""
     import os
     import subprocess
     import sys
 
     env = {k: v for k, v in os.environ.items() if k != "MPLBACKEND"}
     env["PYTHONPATH"] = str(REPO)
-    code = "import planner.plots, matplotlib; print(matplotlib.get_backend())"
+    code = "import planner.output.plots, matplotlib; print(matplotlib.get_backend())"
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env, check=True, cwd=REPO)
     assert out.stdout.strip().lower() == "agg"
 

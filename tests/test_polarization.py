@@ -1,4 +1,4 @@
-"""Polarization states and mismatch (planner.polarization).
+"""Polarization states and mismatch (planner.link.polarization).
 
 External references used here:
 * Stutzman, *Polarization in Electromagnetic Systems*: polarization efficiency in
@@ -23,7 +23,7 @@ from hypothesis import strategies as st
 from scipy import integrate
 
 from planner.errors import UserError
-from planner.polarization import (
+from planner.link.polarization import (
     MAX_LOSS_DB,
     WavePolarization,
     axial_ratio_db_to_tau,

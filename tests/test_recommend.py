@@ -13,9 +13,9 @@ from pathlib import Path
 import pytest
 from icalendar import Calendar
 
-from planner.export import calendar_ics
-from planner.forecast import forecast
-from planner.recommend import _band_minutes, recommend
+from planner.output.export import calendar_ics
+from planner.decision.forecast import forecast
+from planner.decision.recommend import _band_minutes, recommend
 from planner.scenario import load_scenario
 from planner.study import Study
 
@@ -35,7 +35,7 @@ def short_scenario(tmp_path, days=1.5, extra_candidates="", replace=()):
 
 
 def run(*args):
-    return subprocess.run([sys.executable, "-m", "planner.cli", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
+    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
 
 
 @pytest.fixture(scope="module")

@@ -1,5 +1,5 @@
-"""Wire templates (planner.synth.templates), the feed network (planner.synth.feed) and pattern tables
-from the solver (planner.synth.tables).
+"""Wire templates (planner.antenna.synth.templates), the feed network (planner.antenna.synth.feed) and pattern tables
+from the solver (planner.antenna.synth.tables).
 
 Sources: plane and solid geometry (regular polygons, Ramanujan's ellipse perimeter); Pozar,
 Microwave Engineering (line ABCD / Y parameters, input impedance, mismatch); IEEE Std 145 and
@@ -18,9 +18,9 @@ import pytest
 from scipy.constants import c as C_M_S  # reference value of the speed of light (exact, SI)
 
 from planner.errors import UserError
-from planner.synth import templates
-from planner.synth.feed import ideal_quadrature, phasing_line
-from planner.synth.templates import (
+from planner.antenna.synth import templates
+from planner.antenna.synth.feed import ideal_quadrature, phasing_line
+from planner.antenna.synth.templates import (
     TEMPLATES,
     crossed_loops,
     default_crossing_gap_m,
@@ -337,11 +337,11 @@ def test_feed_input_errors():
 # With the solver
 # --------------------------------------------------------------------------------------------
 
-mom = pytest.importorskip("planner.synth.mom", reason="the wire solver (planner.synth.mom) is not written yet")
+mom = pytest.importorskip("planner.antenna.synth.mom", reason="the wire solver (planner.antenna.synth.mom) is not written yet")
 
 
 def zenith_axial_ratio_db(solution, voltages):
-    from planner.patterns import axial_ratio_db_from_partial_gains
+    from planner.antenna import axial_ratio_db_from_partial_gains
 
     r, l = solution.gains_dbic(0.0, 90.0, voltages)
     return float(axial_ratio_db_from_partial_gains(10 ** (r / 10), 10 ** (l / 10))), float(r), float(l)
@@ -356,8 +356,8 @@ def test_turnstile_ideal_quadrature_is_rhcp_at_the_zenith():
     assert ar < 0.5 and r > l + 25.0
     # The remaining ellipticity is the crossing gap: b is nearer the zenith by the gap, so its
     # field leads by k * gap; with equal amplitudes that phase error gives this axial ratio
-    # (the Stutzman axial ratio of x + e^{-j(90 + d)} y, planner.harness).
-    from planner.harness import axial_ratio_db_from_phase_error
+    # (the Stutzman axial ratio of x + e^{-j(90 + d)} y, planner.antenna.harness).
+    from planner.antenna.harness import axial_ratio_db_from_phase_error
 
     d = -360.0 * default_crossing_gap_m(1e-3, F_HZ) / LAMBDA_M
     assert ar == pytest.approx(axial_ratio_db_from_phase_error(d), abs=0.02)
@@ -392,8 +392,8 @@ def test_one_wavelength_loop_resistance_and_two_in_parallel(loop_solutions):
 
 
 def test_crossed_loops_over_pec_table_has_the_header_and_loads_back(tmp_path):
-    from planner.patterns import load_pattern, sphere_mean_gain, write_pattern
-    from planner.synth.tables import build_pattern_table, build_template_table, feed_model
+    from planner.antenna import load_pattern, sphere_mean_gain, write_pattern
+    from planner.antenna.synth.tables import build_pattern_table, build_template_table, feed_model
 
     values = {"reflector": "pec", "spacing_wavelengths": 0.3, "elevation_step_deg": 2, "azimuth_step_deg": 30}
     table = build_template_table("crossed-loops", values, command="planner pattern build crossed-loops --reflector pec")
@@ -433,8 +433,8 @@ def test_crossed_loops_over_pec_table_has_the_header_and_loads_back(tmp_path):
 def test_table_rebuilds_from_its_own_header():
     # The header's builder (a template name) and parameters are enough to make the same table
     # again (the reflector sweep relies on it), with the parameters as text.
-    from planner.patterns import rebuild_pattern
-    from planner.synth.tables import build_template_table
+    from planner.antenna import rebuild_pattern
+    from planner.antenna.synth.tables import build_template_table
 
     table = build_template_table("turnstile", {"reflector": "rods", "feed": "line", "velocity_factor": 0.8,
                                                "elevation_step_deg": 5, "azimuth_step_deg": 45})
@@ -448,7 +448,7 @@ def test_table_rebuilds_from_its_own_header():
 
 
 def test_wire_reflector_leaks_below_the_horizon():
-    from planner.synth.tables import build_template_table
+    from planner.antenna.synth.tables import build_template_table
 
     table = build_template_table("turnstile", {"reflector": "rods", "reflector_size_wavelengths": 0.6,
                                                "elevation_step_deg": 10, "azimuth_step_deg": 90})
@@ -461,7 +461,7 @@ def test_wire_reflector_leaks_below_the_horizon():
 def test_harness_report_with_the_solver():
     # The real network: elements a and b of a turnstile, b through a quarter wave; the report's
     # network phase equals the feed module's, and the zenith axial ratio comes from the far field.
-    from planner.harness import harness_report
+    from planner.antenna.harness import harness_report
 
     solution = mom.solve(turnstile(F_HZ, reflector="pec"))
     report = harness_report(F_HZ, 0.66, z0_ohm=50.0, solution=solution)

@@ -29,9 +29,9 @@ tabulated (nothing is solved twice).
 
 Phasing harness (:func:`design_phasing_line`)
 ---------------------------------------------
-Element a at the feed point, element b through a line (``planner.synth.feed.phasing_line``, exact
+Element a at the feed point, element b through a line (``planner.antenna.synth.feed.phasing_line``, exact
 with mutual coupling and the line's matched loss). For each candidate cable (every cable of
-``planner.feedline.CABLES``, or the one named) the zenith field
+``planner.link.feedline.CABLES``, or the one named) the zenith field
 ``E = V_a F_a + V_b F_b`` (``F_k``: the zenith field of 1 V on port k, the other port shorted;
 ``V = Z I``) is computed on a grid of electrical lengths 2..362 deg in 0.5 deg steps at once (a
 2x2 system solved by Cramer's rule per length), the best grid point is refined by a bounded
@@ -53,7 +53,7 @@ On the impedance after the phasing line, ``Z_L``:
   a complex load the input impedance ``Z_t^2 / Z_L`` is nearest 50 ohm (smallest |Gamma|) when
   ``Z_t^2 = 50 |Z_L|``, so the ideal is ``sqrt(50 |Z_L|)``. It is built from the catalog cable whose
   impedance is nearest the ideal, a quarter guided wavelength long; the residual VSWR is computed
-  exactly with ``planner.feedline.line_input_impedance`` on the complex load, the cable's loss
+  exactly with ``planner.link.feedline.line_input_impedance`` on the complex load, the cable's loss
   included. Two identical cables in parallel count as a cable of half the impedance (two 75 ohm
   lines make 37.5 ohm); a cable of 50 ohm itself is no transformer and is left out.
 * ``l-network``: a lossless L-section (Pozar, *Microwave Engineering*, sec. 5.1): for R_L > 50 ohm a
@@ -81,7 +81,7 @@ import numpy as np
 from scipy.optimize import minimize_scalar
 
 from planner.errors import UserError, warn
-from planner.feedline import (
+from planner.link.feedline import (
     CABLES,
     Cable,
     get_cable,
@@ -91,10 +91,10 @@ from planner.feedline import (
     vswr_from_impedance,
     wavelength_in_line_m,
 )
-from planner.harness import axial_ratio_db_from_circular
-from planner.synth import mom
-from planner.synth.feed import REFERENCE_IMPEDANCE_OHM, FeedResult, phasing_line
-from planner.synth.geometry import WireModel
+from planner.antenna.harness import axial_ratio_db_from_circular
+from planner.antenna.synth import mom
+from planner.antenna.synth.feed import REFERENCE_IMPEDANCE_OHM, FeedResult, phasing_line
+from planner.antenna.synth.geometry import WireModel
 
 __all__ = [
     "SIZE_PARAMETERS",
@@ -250,7 +250,7 @@ def trim_to_resonance(
     ``parameters`` are the template's checked parameters (``templates.check_parameters``); the size
     parameter's value there is where the search starts.
     """
-    from planner.synth.templates import TEMPLATES
+    from planner.antenna.synth.templates import TEMPLATES
 
     if template not in SIZE_PARAMETERS:
         raise UserError(f"trim: template {template!r} cannot be trimmed; allowed: {', '.join(SIZE_PARAMETERS)}")
@@ -761,8 +761,8 @@ def design_harness(solution: "mom.Solution", *, phasing_cable: str | None = None
 def harness_from_header(header: Mapping[str, str], source: str = "pattern table") -> HarnessDesign:
     """Rebuild the harness a ``feed=harness`` table was made with, from its ``builder`` and
     ``parameters`` header lines (the model is trimmed, solved and the harness designed again)."""
-    from planner.patterns import BUILDER_ALIASES
-    from planner.synth import tables  # tables builds on this module
+    from planner.antenna import BUILDER_ALIASES
+    from planner.antenna.synth import tables  # tables builds on this module
 
     builder = header.get("builder", "")
     template = BUILDER_ALIASES.get(builder, builder)

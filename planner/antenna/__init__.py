@@ -50,7 +50,7 @@ array factor 2 j sin(k h sin E)). Directivity is normalised by integrating the r
 over the upper hemisphere (Gauss-Legendre in sin E, trapezoid in azimuth); the antenna is lossless,
 so gain = directivity. Below the horizon an infinite perfect conductor passes no field, so the
 table holds ``GAIN_FLOOR_DBIC`` there; real, finite reflectors leak around their edges (the wire
-solver, planner.synth, models that).
+solver, planner.antenna.synth, models that).
 """
 
 from __future__ import annotations
@@ -332,8 +332,8 @@ def _fmt_deg(value: float) -> str:
 
 
 # Design frequencies a table may have: the link frequencies a scenario accepts (downlink_mhz,
-# uplink_mhz), 1 MHz to 50 GHz. Inside it the models of planner.noise (ITU-R P.372 lines from
-# 0.3 MHz, extrapolated beyond their stated ranges with a warning) and planner.atmosphere
+# uplink_mhz), 1 MHz to 50 GHz. Inside it the models of planner.link.noise (ITU-R P.372 lines from
+# 0.3 MHz, extrapolated beyond their stated ranges with a warning) and planner.link.atmosphere
 # (ITU-R P.676, stated for 1-1000 GHz, its low-frequency tail used below 1 GHz) are evaluated;
 # a table outside it serves no link the planner computes, so it is a unit mistake.
 FREQUENCY_MIN_MHZ = 1.0
@@ -343,7 +343,7 @@ FREQUENCY_MAX_MHZ = 50_000.0
 # G_RHCP + G_LHCP averaged over the sphere equals its radiation efficiency, at most 1 (IEEE Std 145
 # definition of gain; Balanis, Antenna Theory, ch. 2, gain and antenna efficiency). The table's mean is taken of its own
 # interpolant (sphere_mean_gain), which can fill nulls between rows on a coarse grid and over real
-# ground conserves power only to 1-2 % (planner.synth.ground); 0.6 dB (x 1.15) covers both, and
+# ground conserves power only to 1-2 % (planner.antenna.synth.ground); 0.6 dB (x 1.15) covers both, and
 # gains written to 0.001 dB. The shipped tables give 0.91 to 1.00.
 SPHERE_MEAN_GAIN_TOLERANCE = 1.15
 
@@ -958,7 +958,7 @@ BUILDER_ALIASES = {
 
 def builder_template(builder: str, source: str = "pattern table") -> str:
     """The template name a header's ``builder`` line stands for, or one UserError line."""
-    from planner.synth.templates import TEMPLATES as WIRE
+    from planner.antenna.synth.templates import TEMPLATES as WIRE
 
     name = BUILDER_ALIASES.get(builder, builder)
     if name in TEMPLATES or name in WIRE:
@@ -983,7 +983,7 @@ def rebuild_pattern(builder: str, parameters: dict[str, str], source: str = "pat
     return _wire_table(template, **parameters)
 
 
-# The demo station's candidates as a careful builder would make them (planner.synth): elements
+# The demo station's candidates as a careful builder would make them (planner.antenna.synth): elements
 # trimmed to resonance, a designed phasing line and matching section, a four-rod reflector and a
 # 4 m mast over the medium dry ground of the demo site. One table keeps a common mistake.
 _DEMO_MAST = {"frequency_hz": DEMO_FREQUENCY_HZ, "ground": "medium-dry-ground", "mast_height_m": 4.0}
@@ -1024,7 +1024,7 @@ SHIPPED_PATTERNS: dict[str, tuple[Callable[..., PatternTable], dict[str, Any]]] 
 
 def _wire_table(template: str, **values: Any) -> PatternTable:
     """A table from the wire solver, imported only when asked for (synth is upstream)."""
-    from planner.synth.tables import build_template_table
+    from planner.antenna.synth.tables import build_template_table
 
     return build_template_table(template, values, command="planner pattern build")
 

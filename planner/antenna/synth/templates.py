@@ -1,16 +1,16 @@
 """Parametric wire templates for the thin-wire solver: dipole, turnstile, crossed loops.
 
 Every template is generic (a textbook shape with its dimensions as parameters) and returns a
-:class:`planner.synth.geometry.WireModel`: one port ``"feed"`` for a single element, two ports
+:class:`planner.antenna.synth.geometry.WireModel`: one port ``"feed"`` for a single element, two ports
 ``"a"`` and ``"b"`` for a pair of elements. Dimensions are given in wavelengths at
 ``frequency_hz`` (lambda = c / f) except wire radii, which are in metres.
 
 Frame, ports and sense
 ----------------------
-x east, y north, z up (as :mod:`planner.patterns`). Element ``a`` lies along or in a plane
+x east, y north, z up (as :mod:`planner.antenna`). Element ``a`` lies along or in a plane
 through east; element ``b`` is element ``a`` turned +90 deg about the up axis (east -> north),
 its port oriented the same way: a positive port current flows +x at a's gap and +y at b's gap.
-Fed with ``I_b = -j I_a`` (b lagging 90 deg: :func:`planner.synth.feed.ideal_quadrature`) the
+Fed with ``I_b = -j I_a`` (b lagging 90 deg: :func:`planner.antenna.synth.feed.ideal_quadrature`) the
 zenith field is ~ x - j y, RHCP going up (IEEE Std 145, e^{jwt}).
 
 Crossing without touching
@@ -43,11 +43,11 @@ Wire reflectors are finite, so they leak: the pattern below the horizon is the c
 Ground below the mast (``ground``, ``mast_height_m``)
 ---------------------------------------------------
 Any template can stand on a mast over flat real ground: ``ground`` is a class of
-:data:`planner.synth.ground.GROUND_CLASSES` (ITU-R P.527 / P.2040 constants) or ``"custom"`` with
+:data:`planner.antenna.synth.ground.GROUND_CLASSES` (ITU-R P.527 / P.2040 constants) or ``"custom"`` with
 ``ground_permittivity`` and ``ground_conductivity_s_per_m``; ``mast_height_m`` is the height from
 the ground to the model's z = 0 plane (the reflector plane; for a dipole without
 ``height_wavelengths``, its centre). The model is still solved in free space; the table adds the
-ground-reflected ray (see :mod:`planner.synth.ground`). Refused: a ground under ``reflector =
+ground-reflected ray (see :mod:`planner.antenna.synth.ground`). Refused: a ground under ``reflector =
 "pec"`` or a dipole's ``height_wavelengths`` (an infinite plate hides it), a mast height without
 a ground, and a mast so low that a wire touches the ground.
 
@@ -72,8 +72,8 @@ import numpy as np
 from scipy.constants import c as SPEED_OF_LIGHT_M_S
 
 from planner.errors import UserError
-from planner.synth.geometry import MATERIALS, Port, Wire, WireModel
-from planner.synth.ground import GROUND_CHOICES, NOTE_KEY, check_clearance, ground_note, make_ground
+from planner.antenna.synth.geometry import MATERIALS, Port, Wire, WireModel
+from planner.antenna.synth.ground import GROUND_CHOICES, NOTE_KEY, check_clearance, ground_note, make_ground
 
 __all__ = [
     "Parameter",
@@ -355,7 +355,7 @@ def dipole(
 
     ``height_wavelengths`` None: free space (centre at the origin); a number: the centre that high
     above an infinite PEC ground plane z = 0. ``ground`` and ``mast_height_m``: a flat real ground
-    that far below the centre (free-space dipole only; see ``planner.synth.ground``).
+    that far below the centre (free-space dipole only; see ``planner.antenna.synth.ground``).
     """
     p = _validated("dipole", locals())
     lam = wavelength_m(p["frequency_hz"])

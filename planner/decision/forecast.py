@@ -2,7 +2,7 @@
 
 The pipeline, all of it vectorized over samples (loops run per pass or per candidate):
 
-1. :func:`compute_samples` predicts the passes once, builds one :class:`~planner.budget.LinkSetup`
+1. :func:`compute_samples` predicts the passes once, builds one :class:`~planner.link.budget.LinkSetup`
    per (candidate, satellite) and evaluates the budget over all that satellite's track samples in
    one call, one row a sample.  Each sample carries ``dt_s``, the time it stands for: the
    trapezoid-rule weights of its pass (half the gap to each neighbour), so the weights of a pass
@@ -41,7 +41,7 @@ from typing import Callable, Sequence
 import numpy as np
 import pandas as pd
 
-from planner.budget import downlink_setup, evaluate
+from planner.link.budget import downlink_setup, evaluate
 from planner.passes import joined_time_s
 from planner.scenario import CriteriaConfig
 

@@ -1,15 +1,15 @@
 """Pattern synthesis from wire geometry: a thin-wire method-of-moments solver.
 
 Upstream of the planner: it only ever feeds it pattern tables through
-``planner.patterns.PatternTable`` / ``write_pattern``; ``planner.budget`` never imports it.
+``planner.antenna.PatternTable`` / ``write_pattern``; ``planner.link.budget`` never imports it.
 
-Frame: x = east, y = north, z = up (as in ``planner.patterns``); azimuth is a compass bearing
+Frame: x = east, y = north, z = up (as in ``planner.antenna``); azimuth is a compass bearing
 from north toward east, elevation above the horizontal; time convention e^{jwt}; SI units
 (metres, hertz, ohms, volts, watts).
 
 API (``geometry.py`` and ``mom.py``; the names below are stable: extend, do not rename)
 -------------------------------------------------------------------------------------------
-``planner.synth.geometry``
+``planner.antenna.synth.geometry``
 
 * ``MATERIALS: dict[str, float | None]`` resistivity in ohm m; ``"pec"`` -> None (lossless),
   ``"copper"`` 1.68e-8, ``"aluminium"`` 2.65e-8, ``"copper-clad-steel"`` (copper's value: the
@@ -44,7 +44,7 @@ API (``geometry.py`` and ``mom.py``; the names below are stable: extend, do not 
   Wires whose nodes coincide within ``JOIN_TOLERANCE_M`` = 1e-6 m are joined; a wire end lying
   on another wire's edge splits that edge so they join too.
 
-``planner.synth.mom``
+``planner.antenna.synth.mom``
 
 * ``solve(model, *, quadrature_points=4) -> Solution`` (one LU solve, 1 V on each port in turn,
   the other ports shorted).
@@ -65,8 +65,8 @@ API (``geometry.py`` and ``mom.py``; the names below are stable: extend, do not 
   ``ohmic_loss_w(pv)`` (wire skin-effect loss), ``load_loss_w(pv)``, ``radiation_efficiency(pv)``
   = 1 - (ohmic + load loss) / input power, ``directivity_dbi(az, el, pv)``,
   ``gain_dbi(az, el, pv)``, ``gains_dbic(az, el, pv) -> (rhcp, lhcp)`` partial gains relative to
-  the input power (losses show), RHCP/LHCP as ``planner.patterns.circular_components``; gains
-  are floored at ``planner.patterns.GAIN_FLOOR_DBIC`` (-60 dBic: no field, e.g. below a PEC
+  the input power (losses show), RHCP/LHCP as ``planner.antenna.circular_components``; gains
+  are floored at ``planner.antenna.GAIN_FLOOR_DBIC`` (-60 dBic: no field, e.g. below a PEC
   ground); ``solver_summary()`` one line for pattern-table headers.
   Angles broadcast like numpy (e.g. ``az[None, :], el[:, None]`` for a grid).
 
@@ -76,7 +76,7 @@ part integrated analytically over the source segment (singularity extraction), t
 remainder by Gauss-Legendre; Harrington, Field Computation by Moment Methods (1968).
 """
 
-from planner.synth.geometry import (  # noqa: F401
+from planner.antenna.synth.geometry import (  # noqa: F401
     MATERIALS,
     Load,
     Port,
@@ -89,4 +89,4 @@ from planner.synth.geometry import (  # noqa: F401
     skin_depth_m,
     surface_resistance_ohm,
 )
-from planner.synth.mom import ETA0_OHM, Solution, impedance_matrix, solve  # noqa: F401,E402
+from planner.antenna.synth.mom import ETA0_OHM, Solution, impedance_matrix, solve  # noqa: F401,E402

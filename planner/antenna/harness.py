@@ -13,7 +13,7 @@ quarter wave (90 deg) longer. This module answers the questions of the person cu
 
 Phase error and the polarization it leaves
 ------------------------------------------
-Frame and sense as in :mod:`planner.patterns`: x east, y north, z up, time dependence e^{jwt};
+Frame and sense as in :mod:`planner.antenna`: x east, y north, z up, time dependence e^{jwt};
 a wave travelling up (+z) with E ~ x - j y is right-hand circular (IEEE Std 145). Element a
 radiates x at the zenith, element b (a turned +90 deg about the up axis) radiates y; the line
 makes b lag, so the zenith field is ``E = x + rho exp(-j (90 deg + d)) y`` with ``rho`` the
@@ -28,14 +28,14 @@ The circular components are the projections on the unit vectors (x - j y)/sqrt 2
 The polarization ellipse has semi-axes (|E_R| + |E_L|)/sqrt 2 and ||E_R| - |E_L||/sqrt 2
 (Stutzman, *Polarization in Electromagnetic Systems*), so the axial ratio is
 ``AR = (|E_R| + |E_L|) / ||E_R| - |E_L||`` (reported in dB, 20 log10, >= 0; capped at
-``planner.patterns.AXIAL_RATIO_CAP_DB`` for a linear state). Received by an ideal RHCP antenna,
+``planner.antenna.AXIAL_RATIO_CAP_DB`` for a linear state). Received by an ideal RHCP antenna,
 the wave keeps the fraction |E_R|^2 / (|E_R|^2 + |E_L|^2) of its power: the polarization loss
-against RHCP is ``-10 log10`` of that (clipped at ``planner.polarization.MAX_LOSS_DB``).
+against RHCP is ``-10 log10`` of that (clipped at ``planner.link.polarization.MAX_LOSS_DB``).
 
 This idealisation ignores the coupling between the elements and the fact that their driving
 impedances are not the line's impedance; :func:`harness_report` given the solver's 2x2 port
 impedance matrix (and optionally the solution, for the far field) solves the real network with
-:func:`planner.synth.feed.phasing_line` and reports the actual current ratio and zenith axial ratio.
+:func:`planner.antenna.synth.feed.phasing_line` and reports the actual current ratio and zenith axial ratio.
 """
 
 from __future__ import annotations
@@ -46,7 +46,7 @@ from typing import Any
 import numpy as np
 
 from planner.errors import UserError, positive_number as _positive
-from planner.feedline import (
+from planner.link.feedline import (
     SPEED_OF_LIGHT_M_S,
     line_input_impedance,
     mismatch_loss_db,
@@ -55,8 +55,8 @@ from planner.feedline import (
     vswr_from_impedance,
     wavelength_in_line_m,
 )
-from planner.patterns import AXIAL_RATIO_CAP_DB
-from planner.polarization import MAX_LOSS_DB, MIN_EFFICIENCY
+from planner.antenna import AXIAL_RATIO_CAP_DB
+from planner.link.polarization import MAX_LOSS_DB, MIN_EFFICIENCY
 
 __all__ = [
     "phase_error_deg",
@@ -210,7 +210,7 @@ def harness_report(
 
     ``impedance_matrix`` (the solver's 2x2 port impedance matrix of elements a and b) adds the
     real network: element a at the feed point, b through this line of impedance ``z0_ohm``
-    (:func:`planner.synth.feed.phasing_line`). ``solution`` (a solver solution, which provides the
+    (:func:`planner.antenna.synth.feed.phasing_line`). ``solution`` (a solver solution, which provides the
     matrix itself) adds the zenith axial ratio of the real far field.
     """
     frequency_hz = _positive("frequency_hz", frequency_hz)
@@ -272,7 +272,7 @@ def harness_report(
     if solution is not None and impedance_matrix is None:
         impedance_matrix = solution.port_impedance_matrix()
     if impedance_matrix is not None:
-        from planner.synth.feed import phasing_line  # the solver side is optional here
+        from planner.antenna.synth.feed import phasing_line  # the solver side is optional here
 
         result = phasing_line(
             impedance_matrix,

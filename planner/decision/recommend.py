@@ -19,7 +19,7 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from planner.forecast import ELEVATION_BANDS_DEG, Forecast, band_table, schedule, summarize_passes
+from planner.decision.forecast import ELEVATION_BANDS_DEG, Forecast, band_table, schedule, summarize_passes
 
 # A band or satellite difference smaller than this (minutes per week) is not worth a sentence.
 _NOTABLE_MINUTES = 0.5

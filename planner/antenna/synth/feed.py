@@ -8,7 +8,7 @@ currents (so the far field of the fed antenna is ``solution.far_field(..., port_
 
 Sense
 -----
-Frame x east, y north, z up, time dependence e^{jwt} (as in :mod:`planner.patterns`). Element b
+Frame x east, y north, z up, time dependence e^{jwt} (as in :mod:`planner.antenna`). Element b
 is element a turned +90 deg about the up axis (east -> north: the right-hand sense about +z), with
 its port oriented the same way. Then a current ratio ``I_b / I_a = -j`` (b lags by 90 deg) makes
 the zenith field ~ x - j y, which is RHCP for a wave going up (IEEE Std 145); ``+j`` is LHCP.
@@ -40,8 +40,8 @@ With ``V_a = V_in = 1`` and ``V = Z I``, the port currents solve the 2x2 linear 
     cosh(gl) (Z_ba I_a + Z_bb I_b) + Z0 sinh(gl) I_b = 1
 
 The feed impedance is ``1 / (I_a + I_in)``, with the line's input current computed from the
-transformed active impedance of b (``planner.feedline.line_input_impedance``, Pozar's formula).
-The VSWR against 50 ohm and the mismatch loss come from ``planner.feedline``.
+transformed active impedance of b (``planner.link.feedline.line_input_impedance``, Pozar's formula).
+The VSWR against 50 ohm and the mismatch loss come from ``planner.link.feedline``.
 """
 
 from __future__ import annotations
@@ -53,7 +53,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from planner.errors import UserError, positive_number
-from planner.feedline import (
+from planner.link.feedline import (
     line_gamma_length,
     line_input_impedance,
     mismatch_loss_db,
@@ -200,7 +200,7 @@ def phasing_line(
     currents = np.linalg.solve(system, np.array([1.0, 1.0], dtype=complex))
     voltages = z @ currents
     # Current into the line at the feed point, from b's active impedance seen through the line
-    # (Pozar's input-impedance formula, planner.feedline).
+    # (Pozar's input-impedance formula, planner.link.feedline).
     z_b_active = complex(voltages[1] / currents[1]) if currents[1] != 0 else complex("inf")
     z_line_in = line_input_impedance(z0, z_b_active, length, frequency_hz, vf, loss_db)
     i_line = 1.0 / z_line_in

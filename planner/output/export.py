@@ -171,7 +171,7 @@ def write_figures(folder, study, forecast, recommendation, *, rules=None) -> lis
     """Every report figure as PNG and SVG in ``folder``; returns the paths written.
 
     ``rules`` (planner.fileio.WriteRules) decide which files may be written; by default any."""
-    from planner import plots
+    from planner.output import plots
     from planner.fileio import REPLACE_ANY, ensure_folder
 
     rules = rules or REPLACE_ANY
@@ -237,8 +237,8 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
     from pathlib import Path
 
     from planner.fileio import REPLACE_ANY, ensure_folder, write_atomically
-    from planner.forecast import band_table, hour_table
-    from planner.safety import STATION_CAUTIONS
+    from planner.decision.forecast import band_table, hour_table
+    from planner.link.safety import STATION_CAUTIONS
 
     rules = rules or REPLACE_ANY
     folder = ensure_folder(folder, "report folder")

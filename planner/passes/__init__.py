@@ -57,8 +57,8 @@ from sgp4.api import SGP4_ERRORS, WGS72, WGS72OLD, WGS84, Satrec, SatrecArray, j
 
 from planner.errors import warn
 from planner.limits import PROPAGATION_SECONDS_PER_SAMPLE, RUN_TIME_LIMIT_S, check_duration
-from planner.orbits import ElementSet
-from planner.station import Station
+from planner.elements import ElementSet
+from planner.passes.station import Station
 
 SECONDS_PER_DAY = 86400.0
 # Clearance (deg) beyond which a sampled extreme cannot cross zero between two

@@ -16,11 +16,11 @@ Sky and ground
     median), plus the cosmic microwave background 2.725 K (Fixsen 2009, ApJ 707, 916), which
     keeps the sky from going to 0 K where the galactic line is extrapolated. Seen from the
     ground through the clear atmosphere, toward elevation E (ITU-R P.372-16 eq. 10,
-    brightness temperature of the clear atmosphere; see planner.atmosphere):
+    brightness temperature of the clear atmosphere; see planner.link.atmosphere):
 
         T_sky(E) = T_ext 10^(-A(E)/10) + T_mr (1 - 10^(-A(E)/10))
 
-    with A(E) the P.676 gaseous loss from planner.atmosphere at that elevation and the
+    with A(E) the P.676 gaseous loss from planner.link.atmosphere at that elevation and the
     station's height, and T_mr = 37.34 + 0.81 T_s (P.372-16 eq. 11) the mean radiating
     temperature. At 436 MHz the air emits about 1.3 K at the zenith, 13 K at 5 deg and 40 K
     at the horizon, and absorbs a little of the 42 K beyond (net +1.1 K at the zenith, +11 K
@@ -71,7 +71,7 @@ import numpy as np
 from scipy.constants import k as BOLTZMANN_J_K
 
 from planner.errors import UserError, warn
-from planner.feedline import line_noise_temperature_k
+from planner.link.feedline import line_noise_temperature_k
 
 T0_K = 290.0
 """Standard reference temperature for noise figure (IEEE)."""
@@ -192,7 +192,7 @@ def sky_brightness_k(
     background_k = background_sky_temperature_k(frequency_hz)
     el = np.asarray(elevation_deg, dtype=float)
     if atmospheric_emission:
-        from planner.atmosphere import clear_sky_brightness_k
+        from planner.link.atmosphere import clear_sky_brightness_k
 
         sky_k = clear_sky_brightness_k(frequency_hz, np.maximum(el, 0.0), background_k=background_k, altitude_m=altitude_m)
     else:
@@ -279,7 +279,7 @@ def antenna_noise_temperature_k(
     sky_k = float(np.sum(weight[~below] * brightness[~below]) / total_weight)
     atmosphere_k = 0.0
     if atmospheric_emission:
-        from planner.atmosphere import clear_sky_brightness_k
+        from planner.link.atmosphere import clear_sky_brightness_k
 
         # The emission alone, T_mr (1 - 10^(-A/10)): the clear sky with nothing beyond it.
         emission_band_k = np.where(

@@ -17,9 +17,9 @@ import pandas as pd
 from scipy.constants import c as SPEED_OF_LIGHT_M_S
 
 from planner.errors import UserError
-from planner.forecast import forecast
+from planner.decision.forecast import forecast
 from planner.limits import SWEEP_POINTS_LIMIT, SWEEP_SECONDS_PER_POINT, format_seconds
-from planner.recommend import score_candidates
+from planner.decision.recommend import score_candidates
 
 SPACING_PARAMETER = "spacing_wavelengths"
 MAX_SPACINGS = SWEEP_POINTS_LIMIT  # each spacing is a full solve and forecast; why 60: planner.limits
@@ -95,7 +95,7 @@ def _builder_and_parameters(pattern) -> tuple[str, dict[str, str]]:
 
 def rebuild_at_spacing(pattern, spacing_wavelengths: float):
     """The candidate's own model rebuilt with another reflector spacing."""
-    from planner.patterns import rebuild_pattern
+    from planner.antenna import rebuild_pattern
 
     builder, parameters = _builder_and_parameters(pattern)
     parameters = dict(parameters, **{SPACING_PARAMETER: f"{spacing_wavelengths:.6g}"})

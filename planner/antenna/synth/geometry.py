@@ -3,7 +3,7 @@ segmenter that turns polylines into straight segments and triangle basis functio
 
 Frame and units
 ---------------
-x = east, y = north, z = up (as ``planner.patterns``), metres, hertz, ohms. Time dependence
+x = east, y = north, z = up (as ``planner.antenna``), metres, hertz, ohms. Time dependence
 e^{jwt}.
 
 Materials and wire loss

@@ -45,14 +45,14 @@ from pydantic.fields import FieldInfo
 from pydantic_core import PydanticCustomError, core_schema
 
 from planner.errors import UserError
-from planner.orbits import (
+from planner.elements import (
     LATEST_YEAR,
     MAX_OMM_CATALOG_NUMBER,
     SUPPORTED_YEARS,
     control_character,
     in_supported_years,
 )
-from planner.patterns import FREQUENCY_MAX_MHZ, FREQUENCY_MIN_MHZ
+from planner.antenna import FREQUENCY_MAX_MHZ, FREQUENCY_MIN_MHZ
 from planner.limits import (
     NETWORK_STATIONS_LIMIT,
     SCENARIO_FILE_LIMIT_BYTES,
@@ -83,7 +83,7 @@ __all__ = [
 SECONDS_PER_DAY = 86400.0
 _STRICT = ConfigDict(extra="forbid")
 
-# The window lies in the years planner.orbits allows for every time (1957: the first
+# The window lies in the years planner.elements allows for every time (1957: the first
 # artificial satellite; 2100: beyond any element set's useful life).
 _ALLOWED_START = (
     "a TOML date-time with a time zone, such as 2027-01-04T00:00:00Z, or the same text "
@@ -459,7 +459,7 @@ class SatelliteConfig(RadioConfig):
 
     name: Name
     elements: Path = Field(description=_ALLOWED_ELEMENTS)
-    # Alpha-5 in a TLE reaches 339999; an OMM may carry up to 9 digits (see planner.orbits).
+    # Alpha-5 in a TLE reaches 339999; an OMM may carry up to 9 digits (see planner.elements).
     norad_id: Annotated[int, Strict(), _Range(1, MAX_OMM_CATALOG_NUMBER)] | None = None
 
     @field_validator("elements", mode="plain")
@@ -483,7 +483,7 @@ class FeedlineRun(BaseModel):
 
     model_config = _STRICT
 
-    cable: Name  # a catalog type (see planner.feedline.CABLES) or a [[cable]] of the scenario
+    cable: Name  # a catalog type (see planner.link.feedline.CABLES) or a [[cable]] of the scenario
     length_m: Annotated[Real, _Range(0, 1000, lo_open=True)]
 
 

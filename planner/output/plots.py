@@ -76,7 +76,7 @@ are shaded light grey on line and box plots."""
 
 BELOW_THRESHOLD_SHADE = "#e6e6e6"
 
-from planner.forecast import ELEVATION_BANDS_DEG  # noqa: E402  (the forecast's bands, one definition)
+from planner.decision.forecast import ELEVATION_BANDS_DEG  # noqa: E402  (the forecast's bands, one definition)
 
 FIGSIZE_IN = (8.0, 5.0)
 PNG_DPI = 150
@@ -195,7 +195,7 @@ def sky_chart(
     ``pass_number`` (one track per pass; without it the samples form one track) with
     ``time_s`` for the order. Track segments at or above ``min_margin_db`` are drawn thick,
     those below it thin, so the usable part shows without the colour. ``horizon_mask`` (any
-    object with ``min_elevation_at(azimuth_deg)``, e.g. planner.station.HorizonMask) shades the
+    object with ``min_elevation_at(azimuth_deg)``, e.g. planner.passes.station.HorizonMask) shades the
     blocked sky. An open circle marks each AOS (the direction of travel); ``label_passes`` puts
     the pass number at each track's highest point (default: when there are <= 12 tracks).
     """
@@ -319,7 +319,7 @@ def elevation_cuts(
     """RHCP (left) and LHCP (right) partial gain in dBic against elevation for every pattern, cut
     at ``azimuth_deg`` (ignored by azimuth-symmetric tables).
 
-    ``patterns`` maps a candidate (or file) name to a planner.patterns.PatternTable. The gain axis
+    ``patterns`` maps a candidate (or file) name to a planner.antenna.PatternTable. The gain axis
     spans ``dynamic_range_db`` below the highest gain; deeper values (the -60 dBic floor) sit on
     the bottom edge. The elevation axis covers -90..90 deg with the lower hemisphere shaded (it
     sets the ground noise picked up); ``lower_hemisphere=None`` (default) shows it only when some
@@ -449,7 +449,7 @@ def usable_minutes_bars(
 ) -> Figure:
     """Grouped bars: usable minutes per day (``usable_minutes_per_day``) for each satellite
     (groups, in order of appearance), one bar and colour per candidate. ``weekly`` is
-    planner.forecast.weekly_table output. Bars carry their value when there are at most 32 of
+    planner.decision.forecast.weekly_table output. Bars carry their value when there are at most 32 of
     them (``annotate`` forces it either way)."""
     fig = _new_figure()
     ax = fig.add_subplot()

@@ -1,4 +1,4 @@
-"""Pattern tables from a solved wire model: the bridge from the solver to ``planner.patterns``.
+"""Pattern tables from a solved wire model: the bridge from the solver to ``planner.antenna``.
 
 :func:`build_pattern_table` samples the solved, fed antenna's partial RHCP/LHCP gains on the
 table grid (elevation -90..90, azimuth 0..350 by default) and writes the provenance into the
@@ -6,7 +6,7 @@ header. :func:`build_template_table` does the whole chain from a template name a
 (validate, build the model, solve, feed, tabulate); it is what ``planner pattern build TEMPLATE``
 calls. A table's header names its template (``builder``) and its ``parameters``, so the header alone
 is enough to rebuild it with one parameter changed (the reflector sweep,
-``planner.patterns.rebuild_pattern``).
+``planner.antenna.rebuild_pattern``).
 
 Gains
 -----
@@ -17,7 +17,7 @@ the feed impedance to 50 ohm is not: it is in ``feed_vswr``, which the link budg
 ``radiation_efficiency`` in the header is the product of the two efficiencies (informational).
 
 Below the horizon: over an infinite PEC plane there is no field (the table holds the floor,
-``planner.patterns.GAIN_FLOOR_DBIC``); over a wire reflector or in free space it is the computed
+``planner.antenna.GAIN_FLOOR_DBIC``); over a wire reflector or in free space it is the computed
 field, leakage around and through the screen included.
 """
 
@@ -29,13 +29,13 @@ from typing import Any, Mapping
 import numpy as np
 
 from planner.errors import UserError
-from planner.feedline import CABLES, quarter_wave_length_m
-from planner.patterns import format_number, GAIN_FLOOR_DBIC, PatternTable, check_frequency, pattern_grid
-from planner.synth import design, mom
-from planner.synth.design import MATCHES, SIZE_PARAMETERS
-from planner.synth.feed import FeedResult, ideal_quadrature, phasing_line, single_port
-from planner.synth.geometry import WireModel
-from planner.synth.templates import TEMPLATES, Parameter, check_parameters
+from planner.link.feedline import CABLES, quarter_wave_length_m
+from planner.antenna import format_number, GAIN_FLOOR_DBIC, PatternTable, check_frequency, pattern_grid
+from planner.antenna.synth import design, mom
+from planner.antenna.synth.design import MATCHES, SIZE_PARAMETERS
+from planner.antenna.synth.feed import FeedResult, ideal_quadrature, phasing_line, single_port
+from planner.antenna.synth.geometry import WireModel
+from planner.antenna.synth.templates import TEMPLATES, Parameter, check_parameters
 
 __all__ = [
     "MODEL_DESCRIPTION",
@@ -59,7 +59,7 @@ HARNESS_OPTIONS = ("phasing_cable", "match")
 """Options of ``feed = harness`` only."""
 
 FEED_PARAMETERS: dict[str, Parameter] = {
-    "feed": Parameter(str, "quadrature", FEEDS, "quadrature (ideal equal currents 90 deg apart), line (b through a given phasing line) or harness (phasing line and matching section designed, see planner.synth.design)"),
+    "feed": Parameter(str, "quadrature", FEEDS, "quadrature (ideal equal currents 90 deg apart), line (b through a given phasing line) or harness (phasing line and matching section designed, see planner.antenna.synth.design)"),
     "sense": Parameter(str, "rhcp", ("rhcp", "lhcp"), "sense of the ideal quadrature feed, or the sense the harness is designed for"),
     "line_length_m": Parameter(float, None, (1e-4, 10.0), "m; feed=line: phasing-line length (default: a quarter wave at the velocity factor)"),
     "line_z0_ohm": Parameter(float, 50.0, (10.0, 300.0), "ohm; feed=line: phasing-line impedance"),
@@ -73,7 +73,7 @@ FEED_PARAMETERS: dict[str, Parameter] = {
 TRIMS = ("none", "resonance")
 
 TRIM_PARAMETERS: dict[str, Parameter] = {
-    "trim": Parameter(str, None, TRIMS, "none (default: the size as given) or resonance (the size parameter adjusted at the design frequency, see planner.synth.design)"),
+    "trim": Parameter(str, None, TRIMS, "none (default: the size as given) or resonance (the size parameter adjusted at the design frequency, see planner.antenna.synth.design)"),
     "target_reactance_ohm": Parameter(float, None, (-1000.0, 1000.0), "ohm; trim=resonance: element reactance to trim to (default 0)"),
     "target_resistance_ohm": Parameter(float, None, (1.0, 2000.0), "ohm; trim=resonance: trim to the impedance closest to this resistance + j target_reactance_ohm instead"),
 }
@@ -126,13 +126,13 @@ def build_pattern_table(
 
     ``parameters`` (name -> value) go into the ``parameters`` header line as ``k=v; ...`` (None
     values left out); ``command`` is written verbatim as ``generated_by``; ``builder`` (a function
-    under ``planner.synth`` taking ``parameters`` as keywords) lets the table be rebuilt.
+    under ``planner.antenna.synth`` taking ``parameters`` as keywords) lets the table be rebuilt.
     """
     frequency_hz = check_frequency(frequency_hz)
     if abs(frequency_hz - model.frequency_hz) > 1e-9 * model.frequency_hz:
         raise ValueError(f"frequency_hz {frequency_hz:g} differs from the model's {model.frequency_hz:g}")
     elevation, azimuth = pattern_grid(elevation_step_deg, azimuth_step_deg)
-    from planner.synth import ground as real_ground
+    from planner.antenna.synth import ground as real_ground
 
     voltages = np.asarray(feed.port_voltages, dtype=complex)
     ground = real_ground.ground_from_notes(getattr(model, "notes", None))
@@ -247,7 +247,7 @@ def build_pattern_table(
 
 
 def _check_options(template: str, specs: Mapping[str, Parameter], values: Mapping[str, Any]) -> dict[str, Any]:
-    from planner.synth.templates import _coerce  # same validation and messages as the templates
+    from planner.antenna.synth.templates import _coerce  # same validation and messages as the templates
 
     return {name: (_coerce(template, name, spec, values[name]) if name in values else spec.default) for name, spec in specs.items()}
 

@@ -43,7 +43,7 @@ F_theta sqrt(1 - |Gamma_v(-el)|^2) and F_phi sqrt(1 - |Gamma_h(-el)|^2). By reci
 how strongly the ground's thermal emission couples into the antenna (Kirchhoff: emissivity
 1 - |Gamma|^2), and the reflected part appears in the upper hemisphere, where it looks at the
 sky. An antenna-temperature integral that weights the lower hemisphere with the ground
-temperature and the upper with the sky (``planner.noise``) then counts reflected sky and ground
+temperature and the upper with the sky (``planner.link.noise``) then counts reflected sky and ground
 emission correctly. Power is conserved up to the interference term between direct and
 reflected rays, which integrates to the change of the input resistance the ground would cause:
 the coupling neglected here (a few per cent for a mast of a wavelength or more; measured in
@@ -323,10 +323,10 @@ def field_over_ground(far_field: FarField, azimuth_deg, elevation_deg, ground: G
 
 def gains_over_ground_dbic(solution, azimuth_deg, elevation_deg, port_voltages, ground: Ground) -> tuple[np.ndarray, np.ndarray]:
     """Partial gains (RHCP, LHCP) in dBic over ``ground``, relative to the free-space input power
-    of ``solution`` (a free-space ``planner.synth.mom.Solution``), floored at GAIN_FLOOR_DBIC."""
+    of ``solution`` (a free-space ``planner.antenna.synth.mom.Solution``), floored at GAIN_FLOOR_DBIC."""
     if solution.segmentation.ground != "free-space":
         raise ValueError("gains over real ground need the free-space solution of the model")
-    from planner.synth.mom import partial_gains_dbic
+    from planner.antenna.synth.mom import partial_gains_dbic
 
     az, el = np.broadcast_arrays(np.asarray(azimuth_deg, dtype=float), np.asarray(elevation_deg, dtype=float))
     e_theta, e_phi = field_over_ground(lambda a, e: solution.far_field(a, e, port_voltages), az, el, ground)

@@ -128,7 +128,7 @@ def _parse_utc(option: str, text: str) -> datetime:
     Checked before any arithmetic: near year 1 or 9999 the conversion to UTC, the element age
     and the time scales overflow.
     """
-    from planner.orbits import SUPPORTED_YEARS, in_supported_years
+    from planner.elements import SUPPORTED_YEARS, in_supported_years
 
     allowed = f"allowed an ISO 8601 time in the years {SUPPORTED_YEARS}, e.g. 2027-01-04T00:00:00Z"
     try:
@@ -144,7 +144,7 @@ def _parse_utc(option: str, text: str) -> datetime:
 
 def _satellite_choice(wanted: str) -> dict:
     """``--satellite``: ASCII digits are a catalog number (at most 9 of them), anything else a name."""
-    from planner.orbits import MAX_OMM_CATALOG_NUMBER
+    from planner.elements import MAX_OMM_CATALOG_NUMBER
 
     digits = wanted.strip()
     if not (digits.isascii() and digits.isdigit()):
@@ -157,10 +157,10 @@ def _satellite_choice(wanted: str) -> dict:
 
 def _adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step_s, satellites, allow_stale):
     """A study built from options alone: one element file, one site, a flat mask."""
-    from planner.orbits import check_element_age, read_elements, select_element_set
+    from planner.elements import check_element_age, read_elements, select_element_set
     from planner.passes import Target
     from planner.scenario import StationConfig, WindowConfig, validated
-    from planner.station import Station
+    from planner.passes.station import Station
     from planner.study import Study
 
     if lat is None or lon is None:
@@ -216,7 +216,7 @@ def _station_slug(name: str) -> str:
 
 
 def _print_passes_table(study, passes) -> None:
-    from planner.export import iso_utc
+    from planner.output.export import iso_utc
 
     station = study.station
     title = (
@@ -265,7 +265,7 @@ def passes(
     force: bool = FORCE,
 ) -> None:
     """Predict every pass over the station, with AOS, TCA, LOS and sky track."""
-    from planner.export import PASS_COLUMNS, pass_row, to_csv, to_json
+    from planner.output.export import PASS_COLUMNS, pass_row, to_csv, to_json
 
     _check_format(format)
     if format == "table" and output is not None:
@@ -303,8 +303,8 @@ def passes(
 
 def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, range_km, azimuth_deg):
     """(azimuth_deg, elevation_deg, range_km, time label, the pass or None) for a budget."""
-    from planner.budget import ORBIT_RADIUS_MARGIN_KM, orbit_radii_km, slant_range_km, slant_range_limits_km
-    from planner.export import iso_utc
+    from planner.link.budget import ORBIT_RADIUS_MARGIN_KM, orbit_radii_km, slant_range_km, slant_range_limits_km
+    from planner.output.export import iso_utc
     from planner.passes import Observer, predict_passes
 
     target = next(t for t in study.targets if t.display_name == study.satellite_config(satellite_name).name)
@@ -320,7 +320,7 @@ def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, 
         look = observer.look(target.element_set.satrec, np.array([0.0]))
         return look.azimuth_deg[0], look.elevation_deg[0], look.range_km[0], f"TCA of pass {pass_number}, {iso_utc(chosen_pass.tca_utc)}", chosen_pass
     if at is not None:
-        from planner.orbits import check_element_age
+        from planner.elements import check_element_age
 
         moment = _parse_utc("--at", at)
         check_element_age([target.element_set], moment, moment, allow_stale=study.allow_stale)
@@ -362,8 +362,8 @@ def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, 
 
 def _print_exposure(study, out) -> None:
     """RF exposure estimate for the station transmitter at each uplink frequency."""
-    from planner.budget import uplink_setup
-    from planner.safety import CAUTION, exposure_table, min_distance_m
+    from planner.link.budget import uplink_setup
+    from planner.link.safety import CAUTION, exposure_table, min_distance_m
 
     if study.scenario.transmitter is None:
         return
@@ -399,8 +399,8 @@ def budget(
     force: bool = FORCE,
 ) -> None:
     """Print the link budget as a ladder of terms, each one recomputable by hand."""
-    from planner.budget import LADDER, downlink_setup, evaluate, ladder_values, pass_budget, uplink_setup
-    from planner.export import to_json
+    from planner.link.budget import LADDER, downlink_setup, evaluate, ladder_values, pass_budget, uplink_setup
+    from planner.output.export import to_json
 
     if format not in ("table", "json"):
         raise UserError(f"--format: {format!r} is not a format here; allowed: table, json")
@@ -480,7 +480,7 @@ def _forecast_with_progress(study, candidates, quiet: bool, *, keep_samples: boo
     """
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 
-    from planner.forecast import forecast
+    from planner.decision.forecast import forecast
 
     if quiet:
         return forecast(study, candidates, keep_samples=keep_samples)
@@ -519,7 +519,7 @@ def week(
     force: bool = FORCE,
 ) -> None:
     """Weekly forecast per candidate and satellite: passes, usable passes, minutes, data volume."""
-    from planner.export import WEEK_COLUMNS, to_csv, to_json, week_rows
+    from planner.output.export import WEEK_COLUMNS, to_csv, to_json, week_rows
 
     _check_format(format)
     if format == "table" and output is not None:
@@ -541,7 +541,7 @@ def week(
 
 
 def _print_week(study, result) -> None:
-    from planner.forecast import band_table
+    from planner.decision.forecast import band_table
 
     console = _stdout()
     table = Table(title=f"{result.days:g}-day forecast at {study.station.name} (usable: margin >= "
@@ -581,7 +581,7 @@ def compare(
     force: bool = FORCE,
 ) -> None:
     """Compare the candidate set-ups and recommend one, with the reasons and a robustness check."""
-    from planner.export import to_json
+    from planner.output.export import to_json
 
     if format not in ("table", "json"):
         raise UserError(f"--format: {format!r} is not a format here; allowed: table, json")
@@ -611,7 +611,7 @@ def compare(
 
 def _check_compare_outputs(rules, study, *, calendar, figures, report) -> None:
     """Refuse, before the forecast, every file of compare's outputs the rules forbid."""
-    from planner.export import figure_file_names, report_file_names
+    from planner.output.export import figure_file_names, report_file_names
 
     satellites = [t.display_name for t in study.targets]
     _check_outputs(rules, {"--calendar": calendar})
@@ -620,9 +620,9 @@ def _check_compare_outputs(rules, study, *, calendar, figures, report) -> None:
 
 
 def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, report):
-    from planner.export import calendar_ics, write_figures, write_report
+    from planner.output.export import calendar_ics, write_figures, write_report
     from planner.fileio import write_atomically
-    from planner.recommend import recommend
+    from planner.decision.recommend import recommend
 
     result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet)
     decision = recommend(result, study)
@@ -665,7 +665,7 @@ def rank(
     force: bool = FORCE,
 ) -> None:
     """Rank every object of the scenario (a whole catalog) by usable contact time for one set-up."""
-    from planner.export import to_csv, to_json
+    from planner.output.export import to_csv, to_json
 
     _check_format(format)
     if top < 1:
@@ -724,9 +724,9 @@ def sweep(
     """Weekly usable minutes and data volume against reflector spacing; names the best spacing."""
     from rich.progress import BarColumn, Progress, TextColumn
 
-    from planner import plots
-    from planner.export import to_csv, to_json
-    from planner.sweep import parse_spacing_range, sweep_reflector
+    from planner.output import plots
+    from planner.output.export import to_csv, to_json
+    from planner.decision.sweep import parse_spacing_range, sweep_reflector
 
     _check_format(format)
     study = _load_study(scenario, allow_stale, station)
@@ -796,9 +796,9 @@ def pattern_build(
     force: bool = FORCE,
 ) -> None:
     """Generate pattern tables from the project's own antenna models."""
-    from planner.patterns import SHIPPED_PATTERNS, build_pattern, build_shipped_patterns, write_pattern
-    from planner.patterns import TEMPLATES as ANALYTIC
-    from planner.synth.templates import TEMPLATES as WIRE
+    from planner.antenna import SHIPPED_PATTERNS, build_pattern, build_shipped_patterns, write_pattern
+    from planner.antenna import TEMPLATES as ANALYTIC
+    from planner.antenna.synth.templates import TEMPLATES as WIRE
 
     rules = _write_rules(force)
     if template is None:
@@ -813,7 +813,7 @@ def pattern_build(
         raise UserError(f"pattern build: template {template!r} is unknown; allowed: {', '.join([*ANALYTIC, *WIRE])}")
     if list_parameters:
         if template in WIRE:
-            from planner.synth.tables import template_options
+            from planner.antenna.synth.tables import template_options
 
             specs = dict(WIRE[template][1], **template_options(template))
             for name, spec in specs.items():
@@ -833,7 +833,7 @@ def pattern_build(
     if frequency_mhz is not None:
         values["frequency_hz"] = frequency_mhz * 1e6
     if template in WIRE:
-        from planner.synth.tables import build_template_table
+        from planner.antenna.synth.tables import build_template_table
 
         command = "planner pattern build " + " ".join([template, *[f"{k}={v}" for k, v in values.items()]])
         table = build_template_table(template, values, command=command)
@@ -860,8 +860,8 @@ def harness(
     cut_error_mm: float = typer.Option(5.0, "--cut-error-mm", help="With --pattern: the cut error tried, mm (each part is cut this much short, exact and long)."),
 ) -> None:
     """Phasing-harness arithmetic: quarter-wave length, implied velocity factor, and what a cutting error costs."""
-    from planner.export import to_json
-    from planner.harness import HARNESS_UNITS, harness_report
+    from planner.output.export import to_json
+    from planner.antenna.harness import HARNESS_UNITS, harness_report
 
     if format not in ("table", "json"):
         raise UserError(f"--format: {format!r} is not a format here; allowed: table, json")
@@ -902,9 +902,9 @@ def harness(
 
 def _harness_sensitivity(pattern: Path, cut_error_mm: float, format: str) -> None:
     """``planner harness --pattern FILE``: the table's harness rebuilt and cut wrong."""
-    from planner.export import to_json
-    from planner.patterns import load_pattern
-    from planner.synth.design import cut_sensitivity, harness_from_header
+    from planner.output.export import to_json
+    from planner.antenna import load_pattern
+    from planner.antenna.synth.design import cut_sensitivity, harness_from_header
 
     if not (np.isfinite(cut_error_mm) and 0.0 < cut_error_mm <= 50.0):
         raise UserError(f"--cut-error-mm: {cut_error_mm:g} is out of range; allowed more than 0 up to 50")
@@ -940,8 +940,8 @@ def pattern_show(
     force: bool = FORCE,
 ) -> None:
     """Elevation cut, axial ratio against elevation, and the feed data a pattern table carries."""
-    from planner import plots
-    from planner.patterns import load_pattern
+    from planner.output import plots
+    from planner.antenna import load_pattern
 
     if not 0.5 <= step_deg <= 90:
         raise UserError(f"--step-deg: {step_deg:g} is out of range; allowed 0.5 to 90")

@@ -16,7 +16,7 @@ M = 1 - |Gamma|^2 is the feed mismatch (from the scenario's ``feed_vswr`` or the
 header's; 1 when neither gives one, and the ladder says so). A lossless mismatch passes M of
 the carrier and M of the antenna noise alike (Pozar, noise of a mismatched source), so
 C/N0 = M C / k (M T_A + T_chain): the mismatch is charged once, as a noiseless stage of
-gain M in the Friis cascade (planner.noise.receive_chain), which refers everything after it
+gain M in the Friis cascade (planner.link.noise.receive_chain), which refers everything after it
 to the antenna terminals divided by M. ``mismatch_loss_db`` = -10 log10 M is shown in the
 ladder but not subtracted from C (that would charge it twice against the signal and not
 at all against the antenna noise). T_chain is, in signal order and by Friis: the losses
@@ -24,7 +24,7 @@ between the antenna and the LNA (``pre_lna_*``: jumper cables, connectors, a swi
 bias-tee, as a line at the feedline temperature), the LNA, the main feedline and its
 connectors, and the receiver; with the LNA at the receiver end (or none) the pre-LNA
 losses simply join the run before it. T_A is the antenna temperature (sky with the clear
-atmosphere's own emission, ground, man-made noise; planner.noise).
+atmosphere's own emission, ground, man-made noise; planner.link.noise).
 
 G_rx is the antenna's total gain toward the satellite (RHCP + LHCP partial gains,
 dBic each); L_pol is Stutzman's polarization mismatch between the satellite's wave and
@@ -47,12 +47,12 @@ import numpy as np
 import pandas as pd
 from scipy.constants import Boltzmann, c as SPEED_OF_LIGHT_M_S
 
-from planner.atmosphere import gaseous_loss_db
+from planner.link.atmosphere import gaseous_loss_db
 from planner.errors import UserError, warn
-from planner.feedline import cable_loss_db, mismatch_loss_db
-from planner.modem import required_ebn0_db
-from planner.noise import antenna_noise_temperature_k, receive_chain
-from planner.polarization import WavePolarization, polarization_loss_db
+from planner.link.feedline import cable_loss_db, mismatch_loss_db
+from planner.link.modem import required_ebn0_db
+from planner.link.noise import antenna_noise_temperature_k, receive_chain
+from planner.link.polarization import WavePolarization, polarization_loss_db
 
 BOLTZMANN_DBW_PER_K_HZ = 10.0 * log10(Boltzmann)
 EARTH_RADIUS_KM = 6378.137

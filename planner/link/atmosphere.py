@@ -42,7 +42,7 @@ Emission (the sky brightness of the clear atmosphere)
         T_sky = T_ext 10^(-A/10) + T_mr (1 - 10^(-A/10))
 
     with T_ext the brightness beyond the atmosphere (galactic + cosmic background, see
-    planner.noise) and T_mr the mean radiating temperature of the path. For T_mr this
+    planner.link.noise) and T_mr the mean radiating temperature of the path. For T_mr this
     module uses P.372-16 eq. 11, T_mr = 37.34 + 0.81 T_s (K), with T_s the P.835 reference
     temperature at the station height (288.15 K at sea level gives 270.7 K). The form was
     checked against a public implementation of P.372-16 (to be checked against the

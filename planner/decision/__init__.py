@@ -1,0 +1,1 @@
+"""From budgets to a decision: the forecast, the recommendation and the reflector sweep."""

@@ -1,0 +1,1 @@
+"""The link: budget, noise, feedline, atmosphere, polarization, modem and RF safety."""

@@ -1,0 +1,1 @@
+"""What the program writes: CSV/JSON tables, the calendar, figures and the report folder."""
