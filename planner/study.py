@@ -1,8 +1,15 @@
-"""A scenario made ready to compute: station, targets with their element sets, window.
+"""A scenario made ready to compute: station, targets, candidates and window, resolved once.
 
-This is the one place that turns validated configuration into the objects the
-computation modules take, so the command line, the notebook and the tests build
-the same thing the same way.
+:meth:`Study.from_scenario` is the one place that turns validated configuration into the
+objects the computation takes: it reads the element files, loads every candidate's pattern
+table and resolves its cables up front, so a mistake in any of them stops the run before any
+computation. The study is a frozen value: nothing writes into it afterwards. A variant (other
+targets, another station, a candidate with another pattern) is a new study made with
+:meth:`Study.with_targets`, :meth:`Study.at_station` or :meth:`Study.with_candidate`.
+
+The link budget, the forecast, the recommendation and the sweep take the plain objects a study
+holds (satellite configuration, candidate, receiver, station); names are resolved here, at the
+edge, by :meth:`Study.satellite_config` and :meth:`Study.candidate`.
 """
 
 from __future__ import annotations
@@ -10,12 +17,22 @@ from __future__ import annotations
 from dataclasses import dataclass, field, replace
 from datetime import datetime
 from pathlib import Path
+from types import MappingProxyType
+from typing import Mapping
 
-from planner.errors import UserError
 from planner.elements import ElementSet, check_element_age, read_elements, select_element_set
+from planner.errors import UserError
 from planner.passes import Pass, Target, predict_passes
-from planner.scenario import CandidateConfig, FeedlineRun, SatelliteConfig, Scenario, StationConfig
 from planner.passes.station import Station
+from planner.scenario import (
+    CandidateConfig,
+    CriteriaConfig,
+    FeedlineRun,
+    ReceiverConfig,
+    SatelliteConfig,
+    Scenario,
+    StationConfig,
+)
 
 
 def frequencies_hz(config: SatelliteConfig) -> dict[str, float]:
@@ -26,22 +43,22 @@ def frequencies_hz(config: SatelliteConfig) -> dict[str, float]:
     return result
 
 
-@dataclass
+@dataclass(frozen=True)
 class Candidate:
     """A candidate set-up made ready to compute: its pattern loaded, its cables resolved.
 
-    The feed VSWR is the scenario's ``feed_vswr`` when given, else the pattern header's (read
-    from the pattern each time, so a pattern swapped in by the reflector sweep brings its own).
+    The feed VSWR is the scenario's ``feed_vswr`` when given, else the pattern header's (so a
+    pattern swapped in by the reflector sweep brings its own).
     """
 
     name: str
     pattern: object                      # planner.antenna.PatternTable
-    feedline: list                       # [(planner.link.feedline.Cable, length_m), ...]
-    connectors: int
-    connector_loss_db: float
-    lna_position: str | None
+    feedline: tuple = ()                 # ((planner.link.feedline.Cable, length_m), ...)
+    connectors: int = 0
+    connector_loss_db: float = 0.0
+    lna_position: str | None = None
     feed_vswr_override: float | None = None   # the scenario's feed_vswr
-    pre_lna_feedline: list = field(default_factory=list)  # [(Cable, length_m)] between antenna and LNA
+    pre_lna_feedline: tuple = ()         # ((Cable, length_m), ...) between antenna and LNA
     pre_lna_connectors: int = 0
     pre_lna_loss_db: float = 0.0         # switch, bias-tee (dB)
 
@@ -60,17 +77,36 @@ class Candidate:
         return "pattern table" if getattr(self.pattern, "feed_vswr", None) is not None else None
 
 
-@dataclass
+def _frozen(mapping: dict) -> Mapping:
+    return MappingProxyType(dict(mapping))
+
+
+def satellite_index(satellites: tuple[SatelliteConfig, ...]) -> Mapping[str, SatelliteConfig]:
+    """Name and catalog number -> configuration; the first entry in scenario order wins."""
+    index: dict[str, SatelliteConfig] = {}
+    for config in reversed(satellites):      # earlier entries overwrite later ones
+        if config.norad_id is not None:
+            index[str(config.norad_id)] = config
+        index[config.name] = config
+    return _frozen(index)
+
+
+@dataclass(frozen=True)
 class Study:
-    scenario: Scenario | None
+    """Everything a computation needs, resolved and fixed (see the module docstring)."""
+
     station: Station
-    targets: list[Target]
+    targets: tuple[Target, ...]
     start_utc: datetime
     end_utc: datetime
     step_s: float
-    satellites: list[SatelliteConfig] = field(default_factory=list)  # [[satellite]] + [catalog] objects
+    scenario: Scenario | None = None
     station_config: StationConfig | None = None
+    satellites: tuple[SatelliteConfig, ...] = ()      # [[satellite]] + [catalog] objects
+    candidates: Mapping[str, Candidate] = field(default_factory=lambda: _frozen({}))
+    transmitter_feedline: tuple = ()                   # ((Cable, length_m), ...) of [transmitter]
     allow_stale: bool = False
+    satellites_by_name: Mapping[str, SatelliteConfig] = field(default_factory=lambda: _frozen({}))
 
     @classmethod
     def from_scenario(cls, scenario: Scenario, *, allow_stale: bool = False, station: str | None = None) -> "Study":
@@ -92,98 +128,146 @@ class Study:
         window = scenario.window
         check_element_age([t.element_set for t in targets], window.start_utc, window.end_utc, allow_stale=allow_stale)
         site = scenario.station if station is None else scenario.station_named(station)
+        cables = _cable_catalog(scenario)
+        transmitter = scenario.transmitter
         return cls(
             scenario=scenario,
             station=Station.from_config(site),
-            targets=targets,
+            targets=tuple(targets),
             start_utc=window.start_utc,
             end_utc=window.end_utc,
             step_s=window.step_s,
-            satellites=satellites,
+            satellites=tuple(satellites),
             station_config=site,
+            candidates=_frozen({c.name: _candidate(scenario, c, position, cables)
+                                for position, c in enumerate(scenario.candidate, start=1)}),
+            transmitter_feedline=() if transmitter is None else _runs(scenario, cables, transmitter.feedline, "transmitter.feedline"),
             allow_stale=allow_stale,
+            satellites_by_name=satellite_index(tuple(satellites)),
         )
 
+    @classmethod
+    def for_targets(cls, station: Station, targets, start_utc: datetime, end_utc: datetime, step_s: float) -> "Study":
+        """A study without a scenario: passes of these targets over one station (the quick look)."""
+        return cls(station=station, targets=tuple(targets), start_utc=start_utc, end_utc=end_utc, step_s=step_s)
+
+    # ------------------------------------------------------------------ variants
+
+    def with_targets(self, targets) -> "Study":
+        """The same study for these targets only."""
+        return replace(self, targets=tuple(targets))
+
     def at_station(self, name: str) -> "Study":
-        """The same study seen from another station of the scenario (passes are recomputed)."""
+        """The same study seen from another station of the scenario."""
         site = self.scenario.station_named(name)
-        other = replace(self, station=Station.from_config(site), station_config=site)
-        other.__dict__.pop("_forecast_passes", None)
-        return other
+        return replace(self, station=Station.from_config(site), station_config=site)
+
+    def with_candidate(self, candidate: Candidate) -> "Study":
+        """The same study with one candidate replaced (or added) by ``candidate``."""
+        return replace(self, candidates=_frozen({**self.candidates, candidate.name: candidate}))
+
+    # ------------------------------------------------------------------ names, resolved at the edge
+
+    @property
+    def source(self) -> str:
+        """The scenario file's path for messages ("scenario" when built in code)."""
+        return str(self.scenario.source_path) if self.scenario is not None and self.scenario.source_path else "scenario"
 
     @property
     def station_names(self) -> list[str]:
         return [s.name for s in self.scenario.stations]
 
-    def satellite_config(self, name: str) -> SatelliteConfig:
-        """A target's radio configuration by name or catalog number (scenario or catalog).
-
-        The first satellite (in scenario order) with that name or number; looked up in an
-        index built once, since a catalog's forecast asks for every one of thousands.
-        """
-        index = self.__dict__.get("_satellite_index")
-        if index is None:
-            index = {}
-            for config in reversed(self.satellites):      # earlier entries overwrite later ones
-                if config.norad_id is not None:
-                    index[str(config.norad_id)] = config
-                index[config.name] = config
-            self.__dict__["_satellite_index"] = index
-        if str(name) in index:
-            return index[str(name)]
-        allowed = ", ".join(c.name for c in self.satellites[:8]) + (", ..." if len(self.satellites) > 8 else "")
-        source = self.scenario.source_path if self.scenario is not None else "scenario"
-        raise UserError(f"{source}: no satellite named {name!r}; allowed: {allowed}")
-
-    def feedline_runs(self, runs: list[FeedlineRun], key: str) -> list:
-        """[(Cable, length_m)] for the scenario's feedline entries; unknown cables are refused."""
-        from planner.link.feedline import cable_from_points, get_cable
-
-        user_cables = {
-            c.name: cable_from_points(c.name, c.loss_db_per_100m, c.impedance_ohm, c.velocity_factor)
-            for c in self.scenario.cable
-        }
-        result = []
-        for index, run in enumerate(runs, start=1):
-            try:
-                cable = get_cable(run.cable, user_cables)
-            except UserError as error:
-                raise UserError(f"{self.scenario.source_path or 'scenario'}: {key} #{index}: {error}") from None
-            result.append((cable, run.length_m))
-        return result
-
-    def candidate(self, name: str) -> Candidate:
-        """The named candidate, loaded once (pattern table parsed, cables resolved)."""
-        cache = self.__dict__.setdefault("_candidates", {})
-        if name not in cache:
-            from planner.antenna import load_pattern
-
-            config: CandidateConfig = self.scenario.candidate_named(name)
-            position = next(i for i, c in enumerate(self.scenario.candidate, start=1) if c.name == name)
-            pattern = load_pattern(config.pattern)
-            receiver = self.scenario.receiver
-            cache[name] = Candidate(
-                name=config.name,
-                pattern=pattern,
-                feedline=self.feedline_runs(config.feedline, f"candidate #{position} ({name}).feedline"),
-                connectors=config.connectors,
-                connector_loss_db=config.connector_loss_db,
-                lna_position=config.lna_position,
-                feed_vswr_override=config.feed_vswr,
-                pre_lna_feedline=self.feedline_runs(config.pre_lna_feedline, f"candidate #{position} ({name}).pre_lna_feedline"),
-                pre_lna_connectors=(
-                    config.pre_lna_connectors if config.pre_lna_connectors is not None else receiver.pre_lna_connectors
-                ),
-                pre_lna_loss_db=config.pre_lna_loss_db if config.pre_lna_loss_db is not None else receiver.pre_lna_loss_db,
-            )
-        return cache[name]
-
     @property
     def candidate_names(self) -> list[str]:
-        return [c.name for c in self.scenario.candidate]
+        return list(self.candidates)
+
+    @property
+    def receiver(self) -> ReceiverConfig:
+        return self.scenario.receiver
+
+    @property
+    def criteria(self) -> CriteriaConfig:
+        return self.scenario.criteria
+
+    @property
+    def days(self) -> float:
+        return float(self.scenario.window.days)
+
+    def satellite_config(self, name: str) -> SatelliteConfig:
+        """A target's radio configuration by name or catalog number (scenario or catalog)."""
+        found = self.satellites_by_name.get(str(name))
+        if found is not None:
+            return found
+        allowed = ", ".join(c.name for c in self.satellites[:8]) + (", ..." if len(self.satellites) > 8 else "")
+        raise UserError(f"{self.source}: no satellite named {name!r}; allowed: {allowed}")
+
+    def candidate(self, name: str) -> Candidate:
+        """The named candidate set-up (loaded when the study was made)."""
+        found = self.candidates.get(name)
+        if found is not None:
+            return found
+        allowed = ", ".join(self.candidates) or "none: add [[candidate]] tables"
+        raise UserError(f"{self.source}: no candidate named {name!r}; allowed: {allowed}")
+
+    def downlink_setup(self, satellite: str, candidate: str, *, antenna_noise=None):
+        """The fixed part of the downlink budget of a satellite and a candidate, by name."""
+        from planner.link.budget import downlink_setup
+
+        return downlink_setup(self.satellite_config(satellite), self.candidate(candidate), self.receiver, self.station,
+                              fade_percentile=self.criteria.fade_percentile, source=self.source, antenna_noise=antenna_noise)
+
+    def uplink_setup(self, satellite: str):
+        """The fixed part of the uplink budget of a satellite, by name (needs a [transmitter])."""
+        from planner.link.budget import uplink_setup
+
+        return uplink_setup(self.satellite_config(satellite), self.scenario.transmitter, self.transmitter_feedline,
+                            self.station, fade_percentile=self.criteria.fade_percentile, source=self.source)
 
     def passes(self) -> list[Pass]:
-        return predict_passes(self.targets, self.station, self.start_utc, self.end_utc, step_s=self.step_s)
+        return predict_passes(list(self.targets), self.station, self.start_utc, self.end_utc, step_s=self.step_s)
+
+
+# ---------------------------------------------------------------------- resolving the scenario
+
+
+def _cable_catalog(scenario: Scenario) -> dict:
+    from planner.link.feedline import cable_from_points
+
+    return {c.name: cable_from_points(c.name, c.loss_db_per_100m, c.impedance_ohm, c.velocity_factor) for c in scenario.cable}
+
+
+def _runs(scenario: Scenario, user_cables: dict, runs: list[FeedlineRun], key: str) -> tuple:
+    """((Cable, length_m), ...) for the scenario's feedline entries; unknown cables are refused."""
+    from planner.link.feedline import get_cable
+
+    result = []
+    for index, run in enumerate(runs, start=1):
+        try:
+            cable = get_cable(run.cable, user_cables)
+        except UserError as error:
+            raise UserError(f"{scenario.source_path or 'scenario'}: {key} #{index}: {error}") from None
+        result.append((cable, run.length_m))
+    return tuple(result)
+
+
+def _candidate(scenario: Scenario, config: CandidateConfig, position: int, cables: dict) -> Candidate:
+    """A candidate with its pattern table read and its cables resolved."""
+    from planner.antenna import load_pattern
+
+    receiver = scenario.receiver
+    where = f"candidate #{position} ({config.name})"
+    return Candidate(
+        name=config.name,
+        pattern=load_pattern(config.pattern),
+        feedline=_runs(scenario, cables, config.feedline, f"{where}.feedline"),
+        connectors=config.connectors,
+        connector_loss_db=config.connector_loss_db,
+        lna_position=config.lna_position,
+        feed_vswr_override=config.feed_vswr,
+        pre_lna_feedline=_runs(scenario, cables, config.pre_lna_feedline, f"{where}.pre_lna_feedline"),
+        pre_lna_connectors=config.pre_lna_connectors if config.pre_lna_connectors is not None else receiver.pre_lna_connectors,
+        pre_lna_loss_db=config.pre_lna_loss_db if config.pre_lna_loss_db is not None else receiver.pre_lna_loss_db,
+    )
 
 
 def _catalog_targets(scenario: Scenario, taken_ids: set[int]) -> tuple[list[Target], list[SatelliteConfig]]:

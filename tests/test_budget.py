@@ -14,11 +14,9 @@ from scipy.constants import Boltzmann
 
 from planner.link.budget import (
     BOLTZMANN_DBW_PER_K_HZ,
-    downlink_setup,
     evaluate,
     free_space_loss_db,
     pass_budget,
-    uplink_setup,
 )
 from planner.antenna import load_pattern
 from planner.link.safety import general_public_limit_mw_cm2, min_distance_m, power_density_mw_cm2
@@ -63,7 +61,7 @@ def test_end_to_end_budget_recomputed_by_hand(study):
     sat = study.scenario.satellite_named("WRENLING-1")
     candidate = study.candidate("turnstile-close")
     receiver = study.scenario.receiver
-    setup = downlink_setup(study, "WRENLING-1", "turnstile-close")
+    setup = study.downlink_setup("WRENLING-1", "turnstile-close")
     azimuth, elevation, range_km = 0.0, 30.0, 1000.0
     row = evaluate(setup, [azimuth], [elevation], [range_km]).iloc[0]
 
@@ -116,7 +114,7 @@ def test_end_to_end_budget_recomputed_by_hand(study):
 def test_rhcp_wave_meets_the_rhcp_partial_gain(study):
     # Stutzman: an RHCP wave couples only to the antenna's RHCP component, so gain minus
     # polarization loss equals the RHCP partial gain (dBic) in every direction.
-    setup = downlink_setup(study, "OSTRAVEL-2", "turnstile-close")
+    setup = study.downlink_setup("OSTRAVEL-2", "turnstile-close")
     setup.wave = type(setup.wave)("rhcp", 0.0)
     elevation = np.linspace(1, 90, 30)
     frame = evaluate(setup, np.zeros_like(elevation), elevation, np.full_like(elevation, 1500.0))
@@ -127,13 +125,13 @@ def test_rhcp_wave_meets_the_rhcp_partial_gain(study):
 def test_lna_at_the_antenna_beats_lna_in_the_shack(study):
     # Friis: loss ahead of the first gain stage adds directly to the noise temperature
     # (common practice, follows from Friis 1944).
-    at_antenna = downlink_setup(study, "WRENLING-1", "turnstile-close")
-    in_shack = downlink_setup(study, "WRENLING-1", "turnstile-close-rg58-lna-in-shack")
+    at_antenna = study.downlink_setup("WRENLING-1", "turnstile-close")
+    in_shack = study.downlink_setup("WRENLING-1", "turnstile-close-rg58-lna-in-shack")
     assert in_shack.system_noise_temperature_k > at_antenna.system_noise_temperature_k + 100
 
 
 def test_pass_budget_is_a_frame_along_the_track(study):
-    setup = downlink_setup(study, "TARNBECK", "turnstile-close")
+    setup = study.downlink_setup("TARNBECK", "turnstile-close")
     p = [x for x in study.passes() if x.satellite == "TARNBECK"][0]
     frame = pass_budget(setup, p)
     assert len(frame) == len(p.track)
@@ -144,7 +142,7 @@ def test_pass_budget_is_a_frame_along_the_track(study):
 
 
 def test_uplink_budget(study):
-    setup = uplink_setup(study, "CALDERWISP")
+    setup = study.uplink_setup("CALDERWISP")
     tx = study.scenario.transmitter
     assert setup.eirp_dbw == pytest.approx(10 * log10(tx.power_w) + tx.antenna_gain_dbi - setup.feedline_loss_db)
     row = evaluate(setup, [0.0], [45.0], [800.0]).iloc[0]
@@ -260,12 +258,11 @@ def test_cn0_change_with_vswr_matches_the_formula_by_hand():
     study = Study.from_scenario(load_scenario(DEMO))
     receiver = study.scenario.receiver
     base = study.candidate("turnstile-close")
-    cache = study.__dict__["_candidates"]
     rows, setups = {}, {}
     for vswr in (4.0, 1.0):
-        cache["turnstile-close"] = replace(base, feed_vswr_override=vswr)
-        assert study.candidate("turnstile-close").feed_vswr_source == "scenario"
-        setups[vswr] = downlink_setup(study, "WRENLING-1", "turnstile-close")
+        variant = study.with_candidate(replace(base, feed_vswr_override=vswr))
+        assert variant.candidate("turnstile-close").feed_vswr_source == "scenario"
+        setups[vswr] = variant.downlink_setup("WRENLING-1", "turnstile-close")
         rows[vswr] = evaluate(setups[vswr], [0.0], [30.0], [1000.0]).iloc[0]
     row, setup, m = rows[4.0], setups[4.0], 0.64
     assert _m(4.0) == pytest.approx(m)
@@ -299,7 +296,7 @@ def test_pre_lna_losses_are_charged_before_the_lna(tmp_path):
     study = _variant_study(tmp_path, 'name = "turnstile-close"\n', 'name = "turnstile-close"\n' + PRE_LNA)
     receiver = study.scenario.receiver
     candidate = study.candidate("turnstile-close")
-    setup = downlink_setup(study, "WRENLING-1", "turnstile-close")
+    setup = study.downlink_setup("WRENLING-1", "turnstile-close")
     f_hz = setup.frequency_hz
     m = _m(candidate.feed_vswr)
     (jumper, jumper_m), = candidate.pre_lna_feedline
@@ -313,13 +310,13 @@ def test_pre_lna_losses_are_charged_before_the_lna(tmp_path):
     assert row["pre_lna_loss_db"] == pytest.approx(pre_db)
     assert row["feedline_loss_db"] == pytest.approx(f_loss_db)  # the main run is unchanged
     # Charged before the LNA, about 1 dB costs tens of kelvin; after it (the old bookkeeping) next to nothing.
-    plain = downlink_setup(Study.from_scenario(load_scenario(DEMO)), "WRENLING-1", "turnstile-close")
+    plain = Study.from_scenario(load_scenario(DEMO)).downlink_setup("WRENLING-1", "turnstile-close")
     assert setup.system_noise_temperature_k - plain.system_noise_temperature_k > 50.0
     # With the LNA in the shack the pre-LNA losses simply join the run before it.
     name = "turnstile-close-rg58-lna-in-shack"
     shack = _variant_study(tmp_path, f'name = "{name}"\n', f'name = "{name}"\n' + PRE_LNA)
     candidate = shack.candidate(name)
-    setup = downlink_setup(shack, "WRENLING-1", name)
+    setup = shack.downlink_setup("WRENLING-1", name)
     chain = _hand_chain_k(receiver, pre_db, _main_run_db(candidate, f_hz), lna_at_antenna=False)
     expected = setup.antenna_noise_temperature_k + chain / _m(candidate.feed_vswr)
     assert setup.system_noise_temperature_k == pytest.approx(expected, rel=1e-9)
@@ -331,7 +328,7 @@ def test_pre_lna_defaults_from_the_receiver_and_old_scenarios_keep_their_meaning
     assert study.candidate("turnstile-far").pre_lna_connectors == 0
     # The demo gives none: zero loss before the LNA, the old Friis sum unchanged (test above by hand).
     demo = Study.from_scenario(load_scenario(DEMO))
-    assert downlink_setup(demo, "WRENLING-1", "turnstile-far").pre_lna_loss_db == 0.0
+    assert demo.downlink_setup("WRENLING-1", "turnstile-far").pre_lna_loss_db == 0.0
     # A candidate's own value wins over the receiver's.
     both = _variant_study(tmp_path, 'name = "turnstile-far"\n', 'name = "turnstile-far"\npre_lna_loss_db = 0.0\n')
     assert both.candidate("turnstile-far").pre_lna_loss_db == 0.0
@@ -362,7 +359,7 @@ def test_ladder_shows_pre_lna_row_chain_and_noise_breakdown(tmp_path):
 
 
 def test_uplink_has_no_pre_lna_row(study):
-    setup = uplink_setup(study, "CALDERWISP")
+    setup = study.uplink_setup("CALDERWISP")
     from planner.link.budget import ladder_values
 
     values = ladder_values(setup, evaluate(setup, [0.0], [45.0], [800.0]).iloc[0])
@@ -373,7 +370,7 @@ def test_sky_temperature_of_a_candidate_includes_the_atmosphere(study):
     # ITU-R P.372 clear-air emission: a few kelvin for these UHF patterns, and the station height passed on.
     from planner.link.noise import antenna_noise_temperature_k
 
-    setup = downlink_setup(study, "WRENLING-1", "turnstile-close")
+    setup = study.downlink_setup("WRENLING-1", "turnstile-close")
     pattern = study.candidate("turnstile-close").pattern
     f_hz = setup.frequency_hz
     without = antenna_noise_temperature_k(pattern, f_hz, "rural", atmospheric_emission=False)

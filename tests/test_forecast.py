@@ -11,7 +11,6 @@ import warnings
 from datetime import timedelta
 from math import log10
 from pathlib import Path
-from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
@@ -20,7 +19,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from planner.decision import forecast as forecast_module
-from planner.link.budget import downlink_setup, pass_budget
+from planner.link.budget import pass_budget
 from planner.errors import PlannerWarning
 from planner.decision.forecast import (
     ELEVATION_BAND_LABELS,
@@ -111,7 +110,7 @@ def test_usable_window_crossings_are_linearly_interpolated(study):
     t1 = np.arange(0.0, 601.0, 10.0)
     t2 = np.arange(1000.0, 1201.0, 10.0)
     samples, passes = synthetic(study, [(t1, 10.25 - np.abs(t1 - 300.0) / 20.0), (t2, 8.25 - (t2 - 1000.0) / 20.0)])
-    out = summarize_passes(samples, passes, study)
+    out = summarize_passes(samples, passes, study.criteria, study.satellites)
     first, second = out.iloc[0], out.iloc[1]
     assert first.usable_windows == [pytest.approx((155.0, 445.0), abs=1e-9)]
     assert first.usable_s == pytest.approx(290.0, abs=1e-9)
@@ -124,7 +123,7 @@ def test_usable_window_crossings_are_linearly_interpolated(study):
     assert (first.min_margin_db, first.max_margin_db) == pytest.approx((-4.75, 10.25))
     # A pass with no usable sample has no window and NaN first/last usable times.
     samples, passes = synthetic(study, [(t1, np.full(len(t1), 2.99))])
-    none = summarize_passes(samples, passes, study).iloc[0]
+    none = summarize_passes(samples, passes, study.criteria, study.satellites).iloc[0]
     assert none.usable_s == 0.0 and none.usable_windows == [] and np.isnan(none.first_usable_s) and not none.usable
 
 
@@ -136,7 +135,7 @@ def test_mid_pass_dip_is_one_dropout_and_low_ends_are_not(study):
     t = np.arange(0.0, 501.0, 10.0)
     margin = np.interp(t, [0, 100, 200, 250, 300, 400, 500], [-5, 6, 6, -1, 6, 6, -5])
     samples, passes = synthetic(study, [(t, margin)])
-    row = summarize_passes(samples, passes, study).iloc[0]
+    row = summarize_passes(samples, passes, study.criteria, study.satellites).iloc[0]
     a, b, c, d = 800 / 11, 200 + 150 / 7, 300 - 150 / 7, 400 + 300 / 11
     assert row.usable_windows == [pytest.approx((a, b), abs=1e-9), pytest.approx((c, d), abs=1e-9)]
     assert row.dropouts == 1
@@ -144,7 +143,7 @@ def test_mid_pass_dip_is_one_dropout_and_low_ends_are_not(study):
     assert row.usable_s == pytest.approx((b - a) + (d - c), abs=1e-9)
     assert (row.first_usable_s, row.last_usable_s) == pytest.approx((a, d), abs=1e-9)
     # +4.5 dB lifts the dip's bottom (-1 dB) to 3.5 dB >= 3 dB: one window, no dropout.
-    lifted = summarize_passes(samples, passes, study, margin_shift_db=4.5).iloc[0]
+    lifted = summarize_passes(samples, passes, study.criteria, study.satellites, margin_shift_db=4.5).iloc[0]
     assert lifted.dropouts == 0 and len(lifted.usable_windows) == 1
 
 
@@ -153,7 +152,7 @@ def test_windows_do_not_span_two_passes(study):
     # keeps its own window (windows are per pass by definition), no window or dropout across them.
     t1, t2 = np.arange(0.0, 101.0, 10.0), np.arange(200.0, 301.0, 10.0)
     samples, passes = synthetic(study, [(t1, np.full(len(t1), 5.0)), (t2, np.full(len(t2), 5.0))])
-    out = summarize_passes(samples, passes, study)
+    out = summarize_passes(samples, passes, study.criteria, study.satellites)
     assert out.usable_windows.tolist() == [[(0.0, 100.0)], [(200.0, 300.0)]]
     assert out.dropouts.tolist() == [0, 0]
 
@@ -176,9 +175,8 @@ def test_data_volume_is_usable_time_times_rate_times_framing(day, study):
     assert (voice.data_volume_bit == 0).all()
     assert (voice.usable_s > 0).any(), "the FM repeater should have usable time on some candidate"
     # Under the usable-time objective the value is weight x usable seconds, FM included.
-    timed = SimpleNamespace(satellites=study.satellites, scenario=study.scenario.model_copy(update={
-        "criteria": study.scenario.criteria.model_copy(update={"objective": "usable_time"})}))
-    again = summarize_passes(day.samples, day.passes, timed)
+    timed = study.criteria.model_copy(update={"objective": "usable_time"})
+    again = summarize_passes(day.samples, day.passes, timed, study.satellites)
     weights = again.satellite.map({s.name: s.weight for s in study.scenario.satellite})
     np.testing.assert_allclose(again.value, weights * again.usable_s, rtol=1e-12)
 
@@ -214,7 +212,7 @@ def test_samples_match_the_per_pass_budget(day, study):
         warnings.simplefilter("ignore", PlannerWarning)
         for candidate in ("turnstile-far", "isotropic-reference"):
             for satellite in ("WRENLING-1", "CALDERWISP"):
-                setup = downlink_setup(study, satellite, candidate)
+                setup = study.downlink_setup(satellite, candidate)
                 mine = [p for p in passes if p.satellite == satellite]
                 for number, a_pass in enumerate(mine[:3], start=1):
                     expected = pass_budget(setup, a_pass)
@@ -292,7 +290,7 @@ def test_more_margin_never_lowers_usable_time(day, study, shift_db):
     # With margins linear between samples, the usable set {m + x >= threshold} only grows with x
     # (monotonicity of a superlevel set); so must usable time per pass.
     base = day.outcomes
-    shifted = summarize_passes(day.samples, day.passes, study, margin_shift_db=shift_db)
+    shifted = summarize_passes(day.samples, day.passes, study.criteria, study.satellites, margin_shift_db=shift_db)
     assert (shifted.usable_s.to_numpy() >= base.usable_s.to_numpy() - 1e-9).all()
     assert (shifted.usable.to_numpy() >= base.usable.to_numpy()).all()
 
@@ -309,7 +307,7 @@ def test_more_transmit_power_is_a_margin_shift(scenario, day, study):
     np.testing.assert_allclose(result.samples.margin_db - day.samples.margin_db, 10 * log10(2.0), atol=1e-9)
     assert (result.outcomes.usable_s.to_numpy() >= day.outcomes.usable_s.to_numpy() - 1e-9).all()
     assert result.outcomes.usable_s.sum() > day.outcomes.usable_s.sum()
-    shifted = summarize_passes(day.samples, day.passes, study, margin_shift_db=10 * log10(2.0))
+    shifted = summarize_passes(day.samples, day.passes, study.criteria, study.satellites, margin_shift_db=10 * log10(2.0))
     np.testing.assert_allclose(result.outcomes.usable_s, shifted.usable_s, atol=1e-6)
 
 

@@ -100,7 +100,6 @@ class Run:
 
 def run_cli(*args) -> Run:
     """`planner ARGS` in this process: exit code, stdout, stderr (a traceback counts as code 1)."""
-    cli._WARNED.clear()  # the CLI says each warning once a run; each call here is a run
     out, err = io.StringIO(), io.StringIO()
     code = 0
     with mock.patch.object(sys, "argv", ["planner", *map(str, args)]), redirect_stdout(out), \

@@ -43,7 +43,7 @@ def demo_short(tmp_path_factory):
     path = short_scenario(tmp_path_factory.mktemp("short"))
     study = Study.from_scenario(load_scenario(path))
     result = forecast(study)
-    return path, study, result, recommend(result, study)
+    return path, study, result, recommend(result, study.satellites, study.candidates)
 
 
 DOMINATED = """
@@ -69,7 +69,7 @@ def test_a_dominant_candidate_is_recommended(tmp_path):
     )
     study = Study.from_scenario(load_scenario(path))
     result = forecast(study, ["turnstile-close", "close-on-thin-cable"])
-    decision = recommend(result, study)
+    decision = recommend(result, study.satellites, study.candidates)
     assert decision.recommended == "turnstile-close"
     assert decision.robust
     by_name = {s.candidate: s for s in decision.ranking}

@@ -683,13 +683,14 @@ def test_mutations_give_a_scenario_or_a_user_error(tree: Path, text: str) -> Non
 
 
 def test_pre_lna_cable_is_checked_like_the_feedline(tree: Path) -> None:
-    # An unknown cable in pre_lna_feedline: one line naming the file, the key and the cables allowed.
+    # An unknown cable in pre_lna_feedline: one line naming the file, the key and the cables allowed,
+    # when the study is made (every candidate is resolved before any computation).
     from planner.study import Study
 
     path = _variant(tree, 'name = "turnstile-close"\n', 'name = "turnstile-close"\npre_lna_feedline = [{ cable = "RG-999", length_m = 1 }]\n')
-    study = Study.from_scenario(load_scenario(path))
+    scenario = load_scenario(path)
     with pytest.raises(UserError) as info:
-        study.candidate("turnstile-close")
+        Study.from_scenario(scenario)
     message = str(info.value)
     assert "\n" not in message
     assert message.startswith(f"{path}: candidate #1 (turnstile-close).pre_lna_feedline #1: "), message

@@ -180,14 +180,8 @@ def _adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step
             chosen.append(select_element_set(element_sets, source=str(elements), **_satellite_choice(wanted)))
         element_sets = chosen
     check_element_age(element_sets, window.start_utc, window.end_utc, allow_stale=allow_stale)
-    return Study(
-        scenario=None,
-        station=Station.from_config(station_config),
-        targets=[Target(e) for e in element_sets],
-        start_utc=window.start_utc,
-        end_utc=window.end_utc,
-        step_s=window.step_s,
-    )
+    return Study.for_targets(Station.from_config(station_config), [Target(e) for e in element_sets],
+                             window.start_utc, window.end_utc, window.step_s)
 
 
 def _load_study(scenario: Path, allow_stale: bool, station: Optional[str] = None):
@@ -280,8 +274,8 @@ def passes(
             if unknown:
                 shown = sorted(names)[:10]
                 raise UserError(f"{scenario}: --satellite {unknown[0]!r} is not in the scenario; allowed: {', '.join(shown)}")
-            for study in studies:
-                study.targets = [t for t in study.targets if t.display_name in satellite or str(t.element_set.norad_id) in satellite]
+            studies = [study.with_targets([t for t in study.targets if t.display_name in satellite or str(t.element_set.norad_id) in satellite])
+                       for study in studies]
     elif elements is not None:
         studies = [_adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step_s, satellite, allow_stale)]
     else:
@@ -362,7 +356,6 @@ def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, 
 
 def _print_exposure(study, out) -> None:
     """RF exposure estimate for the station transmitter at each uplink frequency."""
-    from planner.link.budget import uplink_setup
     from planner.link.safety import CAUTION, exposure_table, min_distance_m
 
     if study.scenario.transmitter is None:
@@ -370,7 +363,7 @@ def _print_exposure(study, out) -> None:
     for sat in study.satellites:
         if sat.uplink_mhz is None:
             continue
-        setup = uplink_setup(study, sat.name)
+        setup = study.uplink_setup(sat.name)
         eirp_w = 10.0 ** (setup.eirp_dbw / 10.0)
         rows = exposure_table(eirp_w, setup.frequency_hz)
         print(f"RF exposure near the station antenna, {sat.uplink_mhz:g} MHz uplink to {sat.name}, EIRP {eirp_w:.1f} W:", file=out)
@@ -399,7 +392,7 @@ def budget(
     force: bool = FORCE,
 ) -> None:
     """Print the link budget as a ladder of terms, each one recomputable by hand."""
-    from planner.link.budget import LADDER, downlink_setup, evaluate, ladder_values, pass_budget, uplink_setup
+    from planner.link.budget import LADDER, evaluate, ladder_values, pass_budget
     from planner.output.export import to_json
 
     if format not in ("table", "json"):
@@ -416,7 +409,7 @@ def budget(
             raise UserError(f"--candidate: a downlink budget needs a candidate set-up; allowed: {allowed}")
         study.candidate(candidate)  # refuse an unknown candidate before any computation
     az, el, rng, label, chosen_pass = _geometry_for_budget(study, satellite, pass_number, at, elevation_deg, range_km, azimuth_deg)
-    setup = downlink_setup(study, sat_name, candidate) if direction == "downlink" else uplink_setup(study, sat_name)
+    setup = study.downlink_setup(sat_name, candidate) if direction == "downlink" else study.uplink_setup(sat_name)
     row = evaluate(setup, [az], [el], [rng]).iloc[0]
     values = ladder_values(setup, row)
     summary = None
@@ -625,7 +618,7 @@ def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, r
     from planner.decision.recommend import recommend
 
     result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet)
-    decision = recommend(result, study)
+    decision = recommend(result, study.satellites, study.candidates)
     if calendar is not None:
         write_atomically(calendar, calendar_ics(result.outcomes, study, decision.recommended), rules=rules)
         print(f"wrote {calendar}", file=sys.stderr)
@@ -973,21 +966,24 @@ def pattern_show(
             print(f"wrote {path}", file=sys.stderr)
 
 
-_WARNED: set[str] = set()
+def _warning_printer():
+    """A ``warnings.showwarning`` that prints each distinct warning once, as one line on stderr
+    (a model's validity note is said once a run, not once a satellite)."""
+    said: set[str] = set()
 
+    def show(message, category, filename, lineno, file=None, line=None):
+        text = f"planner: warning: {message}" if issubclass(category, PlannerWarning) else f"planner: warning: {category.__name__}: {message}"
+        if text not in said:
+            said.add(text)
+            print(text, file=sys.stderr)
 
-def _show_warning(message, category, filename, lineno, file=None, line=None):
-    """One line on stderr per distinct warning (a model's validity note is said once a run)."""
-    text = f"planner: warning: {message}" if issubclass(category, PlannerWarning) else f"planner: warning: {category.__name__}: {message}"
-    if text not in _WARNED:
-        _WARNED.add(text)
-        print(text, file=sys.stderr)
+    return show
 
 
 def main() -> None:
     """Entry point: user errors -> one line and exit code 2; bugs -> exit code 1."""
     warnings.simplefilter("always", PlannerWarning)
-    warnings.showwarning = _show_warning
+    warnings.showwarning = _warning_printer()
     try:
         # Not standalone, so typer's own usage errors come here and are reported in one line too.
         result = app(standalone_mode=False)

@@ -41,7 +41,7 @@ from typing import Callable, Sequence
 import numpy as np
 import pandas as pd
 
-from planner.link.budget import downlink_setup, evaluate
+from planner.link.budget import candidate_antenna_noise, downlink_setup, evaluate
 from planner.passes import joined_time_s
 from planner.scenario import CriteriaConfig
 
@@ -75,23 +75,18 @@ _KEYS = ["candidate", "satellite", "pass_number"]
 # ---------------------------------------------------------------------------- passes
 
 
-def _numbered(study) -> list[tuple[int, object]]:
-    """(pass_number, Pass) in AOS order; the number counts from 1 per satellite.
+def numbered_passes(study) -> list[tuple[int, object]]:
+    """(pass_number, Pass) of the study's targets in AOS order; the number counts from 1 per satellite.
 
-    Predicted and numbered once per study and window (cached on the study); callers must
-    not reorder the list.
+    A caller that forecasts the same study several times (the reflector sweep) predicts them
+    once and hands them to :func:`forecast`.
     """
-    cache = study.__dict__.setdefault("_forecast_passes", {})
-    key = (study.start_utc, study.end_utc, study.step_s)
-    if key not in cache:
-        cache.clear()
-        counters: dict[str, int] = {}
-        numbered = []
-        for a_pass in study.passes():
-            counters[a_pass.satellite] = counters.get(a_pass.satellite, 0) + 1
-            numbered.append((counters[a_pass.satellite], a_pass))
-        cache[key] = numbered
-    return cache[key]
+    counters: dict[str, int] = {}
+    numbered = []
+    for a_pass in study.passes():
+        counters[a_pass.satellite] = counters.get(a_pass.satellite, 0) + 1
+        numbered.append((counters[a_pass.satellite], a_pass))
+    return numbered
 
 
 def elevation_band(max_elevation_deg) -> np.ndarray:
@@ -108,7 +103,7 @@ def local_mean_solar_hour(time_utc: datetime, longitude_deg: float) -> int:
     return int(np.floor(np.mod(hours + longitude_deg / 15.0, 24.0))) % 24
 
 
-def pass_table(study) -> pd.DataFrame:
+def pass_table(study, numbered: list | None = None) -> pd.DataFrame:
     """One row per (satellite, pass_number), satellites in scenario order, passes in AOS order.
 
     ``aos_utc``/``tca_utc``/``los_utc`` are timezone-aware python datetimes (UTC);
@@ -118,7 +113,7 @@ def pass_table(study) -> pd.DataFrame:
     """
     longitude_deg = float(study.station.longitude_deg)
     order = {s.name: i for i, s in enumerate(study.satellites)}
-    numbered = sorted(_numbered(study), key=lambda item: (order.get(item[1].satellite, len(order)), item[0]))
+    numbered = sorted(numbered_passes(study) if numbered is None else numbered, key=lambda item: (order.get(item[1].satellite, len(order)), item[0]))
     start = study.start_utc
     rows = {
         "satellite": [p.satellite for _, p in numbered],
@@ -181,7 +176,7 @@ def _satellite_tracks(mine: list[tuple[int, object]]) -> tuple:
     )
 
 
-def _sample_frames(study, names: list[str], progress: Callable[[int, int], None] | None):
+def _sample_frames(study, names: list[str], progress: Callable[[int, int], None] | None, numbered: list):
     """(satellite, {candidate: samples frame}) for every satellite with passes, in scenario order.
 
     A satellite's track arrays exist only while its budgets are evaluated, so memory holds
@@ -189,10 +184,18 @@ def _sample_frames(study, names: list[str], progress: Callable[[int, int], None]
     """
     satellites = [s.name for s in study.satellites]
     by_satellite: dict[str, list[tuple[int, object]]] = {}
-    for number, a_pass in _numbered(study):
+    for number, a_pass in numbered:
         by_satellite.setdefault(a_pass.satellite, []).append((number, a_pass))
     total = len(names) * len(satellites)
     done = 0
+    # The antenna noise integral depends on the candidate and the frequency only: once each here.
+    noise_by: dict[tuple[str, float], object] = {}
+
+    def noise(candidate: str, frequency_hz: float):
+        key = (candidate, frequency_hz)
+        if key not in noise_by:
+            noise_by[key] = candidate_antenna_noise(study.candidate(candidate), frequency_hz, study.receiver, study.station)
+        return noise_by[key]
 
     def tick():
         nonlocal done
@@ -209,8 +212,12 @@ def _sample_frames(study, names: list[str], progress: Callable[[int, int], None]
         pass_number, time_s, dt_s, azimuth, elevation, range_km = _satellite_tracks(mine)
         n = len(time_s)
         frames = {}
+        config = study.satellite_config(satellite)
         for candidate in names:
-            budget = evaluate(downlink_setup(study, satellite, candidate), azimuth, elevation, range_km)
+            setup = downlink_setup(config, study.candidate(candidate), study.receiver, study.station,
+                                   fade_percentile=study.criteria.fade_percentile, source=study.source,
+                                   antenna_noise=noise(candidate, config.downlink_frequency_hz))
+            budget = evaluate(setup, azimuth, elevation, range_km)
             frames[candidate] = pd.DataFrame(
                 {
                     "candidate": np.full(n, candidate, dtype=object),
@@ -232,7 +239,7 @@ def _sample_frames(study, names: list[str], progress: Callable[[int, int], None]
 def _checked_candidates(study, candidates: list[str] | None) -> list[str]:
     names = list(study.candidate_names if candidates is None else candidates)
     for name in names:
-        study.scenario.candidate_named(name)          # unknown names: one-line UserError
+        study.candidate(name)          # unknown names: one-line UserError
     return names
 
 
@@ -241,6 +248,7 @@ def compute_samples(
     candidates: list[str] | None = None,
     *,
     progress: Callable[[int, int], None] | None = None,
+    numbered: list | None = None,
 ) -> pd.DataFrame:
     """One row per (candidate, satellite, pass, sample) with the downlink margin.
 
@@ -253,7 +261,8 @@ def compute_samples(
     """
     names = _checked_candidates(study, candidates)
     per_candidate: dict[str, list[pd.DataFrame]] = {name: [] for name in names}
-    for _, frames in _sample_frames(study, names, progress):
+    numbered = numbered_passes(study) if numbered is None else numbered
+    for _, frames in _sample_frames(study, names, progress, numbered):
         for name, frame in frames.items():
             per_candidate[name].append(frame)
     ordered = [frame for name in names for frame in per_candidate[name]]
@@ -315,16 +324,17 @@ def _empty_outcomes(passes: pd.DataFrame) -> pd.DataFrame:
     return frame
 
 
-def summarize_passes(samples: pd.DataFrame, passes: pd.DataFrame, study, *, margin_shift_db: float = 0.0) -> pd.DataFrame:
+def summarize_passes(samples: pd.DataFrame, passes: pd.DataFrame, criteria: CriteriaConfig, satellites,
+                     *, margin_shift_db: float = 0.0) -> pd.DataFrame:
     """One row per (candidate, satellite, pass_number): the pass table's columns and outcomes.
 
     Candidates are those in ``samples`` (in order of appearance); every pass of ``passes``
     appears for each.  ``margin_shift_db`` is added to every margin first (the robustness
     check: +x dB is x dB more EIRP); it costs no budget recomputation.  ``value`` is
     ``weight * data_volume_bit`` or ``weight * usable_s`` per ``criteria.objective`` for every
-    pass; totals and the schedule count usable passes only (filter on ``usable``).
+    pass; totals and the schedule count usable passes only (filter on ``usable``). ``satellites``
+    are the satellites' configurations (their radio: data rate, framing, modulation, weight).
     """
-    criteria: CriteriaConfig = study.scenario.criteria
     threshold_db = float(criteria.min_margin_db)
     candidates = list(pd.unique(samples["candidate"])) if len(samples) else []
     if not candidates or len(passes) == 0:
@@ -385,7 +395,7 @@ def summarize_passes(samples: pd.DataFrame, passes: pd.DataFrame, study, *, marg
             [w if isinstance(w, list) else [] for w in outcomes["usable_windows"]], index=outcomes.index, dtype=object
         )
 
-    radio = {s.name: s for s in study.satellites}
+    radio = {s.name: s for s in satellites}
     sat_names = outcomes["satellite"].to_numpy()
     rate_bps = np.array([float(radio[s].data_rate_bps) for s in sat_names])
     framing = np.array([float(radio[s].framing_efficiency) for s in sat_names])
@@ -587,6 +597,7 @@ def forecast(
     progress: Callable[[int, int], None] | None = None,
     *,
     keep_samples: bool = True,
+    numbered: list | None = None,
 ) -> Forecast:
     """Samples, pass table, per-pass outcomes and weekly totals of a study's candidates.
 
@@ -596,30 +607,30 @@ def forecast(
     and totals are the same either way.
     """
     names = _checked_candidates(study, candidates)
-    passes = pass_table(study)
+    numbered = numbered_passes(study) if numbered is None else numbered
+    passes = pass_table(study, numbered)
     if keep_samples:
-        samples = compute_samples(study, names, progress=progress)
-        outcomes = summarize_passes(samples, passes, study)
+        samples = compute_samples(study, names, progress=progress, numbered=numbered)
+        outcomes = summarize_passes(samples, passes, study.criteria, study.satellites)
     else:
         samples = _empty_samples()
-        outcomes = _summarized_in_batches(study, names, passes, progress)
-    days = float(study.scenario.window.days)
-    weekly = weekly_table(outcomes, days, candidates=names, satellites=[s.name for s in study.satellites])
-    return Forecast(samples=samples, passes=passes, outcomes=outcomes, weekly=weekly, days=days, criteria=study.scenario.criteria)
+        outcomes = _summarized_in_batches(study, names, passes, progress, numbered)
+    weekly = weekly_table(outcomes, study.days, candidates=names, satellites=[s.name for s in study.satellites])
+    return Forecast(samples=samples, passes=passes, outcomes=outcomes, weekly=weekly, days=study.days, criteria=study.criteria)
 
 
-def _summarized_in_batches(study, names: list[str], passes: pd.DataFrame, progress) -> pd.DataFrame:
+def _summarized_in_batches(study, names: list[str], passes: pd.DataFrame, progress, numbered: list) -> pd.DataFrame:
     """``summarize_passes`` over batches of satellites, in the order it gives for all at once."""
     parts, batch, batch_satellites, rows = [], [], [], 0
 
     def flush():
         samples = pd.concat(batch, ignore_index=True)
         mine = passes.loc[passes["satellite"].isin(batch_satellites)]
-        parts.append(summarize_passes(samples, mine, study))
+        parts.append(summarize_passes(samples, mine, study.criteria, study.satellites))
         batch.clear()
         batch_satellites.clear()
 
-    for satellite, frames in _sample_frames(study, names, progress):
+    for satellite, frames in _sample_frames(study, names, progress, numbered):
         batch.extend(frames.values())
         batch_satellites.append(satellite)
         rows += sum(len(frame) for frame in frames.values())

@@ -114,9 +114,10 @@ def score_candidates(outcomes: pd.DataFrame, objective: str, candidates: list[st
     return scores, schedules
 
 
-def feed_data_notes(study, candidates: list[str]) -> list[str]:
-    """One sentence naming the candidates charged no feed mismatch for lack of feed data (or none)."""
-    unmatched = [name for name in candidates if study.candidate(name).feed_vswr_source is None]
+def feed_data_notes(candidates) -> list[str]:
+    """One sentence naming the candidates (planner.study.Candidate) charged no feed mismatch for lack
+    of feed data (or none)."""
+    unmatched = [c.name for c in candidates if c.feed_vswr_source is None]
     if not unmatched:
         return []
     one = len(unmatched) == 1
@@ -131,8 +132,13 @@ def robustness_shifts_db(uncertainty_db: float) -> list[float]:
     return sorted({-2.0, 2.0, -float(uncertainty_db), float(uncertainty_db)} - {0.0})
 
 
-def recommend(forecast: Forecast, study) -> Recommendation:
-    criteria = study.scenario.criteria
+def recommend(forecast: Forecast, satellites, candidates) -> Recommendation:
+    """Rank the forecast's candidates and recommend one, with the reasons and the robustness check.
+
+    ``satellites`` are the satellites' configurations (their radio, for the re-scored shifts);
+    ``candidates`` maps each candidate's name to its planner.study.Candidate (for the feed notes).
+    """
+    criteria = forecast.criteria
     objective = criteria.objective
     ranking, schedules = score_candidates(forecast.outcomes, objective, forecast.candidates)
     if not ranking:
@@ -140,10 +146,10 @@ def recommend(forecast: Forecast, study) -> Recommendation:
     best = ranking[0]
     winners = {0.0: best.candidate}
     for shift in robustness_shifts_db(criteria.budget_uncertainty_db):
-        shifted = summarize_passes(forecast.samples, forecast.passes, study, margin_shift_db=shift)
+        shifted = summarize_passes(forecast.samples, forecast.passes, criteria, satellites, margin_shift_db=shift)
         winners[shift] = score_candidates(shifted, objective, forecast.candidates)[0][0].candidate
     robust = all(name == best.candidate for name in winners.values())
-    notes = feed_data_notes(study, list(forecast.candidates))
+    notes = feed_data_notes([candidates[name] for name in forecast.candidates])
     explanation = " ".join([explain(forecast, ranking, winners, objective, forecast.days), *notes])
     return Recommendation(
         recommended=best.candidate,

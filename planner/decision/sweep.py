@@ -17,7 +17,7 @@ import pandas as pd
 from scipy.constants import c as SPEED_OF_LIGHT_M_S
 
 from planner.errors import UserError
-from planner.decision.forecast import forecast
+from planner.decision.forecast import forecast, numbered_passes
 from planner.limits import SWEEP_POINTS_LIMIT, SWEEP_SECONDS_PER_POINT, format_seconds
 from planner.decision.recommend import score_candidates
 
@@ -133,40 +133,37 @@ def sweep_reflector(study, candidate_name: str, spacings_wavelengths, *, progres
     """Score the candidate at each reflector spacing (everything else in the scenario as it is)."""
     base = study.candidate(candidate_name)
     _builder_and_parameters(base.pattern)  # refuse early when the pattern cannot be rebuilt
-    cache = study.__dict__.setdefault("_candidates", {})
-    objective = study.scenario.criteria.objective
+    objective = study.criteria.objective
     rows, per_satellite = [], []
     wavelength_m = SPEED_OF_LIGHT_M_S / base.pattern.frequency_hz
-    try:
-        for index, spacing in enumerate(spacings_wavelengths, start=1):
-            cache[candidate_name] = replace(base, pattern=rebuild_at_spacing(base.pattern, float(spacing)))
-            result = forecast(study, [candidate_name])
-            score = score_candidates(result.outcomes, objective, [candidate_name])[0][0]
-            rows.append(
+    numbered = numbered_passes(study)  # the passes do not depend on the antenna: predicted once
+    for index, spacing in enumerate(spacings_wavelengths, start=1):
+        variant = study.with_candidate(replace(base, pattern=rebuild_at_spacing(base.pattern, float(spacing))))
+        result = forecast(variant, [candidate_name], numbered=numbered)
+        score = score_candidates(result.outcomes, objective, [candidate_name])[0][0]
+        rows.append(
+            {
+                "spacing_wavelengths": float(spacing),
+                "spacing_m": float(spacing) * wavelength_m,
+                "score": score.score,
+                "usable_minutes": score.usable_minutes,
+                "data_volume_mbit": score.data_volume_mbit,
+                "usable_passes": score.usable_passes,
+                "dropouts": score.dropouts,
+            }
+        )
+        weekly = result.weekly
+        for record in weekly.to_dict("records"):
+            per_satellite.append(
                 {
                     "spacing_wavelengths": float(spacing),
-                    "spacing_m": float(spacing) * wavelength_m,
-                    "score": score.score,
-                    "usable_minutes": score.usable_minutes,
-                    "data_volume_mbit": score.data_volume_mbit,
-                    "usable_passes": score.usable_passes,
-                    "dropouts": score.dropouts,
+                    "satellite": record["satellite"],
+                    "usable_minutes": record["usable_minutes"],
+                    "data_volume_mbit": record["data_volume_mbit"],
                 }
             )
-            weekly = result.weekly
-            for record in weekly.to_dict("records"):
-                per_satellite.append(
-                    {
-                        "spacing_wavelengths": float(spacing),
-                        "satellite": record["satellite"],
-                        "usable_minutes": record["usable_minutes"],
-                        "data_volume_mbit": record["data_volume_mbit"],
-                    }
-                )
-            if progress is not None:
-                progress(index, len(spacings_wavelengths))
-    finally:
-        cache[candidate_name] = base
+        if progress is not None:
+            progress(index, len(spacings_wavelengths))
     table = pd.DataFrame(rows)
     ordered = table.sort_values(["score", "usable_minutes"], ascending=False)
     best = float(ordered.iloc[0]["spacing_wavelengths"])

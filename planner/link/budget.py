@@ -190,7 +190,7 @@ def _pattern_name(pattern) -> str:
     return path.name if path else "(built in memory)"
 
 
-def check_pattern_frequency(study, candidate, sat, frequency_hz: float) -> None:
+def check_pattern_frequency(candidate, sat, frequency_hz: float, source: str = "scenario") -> None:
     """Warn beyond :data:`PATTERN_FREQUENCY_WARNING`, refuse beyond :data:`PATTERN_FREQUENCY_LIMIT` (see there)."""
     pattern = candidate.pattern
     offset = abs(frequency_hz / pattern.frequency_hz - 1.0)
@@ -202,7 +202,6 @@ def check_pattern_frequency(study, candidate, sat, frequency_hz: float) -> None:
         f"({100.0 * offset:.1f} % away)"
     )
     if offset > PATTERN_FREQUENCY_LIMIT:
-        source = study.scenario.source_path or "scenario"
         raise UserError(
             f"{source}: {said}; allowed: within {100 * PATTERN_FREQUENCY_LIMIT:g} % of the table's frequency "
             f"({pattern.frequency_hz * (1 - PATTERN_FREQUENCY_LIMIT) / 1e6:g} to "
@@ -223,27 +222,37 @@ def no_feed_data_note(candidate) -> str | None:
     )
 
 
-def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup:
-    """Fixed parts of the satellite -> station link for one candidate set-up."""
-    scenario = study.scenario
-    sat = study.satellite_config(satellite_name)
-    candidate = study.candidate(candidate_name)
-    receiver = scenario.receiver
+def candidate_antenna_noise(candidate, frequency_hz: float, receiver, station):
+    """The candidate antenna's noise temperature at this station (sky, ground, man-made), integrated
+    over its pattern: the costly part of a downlink set-up, shared by every satellite on one frequency."""
+    return antenna_noise_temperature_k(
+        candidate.pattern, frequency_hz, station.noise_environment,
+        ground_temperature_k=receiver.ground_temperature_k, altitude_m=station.altitude_m,
+    )
+
+
+def downlink_setup(sat, candidate, receiver, station, *, fade_percentile: float, source: str = "scenario",
+                   antenna_noise=None) -> LinkSetup:
+    """Fixed parts of the satellite -> station link for one candidate set-up.
+
+    ``sat`` is a satellite's configuration (planner.scenario.SatelliteConfig), ``candidate`` a
+    planner.study.Candidate, ``receiver`` the scenario's ReceiverConfig, ``station`` a
+    planner.passes.station.Station. ``antenna_noise`` may pass the result of
+    :func:`candidate_antenna_noise` for this candidate, frequency and station when the caller has it.
+    """
     frequency_hz = sat.downlink_frequency_hz
     pattern = candidate.pattern
-    check_pattern_frequency(study, candidate, sat, frequency_hz)
+    check_pattern_frequency(candidate, sat, frequency_hz, source)
     feedline_db = _station_line_loss_db(candidate.feedline, candidate.connectors, candidate.connector_loss_db, frequency_hz)
     pre_lna_db = _station_line_loss_db(
         candidate.pre_lna_feedline, candidate.pre_lna_connectors, candidate.connector_loss_db, frequency_hz
     ) + candidate.pre_lna_loss_db
     vswr = candidate.feed_vswr
     mismatch_db = 0.0 if vswr is None else float(mismatch_loss_db(vswr))
-    antenna_noise = _antenna_noise(
-        pattern, frequency_hz, study.station_config.noise_environment, receiver.ground_temperature_k, study.station.altitude_m
-    )
+    noise = antenna_noise if antenna_noise is not None else candidate_antenna_noise(candidate, frequency_hz, receiver, station)
     lna_position = candidate.lna_position or receiver.lna_position
     chain = receive_chain(
-        antenna_noise.total_k,
+        noise.total_k,
         feedline_loss_db=feedline_db,
         feedline_temperature_k=receiver.feedline_temperature_k,
         lna_noise_figure_db=None if lna_position == "none" else receiver.lna_noise_figure_db,
@@ -258,11 +267,11 @@ def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup
     parts = chain.breakdown
     # Each stage's share at the antenna terminals (Friis; after the mismatch divided by M).
     noise_terms = {
-        "antenna_sky_temperature_k": antenna_noise.sky_k,
-        "antenna_sky_atmosphere_k": antenna_noise.atmosphere_k,   # of the sky term: the atmosphere's emission
-        "antenna_ground_temperature_k": antenna_noise.ground_k,
-        "man_made_noise_temperature_k": antenna_noise.man_made_k,
-        "antenna_noise_temperature_k": antenna_noise.total_k,
+        "antenna_sky_temperature_k": noise.sky_k,
+        "antenna_sky_atmosphere_k": noise.atmosphere_k,   # of the sky term: the atmosphere's emission
+        "antenna_ground_temperature_k": noise.ground_k,
+        "man_made_noise_temperature_k": noise.man_made_k,
+        "antenna_noise_temperature_k": noise.total_k,
         "pre_lna_noise_k": parts["pre_lna"],
         "lna_noise_k": parts.get("lna", 0.0),
         "feedline_noise_k": parts["feedline"],
@@ -280,33 +289,32 @@ def downlink_setup(study, satellite_name: str, candidate_name: str) -> LinkSetup
         tx_antenna_gain_dbi=sat.antenna_gain_dbi,
         tx_line_loss_db=sat.line_loss_db,
         wave=WavePolarization(sat.polarization, sat.axial_ratio_db),
-        fade_percentile=scenario.criteria.fade_percentile,
-        altitude_m=study.station.altitude_m,
+        fade_percentile=fade_percentile,
+        altitude_m=station.altitude_m,
         **_threshold_terms(sat, required, theory, required_cn0),
         system_noise_temperature_k=chain.system_noise_temperature_k,
         noise_terms=noise_terms,
         feedline_loss_db=feedline_db,
         mismatch_loss_db=mismatch_db,
         pre_lna_loss_db=pre_lna_db,
-        antenna_noise_temperature_k=antenna_noise.total_k,
+        antenna_noise_temperature_k=noise.total_k,
         chain_noise_temperature_k=chain.chain_noise_temperature_k,
         notes=[note] if note else [],
         pattern=pattern,
     )
 
 
-def uplink_setup(study, satellite_name: str) -> LinkSetup:
-    """Fixed parts of the station -> satellite link (needs [transmitter] and uplink_mhz)."""
-    scenario = study.scenario
-    sat = study.satellite_config(satellite_name)
-    tx = scenario.transmitter
-    source = scenario.source_path or "scenario"
+def uplink_setup(sat, tx, runs, station, *, fade_percentile: float, source: str = "scenario") -> LinkSetup:
+    """Fixed parts of the station -> satellite link (needs [transmitter] and uplink_mhz).
+
+    ``tx`` is the scenario's TransmitterConfig (None: refused), ``runs`` its resolved feedline
+    ((Cable, length_m), ...), ``station`` the transmitting station.
+    """
     if tx is None:
         raise UserError(f"{source}: an uplink budget needs a [transmitter] table (power_w, antenna, feedline)")
     if sat.uplink_mhz is None:
         raise UserError(f"{source}: satellite {sat.name} has no uplink_mhz")
     frequency_hz = sat.uplink_frequency_hz
-    runs = study.feedline_runs(tx.feedline, "transmitter.feedline")
     line_db = _station_line_loss_db(runs, tx.connectors, tx.connector_loss_db, frequency_hz)
     tx_power_dbw = 10.0 * log10(tx.power_w)
     if sat.uplink_required_cn0_dbhz is not None:
@@ -337,8 +345,8 @@ def uplink_setup(study, satellite_name: str) -> LinkSetup:
         tx_antenna_gain_dbi=tx.antenna_gain_dbi,
         tx_line_loss_db=line_db,
         wave=WavePolarization(wave_kind, 0.0),
-        fade_percentile=scenario.criteria.fade_percentile,
-        altitude_m=study.station.altitude_m,
+        fade_percentile=fade_percentile,
+        altitude_m=station.altitude_m,
         **_threshold_terms(sat, required, theory, required_cn0),
         system_noise_temperature_k=sat.uplink_rx_noise_temperature_k,
         noise_terms={"satellite_receiver_temperature_k": sat.uplink_rx_noise_temperature_k},
@@ -346,23 +354,6 @@ def uplink_setup(study, satellite_name: str) -> LinkSetup:
         fixed_gain_rhcp_dbic=10.0 * log10(max(g_r, floor)),
         fixed_gain_lhcp_dbic=10.0 * log10(max(g_l, floor)),
     )
-
-
-_ANTENNA_NOISE: dict[tuple, tuple] = {}
-
-
-def _antenna_noise(pattern, frequency_hz, environment, ground_k, altitude_m):
-    """Antenna noise temperature, integrated once per pattern, frequency, station height and surroundings.
-
-    The cache keeps the pattern object alive beside its result, so its id cannot be reused.
-    """
-    key = (id(pattern), frequency_hz, environment, ground_k, altitude_m)
-    if key not in _ANTENNA_NOISE:
-        result = antenna_noise_temperature_k(
-            pattern, frequency_hz, environment, ground_temperature_k=ground_k, altitude_m=altitude_m
-        )
-        _ANTENNA_NOISE[key] = (pattern, result)
-    return _ANTENNA_NOISE[key][1]
 
 
 def _receive_gains(setup: LinkSetup, azimuth_deg, elevation_deg):

@@ -66,6 +66,7 @@ class Station:
     longitude_deg: float
     altitude_m: float = 0.0
     mask: HorizonMask = field(default_factory=lambda: HorizonMask.flat(0.0))
+    noise_environment: str = "rural"  # ITU-R P.372 man-made noise category of the surroundings
 
     @classmethod
     def from_config(cls, config) -> "Station":
@@ -76,6 +77,7 @@ class Station:
             longitude_deg=config.longitude_deg,
             altitude_m=config.altitude_m,
             mask=HorizonMask.from_points(config.horizon_mask),
+            noise_environment=config.noise_environment,
         )
 
     @property
