@@ -10,6 +10,7 @@ import numpy as np
 import pytest
 import scipy.constants
 
+from planner.constants import BOLTZMANN_DBW_PER_K_HZ
 from planner.link import noise
 from planner.errors import PlannerWarning, UserError
 
@@ -58,8 +59,8 @@ def test_noise_figure_to_temperature():
 def test_boltzmann_dbw():
     # CODATA 2018: k = 1.380649e-23 J/K exactly (scipy.constants); 10 log10 k = -228.60 dBW/K/Hz.
     assert scipy.constants.k == 1.380649e-23
-    assert noise.BOLTZMANN_DBW_K_HZ == pytest.approx(-228.60, abs=0.005)
-    assert noise.BOLTZMANN_DBW_K_HZ == pytest.approx(10 * math.log10(scipy.constants.k), abs=1e-12)
+    assert BOLTZMANN_DBW_PER_K_HZ == pytest.approx(-228.60, abs=0.005)
+    assert BOLTZMANN_DBW_PER_K_HZ == pytest.approx(10 * math.log10(scipy.constants.k), abs=1e-12)
 
 
 # --- ITU-R P.372 --------------------------------------------------------------------------

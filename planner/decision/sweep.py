@@ -14,8 +14,8 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 import pandas as pd
-from scipy.constants import c as SPEED_OF_LIGHT_M_S
 
+from planner.constants import SPEED_OF_LIGHT_M_S
 from planner.errors import UserError
 from planner.decision.forecast import forecast, numbered_passes
 from planner.limits import SWEEP_POINTS_LIMIT, SWEEP_SECONDS_PER_POINT, format_seconds

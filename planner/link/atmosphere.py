@@ -61,6 +61,7 @@ from functools import lru_cache
 import numpy as np
 from scipy.interpolate import CubicSpline
 
+from planner.constants import EARTH_MEAN_RADIUS_KM
 from planner.errors import UserError
 
 MIN_ELEVATION_DEG = 0.5
@@ -119,7 +120,7 @@ def _slant_path_loss_db(frequency_ghz: float, elevation_deg: np.ndarray, station
         itu453.radio_refractive_index(pressure_hpa, vapour_pressure_hpa, temperature_k).value, dtype=float
     )
     index_ratio = refractive_index / np.append(refractive_index[1:], refractive_index[-1])
-    radius_km = 6371.0 + height_km
+    radius_km = EARTH_MEAN_RADIUS_KM + height_km
 
     # beta: angle of the ray from the local vertical at the bottom of each layer.
     beta = np.pi / 2.0 - np.deg2rad(np.asarray(elevation_deg, dtype=float))

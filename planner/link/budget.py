@@ -45,17 +45,15 @@ from math import log10, pi
 
 import numpy as np
 import pandas as pd
-from scipy.constants import Boltzmann, c as SPEED_OF_LIGHT_M_S
 
 from planner.link.atmosphere import gaseous_loss_db
+from planner.constants import BOLTZMANN_DBW_PER_K_HZ, EARTH_EQUATORIAL_RADIUS_KM, SPEED_OF_LIGHT_M_S
 from planner.errors import UserError, warn
 from planner.link.feedline import cable_loss_db, mismatch_loss_db
 from planner.link.modem import required_ebn0_db
 from planner.link.noise import antenna_noise_temperature_k, receive_chain
 from planner.link.polarization import WavePolarization, polarization_loss_db
 
-BOLTZMANN_DBW_PER_K_HZ = 10.0 * log10(Boltzmann)
-EARTH_RADIUS_KM = 6378.137
 MU_EARTH_KM3_S2 = 398600.4418
 
 # How far a pattern table may be used from its own frequency, as |f / f_table - 1|. A table
@@ -109,7 +107,7 @@ def orbit_radii_km(satrec) -> tuple[float, float, float]:
 
 def mean_height_km(satrec) -> float:
     """Height of the orbit's semi-major axis above the equatorial radius (km)."""
-    return orbit_radii_km(satrec)[1] - EARTH_RADIUS_KM
+    return orbit_radii_km(satrec)[1] - EARTH_EQUATORIAL_RADIUS_KM
 
 
 def slant_range_limits_km(satrec, station, elevation_deg: float, azimuth_deg: float = 0.0) -> tuple[float, float]:

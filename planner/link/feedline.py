@@ -33,9 +33,9 @@ from dataclasses import dataclass
 from typing import Iterable, Mapping, Sequence
 
 import numpy as np
-from scipy.constants import c as SPEED_OF_LIGHT_M_S
 from scipy.optimize import nnls
 
+from planner.constants import SPEED_OF_LIGHT_M_S
 from planner.errors import UserError, warn
 
 CONNECTOR_LOSS_DB = 0.1

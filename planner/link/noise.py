@@ -62,13 +62,11 @@ Feed mismatch
 
 from __future__ import annotations
 
-import math
 import re
 from dataclasses import dataclass, field
 from typing import Sequence
 
 import numpy as np
-from scipy.constants import k as BOLTZMANN_J_K
 
 from planner.errors import UserError, warn
 from planner.link.feedline import line_noise_temperature_k
@@ -76,8 +74,6 @@ from planner.link.feedline import line_noise_temperature_k
 T0_K = 290.0
 """Standard reference temperature for noise figure (IEEE)."""
 
-BOLTZMANN_DBW_K_HZ = 10.0 * math.log10(BOLTZMANN_J_K)
-"""Boltzmann's constant in dBW/K/Hz (CODATA 2018 exact k = 1.380649e-23 J/K): -228.60."""
 
 CMB_K = 2.725
 """Cosmic microwave background temperature (Fixsen 2009)."""
