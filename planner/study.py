@@ -159,7 +159,7 @@ class Study:
 
     def at_station(self, name: str) -> "Study":
         """The same study seen from another station of the scenario."""
-        site = self.scenario.station_named(name)
+        site = self.config.station_named(name)
         return replace(self, station=Station.from_config(site), station_config=site)
 
     def with_candidate(self, candidate: Candidate) -> "Study":
@@ -169,13 +169,20 @@ class Study:
     # ------------------------------------------------------------------ names, resolved at the edge
 
     @property
+    def config(self) -> Scenario:
+        """The scenario this study was made from; a study of targets alone (the quick look) has none."""
+        if self.scenario is None:
+            raise UserError("this needs a scenario file: the quick look has no receiver, candidates or criteria")
+        return self.scenario
+
+    @property
     def source(self) -> str:
         """The scenario file's path for messages ("scenario" when built in code)."""
         return str(self.scenario.source_path) if self.scenario is not None and self.scenario.source_path else "scenario"
 
     @property
     def station_names(self) -> list[str]:
-        return [s.name for s in self.scenario.stations]
+        return [s.name for s in self.config.stations]
 
     @property
     def candidate_names(self) -> list[str]:
@@ -183,15 +190,15 @@ class Study:
 
     @property
     def receiver(self) -> ReceiverConfig:
-        return self.scenario.receiver
+        return self.config.receiver
 
     @property
     def criteria(self) -> CriteriaConfig:
-        return self.scenario.criteria
+        return self.config.criteria
 
     @property
     def days(self) -> float:
-        return float(self.scenario.window.days)
+        return float(self.config.window.days)
 
     def satellite_config(self, name: str) -> SatelliteConfig:
         """A target's radio configuration by name or catalog number (scenario or catalog)."""
@@ -220,7 +227,7 @@ class Study:
         """The fixed part of the uplink budget of a satellite, by name (needs a [transmitter])."""
         from planner.link.budget import uplink_setup
 
-        return uplink_setup(self.satellite_config(satellite), self.scenario.transmitter, self.transmitter_feedline,
+        return uplink_setup(self.satellite_config(satellite), self.config.transmitter, self.transmitter_feedline,
                             self.station, fade_percentile=self.criteria.fade_percentile, source=self.source)
 
     def passes(self) -> list[Pass]:
@@ -277,6 +284,7 @@ def _catalog_targets(scenario: Scenario, taken_ids: set[int]) -> tuple[list[Targ
     of an object wins; names are made unique with the catalog number.
     """
     catalog = scenario.catalog
+    assert catalog is not None, "called for a scenario with a [catalog] table"
     element_sets = read_elements(catalog.elements)
     latest: dict[int, ElementSet] = {}
     for element_set in element_sets:

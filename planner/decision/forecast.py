@@ -42,7 +42,7 @@ import numpy as np
 import pandas as pd
 
 from planner.link.budget import candidate_antenna_noise, downlink_setup, evaluate
-from planner.passes import joined_time_s
+from planner.passes import Pass, joined_time_s
 from planner.scenario import CriteriaConfig
 
 ELEVATION_BANDS_DEG = ((0, 10), (10, 30), (30, 60), (60, 90))
@@ -75,7 +75,7 @@ _KEYS = ["candidate", "satellite", "pass_number"]
 # ---------------------------------------------------------------------------- passes
 
 
-def numbered_passes(study) -> list[tuple[int, object]]:
+def numbered_passes(study) -> list[tuple[int, Pass]]:
     """(pass_number, Pass) of the study's targets in AOS order; the number counts from 1 per satellite.
 
     A caller that forecasts the same study several times (the reflector sweep) predicts them
@@ -159,7 +159,7 @@ def _empty_samples() -> pd.DataFrame:
     return frame
 
 
-def _satellite_tracks(mine: list[tuple[int, object]]) -> tuple:
+def _satellite_tracks(mine: list[tuple[int, Pass]]) -> tuple:
     """One satellite's passes as flat float64 arrays: (pass_number, time_s, dt_s, azimuth, elevation, range)."""
     lengths = np.array([len(p.track) for _, p in mine])
     time_s = joined_time_s([p.track for _, p in mine])
@@ -183,7 +183,7 @@ def _sample_frames(study, names: list[str], progress: Callable[[int, int], None]
     one satellite's samples beyond what the caller keeps.
     """
     satellites = [s.name for s in study.satellites]
-    by_satellite: dict[str, list[tuple[int, object]]] = {}
+    by_satellite: dict[str, list[tuple[int, Pass]]] = {}
     for number, a_pass in numbered:
         by_satellite.setdefault(a_pass.satellite, []).append((number, a_pass))
     total = len(names) * len(satellites)
@@ -621,7 +621,10 @@ def forecast(
 
 def _summarized_in_batches(study, names: list[str], passes: pd.DataFrame, progress, numbered: list) -> pd.DataFrame:
     """``summarize_passes`` over batches of satellites, in the order it gives for all at once."""
-    parts, batch, batch_satellites, rows = [], [], [], 0
+    parts: list[pd.DataFrame] = []
+    batch: list[pd.DataFrame] = []
+    batch_satellites: list[str] = []
+    rows = 0
 
     def flush():
         samples = pd.concat(batch, ignore_index=True)

@@ -43,6 +43,8 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from math import log10, pi
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 import pandas as pd
 
@@ -52,7 +54,10 @@ from planner.errors import UserError, warn
 from planner.link.feedline import cable_loss_db, mismatch_loss_db
 from planner.link.modem import required_ebn0_db
 from planner.link.noise import antenna_noise_temperature_k, receive_chain
-from planner.link.polarization import WavePolarization, polarization_loss_db
+from planner.link.polarization import WaveKind, WavePolarization, polarization_loss_db
+
+if TYPE_CHECKING:
+    from planner.antenna import PatternTable
 
 MU_EARTH_KM3_S2 = 398600.4418
 
@@ -154,7 +159,7 @@ class LinkSetup:
     chain_noise_temperature_k: float | None = None     # T_chain / M at the antenna terminals (downlink)
     notes: list[str] = field(default_factory=list)      # what the ladder must say (no feed data...)
     # Receiving antenna: a pattern table (downlink) or a fixed gain and polarization (uplink).
-    pattern: object | None = None
+    pattern: "PatternTable | None" = None
     fixed_gain_rhcp_dbic: float | None = None
     fixed_gain_lhcp_dbic: float | None = None
 
@@ -329,7 +334,7 @@ def uplink_setup(sat, tx, runs, station, *, fade_percentile: float, source: str 
         g_r = g_l = gain_lin / 2.0
     # Reciprocity: the mismatch is symmetric, so the station's (fixed) polarization is the
     # "wave" and a tumbling satellite antenna is a random tilt, as for the downlink.
-    wave_kind = {"rhcp": "rhcp", "lhcp": "lhcp", "linear": "linear"}[tx.polarization]
+    wave_kind: WaveKind = tx.polarization
     if tx.polarization == "linear" and sat.uplink_rx_polarization == "linear-tumbling":
         wave_kind = "linear-tumbling"
     floor = 1e-6

@@ -113,7 +113,7 @@ CATALOG_POINTS: dict[str, dict] = {
 }
 
 
-def fit_attenuation(points: Sequence[Sequence[float]]) -> tuple[float, float]:
+def fit_attenuation(points: Sequence[Sequence[float]] | np.ndarray) -> tuple[float, float]:
     """(k1, k2) >= 0 fitting loss = k1 sqrt(f_MHz) + k2 f_MHz to [(f_MHz, dB/100 m), ...].
 
     Non-negative least squares on the relative error, so low-frequency points weigh as much

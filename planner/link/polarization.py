@@ -116,7 +116,8 @@ def axial_ratio_db_to_tau(axial_ratio_db: ArrayLike, sense: ArrayLike) -> tuple[
     denominator = 1.0 + t * t
     sin2tau = sign * 2.0 * t / denominator
     cos2tau = (1.0 - t * t) / denominator
-    return np.broadcast_arrays(sin2tau, cos2tau)
+    sin2tau, cos2tau = np.broadcast_arrays(sin2tau, cos2tau)
+    return sin2tau, cos2tau
 
 
 def tau_from_partial_gains(
@@ -136,7 +137,8 @@ def tau_from_partial_gains(
     sin2tau = np.tanh(u)
     e = np.exp(-np.abs(u))                      # in [0, 1], 0 for an infinite ratio
     cos2tau = 2.0 * e / (1.0 + e * e)
-    return np.broadcast_arrays(sin2tau, cos2tau)
+    sin2tau, cos2tau = np.broadcast_arrays(sin2tau, cos2tau)
+    return sin2tau, cos2tau
 
 
 def efficiency(

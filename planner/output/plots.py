@@ -28,7 +28,7 @@ import os
 import sys
 from io import BytesIO
 from pathlib import Path
-from typing import Any, Mapping, Sequence
+from typing import Any, Mapping, Sequence, cast
 
 import matplotlib
 
@@ -42,6 +42,7 @@ if "matplotlib.pyplot" not in sys.modules and not os.environ.get("MPLBACKEND"):
 import numpy as np
 import pandas as pd
 from matplotlib import patheffects
+from matplotlib.artist import Artist
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.cm import ScalarMappable
 from matplotlib.collections import LineCollection
@@ -49,6 +50,7 @@ from matplotlib.colors import Normalize, to_rgb
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, Rectangle
+from matplotlib.projections.polar import PolarAxes
 
 from planner.fileio import REPLACE_ANY, WriteRules, write_atomically
 
@@ -200,7 +202,7 @@ def sky_chart(
     the pass number at each track's highest point (default: when there are <= 12 tracks).
     """
     fig = _new_figure((8.0, 6.5))
-    ax = fig.add_subplot(projection="polar")
+    ax = cast(PolarAxes, fig.add_subplot(projection="polar"))
     ax.set_theta_zero_location("N")
     ax.set_theta_direction(-1)
     ax.set_rlim(0.0, 90.0)
@@ -270,10 +272,10 @@ def sky_chart(
             segs = np.concatenate(segments)
             mids = np.concatenate(seg_margin)
             widths = np.where(mids >= min_margin_db, 3.2, 1.0)
-            lc = LineCollection(segs, cmap=MARGIN_CMAP, norm=norm, linewidths=widths, capstyle="round", zorder=3)
+            lc = LineCollection(list(segs), cmap=MARGIN_CMAP, norm=norm, linewidths=widths, capstyle="round", zorder=3)
             lc.set_array(mids)
             ax.add_collection(lc)
-        handles = [
+        handles: list[Artist] = [
             Line2D([], [], color="#555555", linewidth=3.2, label=f"margin ≥ {_fmt_db(min_margin_db)} dB"),
             Line2D([], [], color="#555555", linewidth=1.0, label=f"margin < {_fmt_db(min_margin_db)} dB"),
             Line2D([], [], marker="o", markersize=4, markerfacecolor="white", markeredgecolor="#222222",
