@@ -1,4 +1,7 @@
-"""The link budget: published values, a budget recomputed by hand, the command and bad input."""
+"""The link budget: published values, a budget recomputed by hand, the command and bad input.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 

@@ -1,6 +1,9 @@
 """Trimming, harness and matching-section design (planner.antenna.synth.design) against Pozar's matching
 formulas (Microwave Engineering, sec. 2.5 and 5.1), Balanis' dipole resonance (Antenna Theory,
-ch. 4 and 8), the phase-error formula of planner.antenna.harness (Stutzman) and facts of the trade."""
+ch. 4 and 8), the phase-error formula of planner.antenna.harness (Stutzman) and facts of the trade.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 

@@ -1,4 +1,7 @@
-"""Feedline checks against handbook formulas (Pozar, Microwave Engineering) and trade values."""
+"""Feedline checks against handbook formulas (Pozar, Microwave Engineering) and trade values.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 

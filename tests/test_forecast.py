@@ -2,6 +2,8 @@
 
 Synthetic margin series check the window arithmetic against crossings worked out by hand; the
 demo scenario, shortened to one day, checks the bookkeeping on real passes and budgets.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations

@@ -1,7 +1,10 @@
 """Phasing-harness arithmetic (planner.antenna.harness) against hand calculations, the polarization
 ellipse traced independently (Born & Wolf, Principles of Optics, sec. 1.4; Stutzman, Polarization
 in Electromagnetic Systems), Stutzman's polarization efficiency and Pozar's line
-formulas (Microwave Engineering)."""
+formulas (Microwave Engineering).
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 

@@ -1,4 +1,7 @@
-"""Noise checks: noise figure/temperature, CODATA k, ITU-R P.372, antenna temperature, Friis."""
+"""Noise checks: noise figure/temperature, CODATA k, ITU-R P.372, antenna temperature, Friis.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 

@@ -11,6 +11,8 @@ External references used here:
 * CCSDS 502.0-B Orbit Data Messages (OMM keywords, NDM/XML layout).
 * Kepler's third law T = 2 pi sqrt(a^3 / mu) (Vallado, Fundamentals of Astrodynamics and
   Applications).
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations

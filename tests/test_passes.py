@@ -1,4 +1,7 @@
-"""Pass prediction checked against skyfield and against textbook geometry."""
+"""Pass prediction checked against skyfield and against textbook geometry.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 

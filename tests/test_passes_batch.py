@@ -1,5 +1,8 @@
 """The batch pass engine (chunks of satellites, one SGP4 call per chunk, interpolated
-refinement, worker processes) checked against skyfield and against SGP4 itself."""
+refinement, worker processes) checked against skyfield and against SGP4 itself.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 

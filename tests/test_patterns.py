@@ -15,6 +15,8 @@ External facts the checks rest on, each repeated beside its check:
 - IEEE Std 145 polarization sense; Stutzman, Polarization in Electromagnetic Systems: axial ratio
   from the circular components, AR = (|E_R| + |E_L|)/| |E_R| - |E_L| |, tan(tau) = 1/AR with
   sin(2 tau) = (G_R - G_L)/(G_R + G_L).
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations

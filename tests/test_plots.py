@@ -13,6 +13,8 @@ External facts the checks rest on, each repeated beside its check:
 - SVG documents have an <svg> root element (W3C SVG 1.1).
 - Geometry of a pass (for the synthetic data only): a circular orbit around a spherical Earth of
   radius 6371 km seen from a point on its surface (plain vector geometry).
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations

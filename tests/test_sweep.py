@@ -1,4 +1,7 @@
-"""The reflector-placement sweep: spacing parsing, rebuilding, scoring and the command."""
+"""The reflector-placement sweep: spacing parsing, rebuilding, scoring and the command.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 
