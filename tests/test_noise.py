@@ -17,7 +17,7 @@ from planner.link import noise
 from planner.errors import PlannerWarning, UserError
 
 MHZ = 1e6
-FLOOR_DBIC = -60.0  # "no field" floor of the pattern tables (ISSUE3_INTERFACES, GAIN_FLOOR_DBIC)
+FLOOR_DBIC = -60.0  # "no field" floor of the pattern tables (planner.antenna GAIN_FLOOR_DBIC)
 
 
 @dataclass

@@ -134,9 +134,9 @@ def test_slant_range_against_spherical_geometry(tmp_path):
         assert look.range_km[0] == pytest.approx(expected, rel=0.005)
 
 
-def test_slant_range_helper_against_independent_geometry():
-    # The helper above (SMAD's closed form) against geometry derived another way, so a slip in
-    # the helper cannot hide in test_slant_range_against_spherical_geometry.
+def test_slant_range_formula_against_independent_geometry():
+    # The function above (SMAD's closed form) against geometry derived another way, so a slip in
+    # it cannot hide in test_slant_range_against_spherical_geometry.
     # R = 6378.137 km (WGS84 equatorial radius), h = 500 km.
     radius_km, height_km = 6378.137, 500.0
     # 0 deg: the line of sight is tangent to the sphere, a right angle at the station

@@ -379,7 +379,7 @@ def test_axial_ratio_and_sense_from_partial_gains():
     st.floats(min_value=0.0, max_value=1.0),
 )
 def test_axial_ratio_agrees_with_ellipticity_angle(gain_r, fraction):
-    # Stutzman / ISSUE interfaces: sin 2 tau = (G_R - G_L)/(G_R + G_L), |AR| = 1/tan|tau|.
+    # Stutzman: sin 2 tau = (G_R - G_L)/(G_R + G_L), |AR| = 1/tan|tau|.
     gain_l = gain_r * fraction
     tau = 0.5 * math.asin((gain_r - gain_l) / (gain_r + gain_l))
     expected = min(20 * math.log10(1 / math.tan(abs(tau))) if tau != 0 else math.inf, P.AXIAL_RATIO_CAP_DB)
