@@ -1,4 +1,7 @@
-"""Gaseous slant-path loss against the itur reference implementation of ITU-R P.676."""
+"""Gaseous slant-path loss against the itur reference implementation of ITU-R P.676.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 

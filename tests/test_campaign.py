@@ -14,6 +14,8 @@ a file whatever path or link leads to it (a hard link shares the inode; a symbol
 followed), which is what the refusal compares. CSV cells that a spreadsheet would run as a
 formula are neutralised as OWASP's "CSV Injection" guidance describes (a leading apostrophe,
 RFC 4180 quoting).
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations

@@ -1,4 +1,7 @@
-"""The `planner passes` command end to end: contracts, quick-look mode and bad input."""
+"""The `planner passes` command end to end: contracts, quick-look mode and bad input.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 

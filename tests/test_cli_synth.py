@@ -1,4 +1,7 @@
-"""The wire-geometry commands end to end: pattern build/show, harness, sweep on a solver pattern."""
+"""The wire-geometry commands end to end: pattern build/show, harness, sweep on a solver pattern.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 

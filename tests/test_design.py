@@ -1,6 +1,9 @@
 """Trimming, harness and matching-section design (planner.antenna.synth.design) against Pozar's matching
 formulas (Microwave Engineering, sec. 2.5 and 5.1), Balanis' dipole resonance (Antenna Theory,
-ch. 4 and 8), the phase-error formula of planner.antenna.harness (Stutzman) and facts of the trade."""
+ch. 4 and 8), the phase-error formula of planner.antenna.harness (Stutzman) and facts of the trade.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 
@@ -97,7 +100,7 @@ def test_l_network_reproduces_pozars_worked_example():
 
 @pytest.mark.parametrize("load", [200.0 - 100.0j, 24.9 + 0.02j, 12.0 - 30.0j, 80.0 + 60.0j])
 def test_solved_l_network_brings_the_load_to_50_ohm(load):
-    # The brief's check: within 1 % of 50 ohm, with the network solved as a circuit (Pozar sec. 5.1).
+    # The design target: within 1 % of 50 ohm, with the network solved as a circuit (Pozar sec. 5.1).
     section = design.l_network(load, F_HZ)
     assert abs(section.input_impedance_ohm - 50.0) < 0.5
     assert section.vswr < 1.01
@@ -188,7 +191,7 @@ def _zenith_ratio(harness, voltages):
 
 
 def test_designed_harness_for_trimmed_tall_loops_is_circular_and_matched(tall_loops):
-    # The brief's figures: zenith axial ratio under 1 dB, feed VSWR at most 2.
+    # The design targets: zenith axial ratio under 1 dB, feed VSWR at most 2.
     trim, harness = tall_loops
     assert harness.state.axial_ratio_db < 1.0
     assert harness.state.vswr <= 2.0

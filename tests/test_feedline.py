@@ -1,4 +1,7 @@
-"""Feedline checks against handbook formulas (Pozar, Microwave Engineering) and trade values."""
+"""Feedline checks against handbook formulas (Pozar, Microwave Engineering) and trade values.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 
@@ -29,7 +32,8 @@ def test_catalog_near_400_mhz_matches_references(name, expected_db_per_100m):
 def test_catalog_fit_reproduces_its_own_points():
     # The fit k1 sqrt(f) + k2 f (conductor + dielectric loss) is the usual two-term cable
     # model; on the recalled datasheet-typical points it must stay within 15 % everywhere
-    # (well inside the +/-25 % of the recall), and k1, k2 are non-negative.
+    # (well inside the +/-25 % of the recall), and k1, k2 are non-negative. Consistency check:
+    # the points are the module's own recalled values; the outside comparison is the test above.
     for name, spec in fl.CATALOG_POINTS.items():
         cable = fl.CABLES[name]
         assert cable.k1_db_per_100m_sqrt_mhz >= 0 and cable.k2_db_per_100m_per_mhz >= 0

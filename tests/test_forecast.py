@@ -2,6 +2,8 @@
 
 Synthetic margin series check the window arithmetic against crossings worked out by hand; the
 demo scenario, shortened to one day, checks the bookkeeping on real passes and budgets.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations
@@ -207,6 +209,8 @@ def test_dt_sums_to_duration_and_every_pass_for_every_candidate(day, study):
 def test_samples_match_the_per_pass_budget(day, study):
     # compute_samples evaluates each (candidate, satellite) budget over all samples at once; it
     # must equal planner.link.budget.pass_budget run pass by pass (the budget is per sample).
+    # Consistency check, no outside value: two paths through the code must agree; the budget
+    # itself is checked against published formulas in test_budget.py.
     passes = study.passes()
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", PlannerWarning)

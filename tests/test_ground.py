@@ -5,6 +5,8 @@ reflection coefficients for horizontal and vertical polarization, the Brewster a
 Microwave Engineering, ch. 1 (plane-wave reflection at normal incidence); ITU-R P.527-3 and
 ITU-R P.2040 Table 3 (ground constants); Kirchhoff's law of thermal radiation (emissivity =
 1 - reflectivity; e.g. Ulaby, Moore and Fung, Microwave Remote Sensing, vol. 1, ch. 4).
+
+Full citations: docs/references.md, with the values not yet checked against the published text.
 """
 
 from __future__ import annotations

@@ -22,6 +22,8 @@ What is checked, and against what:
 
 Every orbit here is invented (tests/orbit_factory.make_tle). Windows are a day or less.
 Set PLANNER_FUZZ_EXAMPLES=500 for a longer hunt than the default 15 examples a format.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations

@@ -16,6 +16,8 @@ What is checked, and against what:
 * The legitimate values still pass: the shipped defaults, a 1 deg grid, the demo scenario's window,
   a 10,000-object week.
 The limits' figures themselves are common practice, no published source (see planner/limits.py).
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations

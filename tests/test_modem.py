@@ -8,6 +8,8 @@ External references used here:
   Commun. 1981, via Rappaport, *Wireless Communications*: Pb = Q(sqrt(2 alpha Eb/N0)),
   alpha = 0.68 at BT = 0.25, 0.85 at BT = infinity (from memory).
 * scipy.stats.norm as the reference implementation of the Gaussian tail.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations

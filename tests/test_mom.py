@@ -3,6 +3,8 @@
 Sources: Balanis, Antenna Theory: Analysis and Design (ch. 2, 4);
 Harrington, Field Computation by Moment Methods (1968) for the method; circuit theory for loads
 and ports; IEEE Std 145 for the sense of circular polarization.
+
+Full citations: docs/references.md, with the values not yet checked against the published text.
 """
 
 from __future__ import annotations

@@ -1,4 +1,7 @@
-"""Pass prediction checked against skyfield and against textbook geometry."""
+"""Pass prediction checked against skyfield and against textbook geometry.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 
@@ -131,11 +134,27 @@ def test_slant_range_against_spherical_geometry(tmp_path):
         assert look.range_km[0] == pytest.approx(expected, rel=0.005)
 
 
-def test_reference_slant_ranges():
-    # Worked values from the same formula (R = 6378.137 km, h = 500 km).
-    assert slant_range_km(6378.137, 500, 0) == pytest.approx(2574.5, abs=0.1)
-    assert slant_range_km(6378.137, 500, 10) == pytest.approx(1695.1, abs=0.1)
-    assert slant_range_km(6378.137, 500, 90) == pytest.approx(500.0, abs=1e-9)
+def test_slant_range_formula_against_independent_geometry():
+    # The function above (SMAD's closed form) against geometry derived another way, so a slip in
+    # it cannot hide in test_slant_range_against_spherical_geometry.
+    # R = 6378.137 km (WGS84 equatorial radius), h = 500 km.
+    radius_km, height_km = 6378.137, 500.0
+    # 0 deg: the line of sight is tangent to the sphere, a right angle at the station
+    # (Pythagoras): d = sqrt((R + h)^2 - R^2) = sqrt(h (2R + h)) = sqrt(500 * 13256.274)
+    # = sqrt(6628137) = 2574.52 km, worked by hand.
+    assert slant_range_km(radius_km, height_km, 0) == pytest.approx(2574.52, abs=0.01)
+    assert slant_range_km(radius_km, height_km, 0) == pytest.approx(sqrt(height_km * (2 * radius_km + height_km)), rel=1e-12)
+    # 10 deg: Earth-geometry triangle of Wertz & Larson, SMAD (ch. 5, from memory): nadir angle eta from
+    # sin eta = R cos E / (R + h), Earth central angle lambda = 90 deg - E - eta, then the law of
+    # cosines d^2 = R^2 + (R + h)^2 - 2 R (R + h) cos lambda: 1695.09 km.
+    e = radians(10.0)
+    eta = np.arcsin(radius_km * cos(e) / (radius_km + height_km))
+    central = np.pi / 2 - e - eta
+    by_cosines = sqrt(radius_km**2 + (radius_km + height_km) ** 2 - 2 * radius_km * (radius_km + height_km) * cos(central))
+    assert by_cosines == pytest.approx(1695.09, abs=0.01)
+    assert slant_range_km(radius_km, height_km, 10) == pytest.approx(by_cosines, rel=1e-9)
+    # 90 deg: straight up the range is the height.
+    assert slant_range_km(radius_km, height_km, 90) == pytest.approx(height_km, abs=1e-9)
 
 
 def test_doppler_sign_and_leo_peak(element_sets):

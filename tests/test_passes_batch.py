@@ -1,5 +1,8 @@
 """The batch pass engine (chunks of satellites, one SGP4 call per chunk, interpolated
-refinement, worker processes) checked against skyfield and against SGP4 itself."""
+refinement, worker processes) checked against skyfield and against SGP4 itself.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 
@@ -308,7 +311,7 @@ def test_grid_filter_keeps_every_sample_near_the_mask(catalog):
 
 
 def test_chunks_stay_under_the_memory_budget(catalog):
-    # Issue requirement: peak memory bounded whatever the catalog size.  Every chunk's
+    # Requirement: peak memory bounded whatever the catalog size.  Every chunk's
     # SGP4 output (r, v float64 and the error byte per satellite and grid time) stays
     # under 150 MB, and every chunk shares one grid step.
     satrecs = [e.satrec for e in catalog] * 20          # 6000 satellites

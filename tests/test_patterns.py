@@ -15,6 +15,8 @@ External facts the checks rest on, each repeated beside its check:
 - IEEE Std 145 polarization sense; Stutzman, Polarization in Electromagnetic Systems: axial ratio
   from the circular components, AR = (|E_R| + |E_L|)/| |E_R| - |E_L| |, tan(tau) = 1/AR with
   sin(2 tau) = (G_R - G_L)/(G_R + G_L).
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations
@@ -377,7 +379,7 @@ def test_axial_ratio_and_sense_from_partial_gains():
     st.floats(min_value=0.0, max_value=1.0),
 )
 def test_axial_ratio_agrees_with_ellipticity_angle(gain_r, fraction):
-    # Stutzman / ISSUE interfaces: sin 2 tau = (G_R - G_L)/(G_R + G_L), |AR| = 1/tan|tau|.
+    # Stutzman: sin 2 tau = (G_R - G_L)/(G_R + G_L), |AR| = 1/tan|tau|.
     gain_l = gain_r * fraction
     tau = 0.5 * math.asin((gain_r - gain_l) / (gain_r + gain_l))
     expected = min(20 * math.log10(1 / math.tan(abs(tau))) if tau != 0 else math.inf, P.AXIAL_RATIO_CAP_DB)

@@ -13,6 +13,8 @@ External facts the checks rest on, each repeated beside its check:
 - SVG documents have an <svg> root element (W3C SVG 1.1).
 - Geometry of a pass (for the synthetic data only): a circular orbit around a spherical Earth of
   radius 6371 km seen from a point on its surface (plain vector geometry).
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations
@@ -260,12 +262,14 @@ def test_sky_chart_with_horizon_mask(samples):
     assert len(ax.collections) >= 2  # mask shading + tracks
 
 
-def test_elevation_cuts_labels_and_values(tables):
+def test_elevation_cuts_labels_and_consistency_with_the_table(tables):
     fig = plots.elevation_cuts(tables, azimuth_deg=0.0)
     assert_axes_labelled(fig)
     ax_r, ax_l = fig.axes[:2]
     assert "RHCP" in ax_r.get_title() and "LHCP" in ax_l.get_title()
-    # the plotted curve is the table's own interpolation
+    # Consistency check, no outside value: the plotted curve is the table's own interpolation (the
+    # closed-form turnstile itself is checked against Balanis in test_patterns.py); the outside
+    # check of this figure is the zenith maximum below.
     line = ax_r.get_lines()[0]
     name = line.get_label()
     x, y = line.get_xdata(), line.get_ydata()
@@ -291,11 +295,13 @@ def test_pass_margins(samples):
     assert threshold and np.allclose(threshold[0].get_ydata(), 3.0)
 
 
-def test_usable_minutes_bars(weekly):
+def test_usable_minutes_bars_consistency_with_their_input(weekly):
     fig = plots.usable_minutes_bars(weekly)
     assert_axes_labelled(fig, categorical_x="satellite")
     ax = fig.axes[0]
     assert "(min/day)" in ax.get_ylabel()
+    # Consistency check, no outside value: the bars are the frame they were given (the usable
+    # minutes themselves are checked against hand-worked windows in test_forecast.py).
     heights = sorted(round(p.get_height(), 9) for p in ax.patches)
     assert heights == sorted(round(v, 9) for v in weekly["usable_minutes_per_day"])
     assert [t.get_text() for t in ax.get_xticklabels()] == ["DEMOSAT-A", "DEMOSAT-B"]
@@ -307,6 +313,7 @@ def test_margin_by_band(samples):
     ax = fig.axes[0]
     assert [t.get_text() for t in ax.get_xticklabels()] == ["0-10", "10-30", "30-60", "60-90"]
     # the median line of the first candidate's first box is the median of its 0-10 deg samples
+    # (numpy.median of the figure's input: a consistency check, no outside value)
     first = samples[(samples["candidate"] == "quarter-wave reflector") & (samples["elevation_deg"] < 10.0)]
     medians = [l for l in ax.get_lines() if len(l.get_ydata()) == 2 and l.get_ydata()[0] == l.get_ydata()[1]]
     assert any(np.isclose(l.get_ydata()[0], np.median(first["margin_db"])) for l in medians)

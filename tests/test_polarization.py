@@ -10,6 +10,8 @@ External references used here:
 * Malus's law for two linear polarizations: p = cos^2(angle between them).
 * The arcsine law of cos(theta) for theta uniform (standard probability), checked by a
   seeded numpy Monte Carlo, and scipy.integrate.quad for tilt averages.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations

@@ -1,4 +1,7 @@
-"""From margins to a decision: ranking, explanation, robustness, exports and the commands."""
+"""From margins to a decision: ranking, explanation, robustness, exports and the commands.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 

@@ -12,6 +12,8 @@ External facts the checks rest on, each repeated beside its check:
 - A bit error ratio of 0.5 is what guessing gives, so a target BER must be below it
   (common practice).
 The sgp4 package (Vallado et al. 2006 implementation) writes and reads back the TLEs used here.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
 """
 
 from __future__ import annotations

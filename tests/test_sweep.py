@@ -1,4 +1,7 @@
-"""The reflector-placement sweep: spacing parsing, rebuilding, scoring and the command."""
+"""The reflector-placement sweep: spacing parsing, rebuilding, scoring and the command.
+
+Sources: docs/references.md (full citations; values not yet checked against the published text).
+"""
 
 from __future__ import annotations
 
@@ -42,7 +45,8 @@ def test_spacing_range_in_wavelengths_and_metres():
 
 def test_rebuild_follows_the_header(tmp_path):
     # The header records builder and parameters; rebuilding a written table at another spacing
-    # must give the table built there directly (the same published image-theory model).
+    # must give the table built there directly. Consistency check, no outside value: the
+    # image-theory model itself is checked against Balanis in test_patterns.py.
     for spacing in (0.25, 0.75):
         write_pattern(tmp_path / f"image-{spacing}.csv", turnstile_over_reflector(spacing))
     shipped = load_pattern(tmp_path / "image-0.25.csv")
@@ -56,7 +60,8 @@ def test_sweep_scores_each_spacing_as_a_candidate(tmp_path):
     study = Study.from_scenario(load_scenario(short_demo(tmp_path)))
     result = sweep_reflector(study, "turnstile-close", [0.25, 0.75])
     assert list(result.table["spacing_wavelengths"]) == [0.25, 0.75]
-    # Each row equals a plain forecast of the shipped table at that spacing.
+    # Each row equals a plain forecast of the shipped table at that spacing (consistency check,
+    # no outside value: the forecast is checked against hand-worked windows in test_forecast.py).
     for spacing, name in ((0.25, "turnstile-close"), (0.75, "turnstile-far")):
         expected = score_candidates(forecast(study, [name]).outcomes, "data_volume")[0][0]
         row = result.table[result.table["spacing_wavelengths"] == spacing].iloc[0]

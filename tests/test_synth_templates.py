@@ -6,6 +6,8 @@ Microwave Engineering (line ABCD / Y parameters, input impedance, mismatch); IEE
 Stutzman, Polarization in Electromagnetic Systems (sense, axial ratio); Balanis, Antenna Theory
 (energy conservation, image theory); facts of the trade marked "common practice, no published
 source".
+
+Full citations: docs/references.md, with the values not yet checked against the published text.
 """
 
 from __future__ import annotations
