@@ -17,6 +17,9 @@ The sgp4 package (Vallado et al. 2006 implementation) writes and reads back the 
 from __future__ import annotations
 
 import math
+import os
+import subprocess
+import sys
 from datetime import datetime, timedelta, timezone
 from pathlib import Path
 
@@ -789,3 +792,19 @@ def test_names_with_control_characters_are_refused(tree: Path, old, where: str, 
     message = _user_error(path)
     assert where in message and f"holds the control character {shown} at character 4" in message, message
     assert message.isprintable(), message
+
+
+def test_loading_a_scenario_needs_neither_numpy_nor_the_element_or_antenna_readers(tree: Path) -> None:
+    # The scenario checks its years, names and frequencies against planner.bounds alone, so
+    # validating a file (here the demo, every key of the format) stays a light import.
+    path = tree / "scenarios" / "light.toml"
+    path.write_text(DEMO_TEXT, encoding="utf-8")
+    code = (
+        "import sys; from planner.scenario import load_scenario; "
+        f"load_scenario({str(path)!r}); "
+        "print(sorted(m for m in sys.modules if m.split('.')[0] in ('numpy', 'scipy', 'sgp4') "
+        "or m.startswith(('planner.elements', 'planner.antenna', 'planner.link'))))"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True,
+                          env={**os.environ, "PYTHONPATH": str(REPO)})
+    assert done.stdout.strip() == "[]", done.stdout

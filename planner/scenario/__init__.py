@@ -44,15 +44,16 @@ from pydantic import (
 from pydantic.fields import FieldInfo
 from pydantic_core import PydanticCustomError, core_schema
 
-from planner.errors import UserError
-from planner.elements import (
+from planner.bounds import (
+    FREQUENCY_MAX_MHZ,
+    FREQUENCY_MIN_MHZ,
     LATEST_YEAR,
     MAX_OMM_CATALOG_NUMBER,
     SUPPORTED_YEARS,
     control_character,
     in_supported_years,
 )
-from planner.antenna import FREQUENCY_MAX_MHZ, FREQUENCY_MIN_MHZ
+from planner.errors import UserError
 from planner.limits import (
     NETWORK_STATIONS_LIMIT,
     SCENARIO_FILE_LIMIT_BYTES,
@@ -83,7 +84,7 @@ __all__ = [
 SECONDS_PER_DAY = 86400.0
 _STRICT = ConfigDict(extra="forbid")
 
-# The window lies in the years planner.elements allows for every time (1957: the first
+# The window lies in the years planner.bounds allows for every time (1957: the first
 # artificial satellite; 2100: beyond any element set's useful life).
 _ALLOWED_START = (
     "a TOML date-time with a time zone, such as 2027-01-04T00:00:00Z, or the same text "
@@ -459,7 +460,7 @@ class SatelliteConfig(RadioConfig):
 
     name: Name
     elements: Path = Field(description=_ALLOWED_ELEMENTS)
-    # Alpha-5 in a TLE reaches 339999; an OMM may carry up to 9 digits (see planner.elements).
+    # Alpha-5 in a TLE reaches 339999; an OMM may carry up to 9 digits (see planner.bounds).
     norad_id: Annotated[int, Strict(), _Range(1, MAX_OMM_CATALOG_NUMBER)] | None = None
 
     @field_validator("elements", mode="plain")
