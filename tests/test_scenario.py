@@ -731,7 +731,7 @@ def test_integers_just_under_the_conversion_limit_are_out_of_range_in_short(tree
     ("start", "days", "problem", "allowed"),
     [
         # 1957: the first artificial satellite; 2100: beyond any element set's useful life
-        # (planner.elements.EARLIEST_YEAR / LATEST_YEAR; common practice, no published source).
+        # (planner.bounds.EARLIEST_YEAR / LATEST_YEAR; common practice, no published source).
         ("0001-01-01T00:00:00Z", "7", "window.start_utc: 0001-01-01T00:00:00+00:00 is out of range", "1957 to 2100"),
         ("9999-12-31T23:59:59Z", "7", "window.start_utc: 9999-12-31T23:59:59+00:00 is out of range", "1957 to 2100"),
         ("9999-12-31T23:59:59-23:59", "7", "window.start_utc: 9999-12-31T23:59:59-23:59 is out of range", "1957 to 2100"),
