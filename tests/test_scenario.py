@@ -19,6 +19,9 @@ Sources: docs/references.md (full citations; values not yet checked against the 
 from __future__ import annotations
 
 import math
+import os
+import subprocess
+import sys
 from datetime import datetime, timedelta, timezone
 from pathlib import Path
 
@@ -731,7 +734,7 @@ def test_integers_just_under_the_conversion_limit_are_out_of_range_in_short(tree
     ("start", "days", "problem", "allowed"),
     [
         # 1957: the first artificial satellite; 2100: beyond any element set's useful life
-        # (planner.elements.EARLIEST_YEAR / LATEST_YEAR; common practice, no published source).
+        # (planner.bounds.EARLIEST_YEAR / LATEST_YEAR; common practice, no published source).
         ("0001-01-01T00:00:00Z", "7", "window.start_utc: 0001-01-01T00:00:00+00:00 is out of range", "1957 to 2100"),
         ("9999-12-31T23:59:59Z", "7", "window.start_utc: 9999-12-31T23:59:59+00:00 is out of range", "1957 to 2100"),
         ("9999-12-31T23:59:59-23:59", "7", "window.start_utc: 9999-12-31T23:59:59-23:59 is out of range", "1957 to 2100"),
@@ -792,3 +795,19 @@ def test_names_with_control_characters_are_refused(tree: Path, old, where: str, 
     message = _user_error(path)
     assert where in message and f"holds the control character {shown} at character 4" in message, message
     assert message.isprintable(), message
+
+
+def test_loading_a_scenario_needs_neither_numpy_nor_the_element_or_antenna_readers(tree: Path) -> None:
+    # The scenario checks its years, names and frequencies against planner.bounds alone, so
+    # validating a file (here the demo, every key of the format) stays a light import.
+    path = tree / "scenarios" / "light.toml"
+    path.write_text(DEMO_TEXT, encoding="utf-8")
+    code = (
+        "import sys; from planner.scenario import load_scenario; "
+        f"load_scenario({str(path)!r}); "
+        "print(sorted(m for m in sys.modules if m.split('.')[0] in ('numpy', 'scipy', 'sgp4') "
+        "or m.startswith(('planner.elements', 'planner.antenna', 'planner.link'))))"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True,
+                          env={**os.environ, "PYTHONPATH": str(REPO)})
+    assert done.stdout.strip() == "[]", done.stdout
