@@ -310,12 +310,12 @@ def test_a_read_only_folder_is_one_line(inputs, tmp_path):
 
 
 def test_an_unforeseen_filesystem_error_is_one_line_naming_the_path(inputs, monkeypatch):
-    import planner.cli as cli
+    from planner.cli import common
 
     def broken(*args, **kwargs):
         raise OSError(5, "Input/output error", "scenario-on-a-bad-disk.toml")
 
-    monkeypatch.setattr(cli, "_load_studies", broken)
+    monkeypatch.setattr(common, "load_studies", broken)
     run = run_cli("week", inputs / SCENARIO)
     assert_contract(run)
     assert run.code == 2

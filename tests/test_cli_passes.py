@@ -18,7 +18,7 @@ import pytest
 from planner.elements import read_elements
 from planner.passes import predict_passes
 from planner.passes.station import Station
-from planner.cli import _parse_utc
+from planner.cli.common import parse_utc as _parse_utc
 from planner.errors import UserError
 from tests.orbit_factory import make_tle, write_three_line
 from tests.test_hardening import assert_user_error as assert_one_error_line
