@@ -96,6 +96,9 @@ def _shared_dir() -> str | None:
     return None
 
 
+# --------------------------------------------------------------------------- planning and running
+
+
 def _worker_count() -> int:
     try:
         return max(1, len(os.sched_getaffinity(0)))

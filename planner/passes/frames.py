@@ -150,7 +150,7 @@ class Observer:
     """Computes look angles from one station, for times in seconds from ``start_utc``.
 
     ``look`` calls SGP4 directly at the times asked (the pass search itself works on
-    whole chunks of satellites, see the module notes).
+    whole chunks of satellites, see the notes of ``planner.passes``).
     """
 
     def __init__(self, station: Station, start_utc: datetime, duration_s: float):
