@@ -5,7 +5,7 @@ its own:
 
 * baseline: bare ``SatrecArray.sgp4`` over the engine's coarse search grid, nothing
   else: the same satellites rebuilt the same way, the same chunks
-  (``planner.passes._plan_chunks``), the same worker processes (same count, same start
+  (``planner.passes.batch._plan_chunks``), the same worker processes (same count, same start
   method, pool start-up included); the positions are thrown away.
 * engine: ``predict_passes`` with tracks at the default 10 s step, everything included
   (worker start-up, topocentric geometry, pass search, refinement, tracks, Pass objects
@@ -39,11 +39,17 @@ from datetime import datetime, timedelta, timezone
 from pathlib import Path
 
 import numpy as np
+from sgp4.api import SatrecArray
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
 from planner import passes as engine  # noqa: E402
+from planner.passes.batch import _plan_chunks, _process_context, _shared_dir, _worker_count  # noqa: E402
+from planner.passes.chunk import _rebuild, _recipe  # noqa: E402
+from planner.passes.frames import _Clock  # noqa: E402
+from planner.passes.model import _SAMPLE_COLUMNS, _SAMPLE_DTYPE  # noqa: E402
+from planner.passes.search import _search_grid  # noqa: E402
 from planner.elements import read_elements  # noqa: E402
 from planner.passes.station import Station  # noqa: E402
 from tests.orbit_factory import EARTH_RADIUS_KM, make_tle, write_three_line  # noqa: E402
@@ -86,22 +92,22 @@ def invented_catalog(count: int, seed: int = 2027, mix: str = "mixed"):
 # Python objects of one pass without its samples (Pass, Track, 3 datetimes, 7 floats,
 # one array view, the list slot), measured with tracemalloc on this engine.
 _PASS_OBJECT_BYTES = 680
-_SAMPLE_BYTES = len(engine._SAMPLE_COLUMNS) * np.dtype(engine._SAMPLE_DTYPE).itemsize
+_SAMPLE_BYTES = len(_SAMPLE_COLUMNS) * np.dtype(_SAMPLE_DTYPE).itemsize
 
 
 def _bare_chunk(job):
     """Baseline work for one chunk: rebuild, SatrecArray.sgp4 over the grid, nothing more."""
     recipes, duration_s, step_s, clock = job
-    satrecs = [engine._rebuild(recipe) for recipe in recipes]
-    grid = engine._search_grid(duration_s, step_s)
+    satrecs = [_rebuild(recipe) for recipe in recipes]
+    grid = _search_grid(duration_s, step_s)
     whole, fraction = clock.julian(grid)
-    error, r, v = engine.SatrecArray(satrecs).sgp4(whole, fraction)
+    error, r, v = SatrecArray(satrecs).sgp4(whole, fraction)
     return int(error.shape[0] * error.shape[1])
 
 
 def _shared_used_mb() -> float:
     """Space in use on the RAM file system the engine hands track samples back through."""
-    folder = engine._shared_dir()
+    folder = _shared_dir()
     if folder is None:
         return 0.0
     stats = os.statvfs(folder)
@@ -166,12 +172,12 @@ def measure(mode: str, path: Path, days: float, workers: int) -> dict:
     if mode == "baseline":
         t = time.perf_counter()
         satrecs = [e.satrec for e in element_sets]
-        recipes = [engine._recipe(s) for s in satrecs]
-        clock = engine._Clock.starting(START, duration_s)
-        plan = engine._plan_chunks(satrecs, duration_s, workers=workers)
+        recipes = [_recipe(s) for s in satrecs]
+        clock = _Clock.starting(START, duration_s)
+        plan = _plan_chunks(satrecs, duration_s, workers=workers)
         jobs = [(tuple(recipes[m] for m in members), duration_s, step, clock) for step, members in plan]
         if workers > 1:
-            with ProcessPoolExecutor(max_workers=min(workers, len(jobs)), mp_context=engine._process_context()) as pool:
+            with ProcessPoolExecutor(max_workers=min(workers, len(jobs)), mp_context=_process_context()) as pool:
                 samples = sum(pool.map(_bare_chunk, jobs))
         else:
             samples = sum(map(_bare_chunk, jobs))
@@ -203,7 +209,7 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--satellites", type=int, default=10_000)
     parser.add_argument("--days", type=float, default=7.0)
-    parser.add_argument("--workers", type=int, default=engine._worker_count())
+    parser.add_argument("--workers", type=int, default=_worker_count())
     parser.add_argument("--mix", choices=["mixed", "leo"], default="mixed",
                         help="mixed: 90 %% LEO, 5 %% eccentric, 2 %% MEO, 3 %% GEO; leo: LEO only")
     parser.add_argument("--repeat", type=int, default=2,
@@ -229,7 +235,7 @@ def main() -> None:
             runs[mode].append(json.loads(out.strip().splitlines()[-1]))
     base = min(runs["baseline"], key=lambda r: r["wall_s"])
     full = min(runs["engine"], key=lambda r: r["wall_s"])
-    print(f"machine: {os.cpu_count()} cores ({engine._worker_count()} usable), {args.workers} worker processes; "
+    print(f"machine: {os.cpu_count()} cores ({_worker_count()} usable), {args.workers} worker processes; "
           f"{args.satellites} invented satellites ({args.mix}) x {args.days:g} days x 1 station, tracks every 10 s; "
           f"best of {max(1, args.repeat)} interleaved runs each "
           f"(all wall times: baseline {_walls(runs['baseline'])}; engine {_walls(runs['engine'])} s)")

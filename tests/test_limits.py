@@ -32,7 +32,8 @@ import pytest
 from sgp4.api import Satrec
 
 from planner import limits
-from planner import passes as passes_module
+from planner.passes import predict as predict_module
+from planner.passes.search import _perigee_period_s
 from planner.errors import UserError
 from planner.limits import (
     GIB,
@@ -300,7 +301,7 @@ def test_propagation_past_the_time_limit_is_refused_through_the_command(monkeypa
     # The demo file (5 satellites, a day) is far inside the limit; with the limit lowered to a
     # millisecond the same command must refuse, naming the samples and the limit.
     assert run_cli("passes", "--elements", DEMO_TLE, *QUICK_LOOK, "--days", "1").code == 0
-    monkeypatch.setattr(passes_module, "RUN_TIME_LIMIT_S", 1e-3)
+    monkeypatch.setattr(predict_module, "RUN_TIME_LIMIT_S", 1e-3)
     run = run_cli("passes", "--elements", DEMO_TLE, *QUICK_LOOK, "--days", "1")
     assert_user_error(run, "5 satellites over 1 days", "SGP4 samples", "the limit is", "shorten the window")
 
@@ -308,14 +309,14 @@ def test_propagation_past_the_time_limit_is_refused_through_the_command(monkeypa
 def test_propagation_estimate_against_the_limit():
     satrec = Satrec.twoline2rv(*make_tle(99001, height_km=550, inclination_deg=97.6))
     # benchmarks/rank.py's catalog week (10,000 objects x 7 days) is inside the limit.
-    passes_module._check_propagation_time([satrec] * 10_000, 7 * 86400.0)
+    predict_module._check_propagation_time([satrec] * 10_000, 7 * 86400.0)
     # Its search step is 1/100 of the perigee period in whole seconds (planner.passes.coarse_step_s).
-    step_s = float(math.floor(passes_module._perigee_period_s(satrec) / 100.0))
+    step_s = float(math.floor(_perigee_period_s(satrec) / 100.0))
     count = 120_000
     samples = count * (31 * 86400.0 / step_s + 1.0)
     assert samples * limits.PROPAGATION_SECONDS_PER_SAMPLE > RUN_TIME_LIMIT_S
     with pytest.raises(UserError) as info:
-        passes_module._check_propagation_time([satrec] * count, 31 * 86400.0)
+        predict_module._check_propagation_time([satrec] * count, 31 * 86400.0)
     assert f"{samples:,.0f} SGP4 samples" in str(info.value)
 
 

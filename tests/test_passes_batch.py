@@ -18,6 +18,10 @@ from planner import passes as engine
 from planner.errors import PlannerWarning
 from planner.elements import ElementSet, read_elements
 from planner.passes import Observer, Target, predict_passes
+from planner.passes.batch import _plan_chunks
+from planner.passes.chunk import _Chunk, _ChunkJob, _recipe
+from planner.passes.frames import _Clock, _Site
+from planner.passes.search import _EXTREME_SEARCH_DEG, _hermite, _perigee_period_s, _search_grid
 from planner.passes.station import HorizonMask, Station
 from tests.orbit_factory import EARTH_RADIUS_KM, make_tle, write_three_line
 
@@ -159,7 +163,7 @@ def test_hermite_interpolation_against_sgp4(orbit, limit_m):
     # for LEO at the grid's 54-60 s step); required below 2 m for LEO.  The eccentric
     # orbit (perigee 300 km) is held to 5 m: its SGP4 velocities are less consistent.
     satrec = Satrec.twoline2rv(*make_tle(99900, **orbit))
-    step_s = engine.coarse_step_s(engine._perigee_period_s(satrec))
+    step_s = engine.coarse_step_s(_perigee_period_s(satrec))
     assert 5.0 <= step_s <= 60.0
     observer = Observer(SITE, START, 86400.0)
     grid = np.arange(0.0, 86400.0, step_s)
@@ -167,14 +171,14 @@ def test_hermite_interpolation_against_sgp4(orbit, limit_m):
     _, r, v = satrec.sgp4_array(*observer._clock.julian(grid))
     _, r_mid, v_mid = satrec.sgp4_array(*observer._clock.julian(middle))
     n = len(middle)
-    position, velocity = engine._hermite(r[:-1], v[:-1], r[1:], v[1:], np.full(n, step_s), np.full(n, 0.5), True)
+    position, velocity = _hermite(r[:-1], v[:-1], r[1:], v[1:], np.full(n, step_s), np.full(n, 0.5), True)
     error_m = np.linalg.norm(np.stack(position, axis=1) - r_mid, axis=1) * 1000.0
     assert error_m.max() < limit_m
     # The interpolant's derivative (the track's range rate) stays within 3 m/s of SGP4's
     # own velocity (measured: 3 cm/s for LEO, 1.5 m/s for the eccentric orbit).
     assert (np.linalg.norm(np.stack(velocity, axis=1) - v_mid, axis=1) * 1000.0).max() < 3.0
     # At the grid samples the interpolant is SGP4's sample, exactly.
-    at_start, _ = engine._hermite(r[:-1], v[:-1], r[1:], v[1:], np.full(n, step_s), np.zeros(n))
+    at_start, _ = _hermite(r[:-1], v[:-1], r[1:], v[1:], np.full(n, step_s), np.zeros(n))
     assert np.array_equal(np.stack(at_start, axis=1), r[:-1])
 
 
@@ -286,11 +290,11 @@ def test_grid_filter_keeps_every_sample_near_the_mask(catalog):
     station = Station("tilted", 60.2, 24.9, 20.0, HorizonMask.from_points([[0, 3], [120, 12], [240, 1]]))
     element_sets = catalog[:24]
     duration_s = 6 * 3600.0
-    clock = engine._Clock.starting(START, duration_s)
+    clock = _Clock.starting(START, duration_s)
     members = np.arange(len(element_sets))
-    job = engine._ChunkJob(members, tuple(engine._recipe(e.satrec) for e in element_sets), engine._Site.of(station),
+    job = _ChunkJob(members, tuple(_recipe(e.satrec) for e in element_sets), _Site.of(station),
                            clock, duration_s, 45.0, 10.0)
-    chunk = engine._Chunk(job)
+    chunk = _Chunk(job)
     keys, values = chunk.grid_clearance()
     kept = dict(zip(keys.tolist(), values.tolist()))
     ts = load.timescale()
@@ -301,7 +305,7 @@ def test_grid_filter_keeps_every_sample_near_the_mask(catalog):
         satellite = EarthSatellite.from_satrec(element_sets[m].satrec, ts)
         altitude, azimuth, _ = (satellite - site).at(times).altaz()
         clearance = altitude.degrees - station.mask.min_elevation_at(azimuth.degrees)
-        for k in np.flatnonzero(clearance > -engine._EXTREME_SEARCH_DEG + 0.1):
+        for k in np.flatnonzero(clearance > -_EXTREME_SEARCH_DEG + 0.1):
             key = row * chunk.n_time + int(k)
             assert key in kept
             assert kept[key] == pytest.approx(clearance[k], abs=0.01)
@@ -316,10 +320,10 @@ def test_chunks_stay_under_the_memory_budget(catalog):
     # under 150 MB, and every chunk shares one grid step.
     satrecs = [e.satrec for e in catalog] * 20          # 6000 satellites
     duration_s = 30 * 86400.0
-    plan = engine._plan_chunks(satrecs, duration_s, workers=2)
+    plan = _plan_chunks(satrecs, duration_s, workers=2)
     assert sum(len(members) for _, members in plan) == len(satrecs)
-    steps = {m: engine.coarse_step_s(engine._perigee_period_s(satrecs[m])) for m in range(len(satrecs))}
+    steps = {m: engine.coarse_step_s(_perigee_period_s(satrecs[m])) for m in range(len(satrecs))}
     for step_s, members in plan:
-        n_time = len(engine._search_grid(duration_s, step_s))
+        n_time = len(_search_grid(duration_s, step_s))
         assert len(members) * n_time * (6 * 8 + 1) <= 150e6
         assert all(steps[m] == step_s for m in members)

@@ -1,0 +1,136 @@
+"""The element-set model: :class:`ElementSet` and the ranges every element set obeys.
+
+Whatever the file form, an element set becomes an ``ElementSet`` holding an ``sgp4``
+``Satrec`` initialised for WGS72 in the improved operation mode ('i'), the same as
+``Satrec.twoline2rv`` gives. Here too are the rules every reader applies alike: the years
+an epoch (or any time a user gives) may fall in, the catalog-number bounds of the
+five-column TLE field (Alpha-5) and of the OMM's plain integer, the plausible mean-motion
+range, the printable-name rule for control characters (Python docs, ``str.isprintable``),
+the units sgp4 stores the mean-motion derivatives in (as ``Satrec.twoline2rv`` converts
+them) and the check that SGP4 accepted the elements at their epoch.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from datetime import datetime, timezone
+
+from sgp4.api import SGP4_ERRORS, Satrec
+
+from planner.errors import UserError
+
+
+# A circular orbit at the Earth's surface goes round about 17 times a day; more
+# than 20 rev/day cannot be an orbit (plausibility bound, common practice).
+MAX_MEAN_MOTION_REV_PER_DAY = 20.0
+MAX_CATALOG_NUMBER = 339999  # largest five-character (Alpha-5) catalog number, 'Z9999'
+# The OMM carries NORAD_CAT_ID as a plain integer, not in five columns. Catalog numbers of
+# up to 9 digits were announced for when the five-character field runs out (from memory),
+# so an OMM may hold up to 999999999; anything longer is a mistake, not a catalog number.
+MAX_OMM_CATALOG_NUMBER = 999_999_999
+
+# Years an element-set epoch, a window or any time a user gives must fall in (inclusive).
+# 1957: the first artificial satellite was launched in October 1957, so no element set is
+# older. 2100: far beyond any element set's useful life (SGP4 errors grow by kilometres a
+# day from the epoch) and well inside what datetime and the time scales can represent.
+EARLIEST_YEAR = 1957
+LATEST_YEAR = 2100
+SUPPORTED_YEARS = f"{EARLIEST_YEAR} to {LATEST_YEAR}"
+_EARLIEST_UTC = datetime(EARLIEST_YEAR, 1, 1, tzinfo=timezone.utc)
+_AFTER_LATEST_UTC = datetime(LATEST_YEAR + 1, 1, 1, tzinfo=timezone.utc)
+
+_MINUTES_PER_DAY = 1440.0
+_REV_PER_DAY_PER_RAD_PER_MIN = _MINUTES_PER_DAY / (2.0 * math.pi)
+# Units of the TLE / OMM mean-motion derivatives as sgp4 stores them (rad/min^2,
+# rad/min^3), the same factors Satrec.twoline2rv applies.
+_NDOT_UNITS = _REV_PER_DAY_PER_RAD_PER_MIN * _MINUTES_PER_DAY
+_NDDOT_UNITS = _REV_PER_DAY_PER_RAD_PER_MIN * _MINUTES_PER_DAY * _MINUTES_PER_DAY
+_SGP4_EPOCH0 = datetime(1949, 12, 31, tzinfo=timezone.utc)  # sgp4init counts days from here
+
+
+@dataclass(frozen=True)
+class ElementSet:
+    """One satellite's mean elements, ready for SGP4."""
+
+    name: str  # OBJECT_NAME / 3LE title line; "" when a plain 2-line TLE has none
+    norad_id: int
+    epoch: datetime  # UTC, timezone-aware
+    satrec: Satrec  # WGS72, opsmode 'i', same as Satrec.twoline2rv
+    source: str  # "path:line" where the entry starts (for messages)
+
+    @property
+    def period_s(self) -> float:
+        """Orbital period from the (Kozai) mean motion, in seconds."""
+        return 2.0 * math.pi / self.satrec.no_kozai * 60.0
+
+    @property
+    def label(self) -> str:
+        """``NAME (ID)`` for messages; ``unnamed (ID)`` without a name."""
+        return f"{self.name or 'unnamed'} ({self.norad_id})"
+
+
+def in_supported_years(moment: datetime) -> bool:
+    """True when ``moment`` (naive means UTC) falls in EARLIEST_YEAR..LATEST_YEAR, UTC.
+
+    Times near year 1 or 9999 with an offset cannot even be converted to UTC (OverflowError);
+    they are outside, not an error.
+    """
+    try:
+        return _EARLIEST_UTC <= _utc(moment) < _AFTER_LATEST_UTC
+    except (OverflowError, ValueError):
+        return False
+
+
+def control_character(text: str) -> tuple[int, str] | None:
+    """(1-based position, escaped form like ``\\x1b``) of the first character a terminal would not
+    show as itself, or None when every character prints.
+
+    The one rule for every name the program prints (TLE titles, OMM OBJECT_NAME, scenario
+    names): an ESC sequence, BEL, any other C0 or C1 control character or DEL could recolour
+    or rewrite the user's terminal. ``str.isprintable`` is False for exactly these and for
+    the other Unicode "Other" and "Separator" characters except the ASCII space (Python docs,
+    str.isprintable), such as tabs, line separators and text-direction overrides.
+    """
+    for index, char in enumerate(text, start=1):
+        if not char.isprintable():
+            return index, char.encode("unicode_escape").decode("ascii")
+    return None
+
+
+def _clip(text: str, limit: int = 40) -> str:
+    """A short, single-line rendering of user text for a message."""
+    text = text if len(text) <= limit else text[: limit - 3] + "..."
+    return repr(text)
+
+
+def _utc(moment: datetime) -> datetime:
+    return moment.replace(tzinfo=timezone.utc) if moment.tzinfo is None else moment.astimezone(timezone.utc)
+
+
+def _check_range(where: str, name: str, value: float, low: float, high: float, *, high_open=False):
+    inside = low <= value < high if high_open else low <= value <= high
+    if not math.isfinite(value) or not inside:
+        bracket = ")" if high_open else "]"
+        raise UserError(f"{where}: {name} is {value:g}; allowed [{low:g}, {high:g}{bracket}")
+
+
+def _check_mean_motion(where: str, name: str, rev_per_day: float) -> None:
+    if not math.isfinite(rev_per_day) or rev_per_day <= 0.0:
+        raise UserError(f"{where}: {name} is {rev_per_day:g} rev/day; it must be above 0")
+    if rev_per_day >= MAX_MEAN_MOTION_REV_PER_DAY:
+        raise UserError(
+            f"{where}: {name} is {rev_per_day:g} rev/day; an Earth orbit makes fewer than "
+            f"{MAX_MEAN_MOTION_REV_PER_DAY:g} revolutions a day"
+        )
+
+
+def _check_satrec(where: str, satrec: Satrec) -> None:
+    if satrec.error != 0:
+        reason = SGP4_ERRORS.get(satrec.error, f"error code {satrec.error}")
+        raise UserError(f"{where}: SGP4 rejects these elements at their epoch: {reason}")
+
+
+def _days_since_sgp4_epoch0(epoch: datetime) -> float:
+    delta = epoch - _SGP4_EPOCH0
+    return delta.days + (delta.seconds + delta.microseconds / 1e6) / 86400.0
