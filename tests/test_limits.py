@@ -51,7 +51,8 @@ from planner.limits import (
     format_bytes,
     read_text_capped,
 )
-from planner.antenna import SHIPPED_PATTERNS, format_pattern, turnstile_over_reflector
+from planner.antenna import format_pattern, turnstile_over_reflector
+from planner.antenna.registry import SHIPPED_PATTERNS
 from planner.scenario import load_scenario
 from planner.antenna.synth import mom, templates
 from planner.antenna.synth.geometry import estimated_segment_count, segment_model

@@ -34,6 +34,7 @@ from scipy.integrate import trapezoid
 from scipy.special import sici
 
 from planner import antenna as P
+from planner.antenna import registry as R
 from planner.errors import PlannerWarning, UserError
 
 REPO = Path(__file__).resolve().parents[1]
@@ -69,12 +70,12 @@ def shipped():
 def test_shipped_tables_regenerate_bit_for_bit(tmp_path):
     # The header of each shipped file says it comes from `planner pattern build`; regenerating
     # must reproduce every file byte for byte, and no unlisted table may sit in patterns/.
-    written = P.build_shipped_patterns(tmp_path)
-    assert [p.name for p in written] == list(P.SHIPPED_PATTERNS)
+    written = R.build_shipped_patterns(tmp_path)
+    assert [p.name for p in written] == list(R.SHIPPED_PATTERNS)
     for path in written:
         assert path.read_bytes() == (SHIPPED / path.name).read_bytes(), path.name
-    assert sorted(p.name for p in SHIPPED.glob("*.csv")) == sorted(P.SHIPPED_PATTERNS)
-    for name in P.SHIPPED_PATTERNS:
+    assert sorted(p.name for p in SHIPPED.glob("*.csv")) == sorted(R.SHIPPED_PATTERNS)
+    for name in R.SHIPPED_PATTERNS:
         header = P.load_pattern(SHIPPED / name).header
         assert header["generated_by"] == "planner pattern build"
         assert header["frequency_mhz"] == "436"
@@ -84,22 +85,22 @@ def _header_parameters(header: dict[str, str]) -> dict[str, str]:
     return dict(item.strip().split("=", 1) for item in header["parameters"].split(";"))
 
 
-@pytest.mark.parametrize("name", list(P.SHIPPED_PATTERNS))
+@pytest.mark.parametrize("name", list(R.SHIPPED_PATTERNS))
 def test_every_shipped_table_rebuilds_from_its_header(name):
     # What the sweep and the harness check do: the header alone (a template name and the
     # parameters as text) gives the same file again, byte for byte.
     header = P.load_pattern(SHIPPED / name).header
-    assert header["builder"] in (*P.TEMPLATES, "dipole", "turnstile", "crossed-loops")
-    again = P.rebuild_pattern(header["builder"], _header_parameters(header), source=name)
+    assert header["builder"] in (*R.TEMPLATES, "dipole", "turnstile", "crossed-loops")
+    again = R.rebuild_pattern(header["builder"], _header_parameters(header), source=name)
     assert P.format_pattern(again) == (SHIPPED / name).read_text()
 
 
 def test_dotted_builder_names_of_older_headers_are_read_as_aliases():
     text = (SHIPPED / "isotropic-rhcp.csv").read_text()
     header = P.parse_pattern(text).header
-    again = P.rebuild_pattern("planner.patterns.isotropic_rhcp", _header_parameters(header))
+    again = R.rebuild_pattern("planner.patterns.isotropic_rhcp", _header_parameters(header))
     assert P.format_pattern(again) == text
-    assert P.builder_template("planner.synth.tables.crossed_loops_table") == "crossed-loops"
+    assert R.builder_template("planner.synth.tables.crossed_loops_table") == "crossed-loops"
 
 
 @pytest.mark.parametrize("builder", ["numpy", "os.system", "planner.cli.main", "planner.antenna.load_pattern",
@@ -107,41 +108,41 @@ def test_dotted_builder_names_of_older_headers_are_read_as_aliases():
 def test_a_header_naming_anything_else_is_refused_in_one_line(builder):
     # Only the project's template names (and their old dotted aliases) may be called from a file.
     with pytest.raises(UserError, match="is not one of planner's templates; allowed: image-turnstile") as caught:
-        P.rebuild_pattern(builder, {"frequency_hz": "436000000"}, source="evil.csv")
+        R.rebuild_pattern(builder, {"frequency_hz": "436000000"}, source="evil.csv")
     assert "\n" not in str(caught.value) and len(str(caught.value)) < 300
 
 
 def test_rebuild_parameters_are_checked_like_the_command_line():
     with pytest.raises(UserError, match="unknown parameter 'shell'"):
-        P.rebuild_pattern("isotropic-rhcp", {"frequency_hz": "436000000", "shell": "rm"})
+        R.rebuild_pattern("isotropic-rhcp", {"frequency_hz": "436000000", "shell": "rm"})
     with pytest.raises(UserError, match="must be a number"):
-        P.rebuild_pattern("image-turnstile", {"spacing_wavelengths": "__import__('os')"})
+        R.rebuild_pattern("image-turnstile", {"spacing_wavelengths": "__import__('os')"})
 
 
 def test_readme_describes_every_shipped_table():
     # Documentation check (common practice, no published source): each shipped file is described.
     text = (SHIPPED / "README.md").read_text()
-    for name in P.SHIPPED_PATTERNS:
+    for name in R.SHIPPED_PATTERNS:
         assert f"`{name}`" in text
     assert "planner pattern build" in text and "-60 dBic" in text
 
 
 def test_build_pattern_templates_match_shipped_and_reject_bad_input():
-    table = P.build_pattern("image-turnstile", spacing_wavelengths="0.25", frequency_hz=436e6)
+    table = R.build_pattern("image-turnstile", spacing_wavelengths="0.25", frequency_hz=436e6)
     assert P.format_pattern(table) == P.format_pattern(P.turnstile_over_reflector(0.25, 436e6))
-    assert P.format_pattern(P.build_pattern("isotropic-rhcp", frequency_hz=436e6)) == (SHIPPED / "isotropic-rhcp.csv").read_text()
+    assert P.format_pattern(R.build_pattern("isotropic-rhcp", frequency_hz=436e6)) == (SHIPPED / "isotropic-rhcp.csv").read_text()
     with pytest.raises(UserError, match="allowed: image-turnstile, isotropic-rhcp"):
-        P.build_pattern("helix")
+        R.build_pattern("helix")
     with pytest.raises(UserError, match="unknown parameter 'height'"):
-        P.build_pattern("image-turnstile", height=0.25)
+        R.build_pattern("image-turnstile", height=0.25)
     with pytest.raises(UserError, match="missing parameter 'spacing_wavelengths'"):
-        P.build_pattern("image-turnstile")
+        R.build_pattern("image-turnstile")
     with pytest.raises(UserError, match="must be a number"):
-        P.build_pattern("image-turnstile", spacing_wavelengths="quarter")
+        R.build_pattern("image-turnstile", spacing_wavelengths="quarter")
     with pytest.raises(UserError, match="spacing_wavelengths"):
-        P.build_pattern("image-turnstile", spacing_wavelengths=-0.25)
+        R.build_pattern("image-turnstile", spacing_wavelengths=-0.25)
     with pytest.raises(UserError, match="does not divide"):
-        P.build_pattern("image-turnstile", spacing_wavelengths=0.25, azimuth_step_deg=7)
+        R.build_pattern("image-turnstile", spacing_wavelengths=0.25, azimuth_step_deg=7)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -316,7 +317,7 @@ def test_turnstile_zenith_is_rhcp_and_low_angles_are_nearly_linear(spacing, ship
 # ---------------------------------------------------------------------------------------------
 
 
-@pytest.mark.parametrize("name", list(P.SHIPPED_PATTERNS))
+@pytest.mark.parametrize("name", list(R.SHIPPED_PATTERNS))
 def test_total_gain_integrates_to_4pi(name):
     # Energy conservation (Balanis ch. 2): total gain (relative to the input power) integrated over
     # the sphere is 4 pi times the radiation efficiency (1 for the lossless analytic tables; the

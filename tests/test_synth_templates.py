@@ -435,7 +435,7 @@ def test_crossed_loops_over_pec_table_has_the_header_and_loads_back(tmp_path):
 def test_table_rebuilds_from_its_own_header():
     # The header's builder (a template name) and parameters are enough to make the same table
     # again (the reflector sweep relies on it), with the parameters as text.
-    from planner.antenna import rebuild_pattern
+    from planner.antenna.registry import rebuild_pattern
     from planner.antenna.synth.tables import build_template_table
 
     table = build_template_table("turnstile", {"reflector": "rods", "feed": "line", "velocity_factor": 0.8,

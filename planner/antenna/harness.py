@@ -28,7 +28,8 @@ The circular components are the projections on the unit vectors (x - j y)/sqrt 2
 The polarization ellipse has semi-axes (|E_R| + |E_L|)/sqrt 2 and ||E_R| - |E_L||/sqrt 2
 (Stutzman, *Polarization in Electromagnetic Systems*), so the axial ratio is
 ``AR = (|E_R| + |E_L|) / ||E_R| - |E_L||`` (reported in dB, 20 log10, >= 0; capped at
-``planner.antenna.AXIAL_RATIO_CAP_DB`` for a linear state). Received by an ideal RHCP antenna,
+``planner.antenna.AXIAL_RATIO_CAP_DB`` for a linear state; ``axial_ratio_db_from_circular`` lives
+with the other polarization quantities in :mod:`planner.antenna.table`). Received by an ideal RHCP antenna,
 the wave keeps the fraction |E_R|^2 / (|E_R|^2 + |E_L|^2) of its power: the polarization loss
 against RHCP is ``-10 log10`` of that (clipped at ``planner.link.polarization.MAX_LOSS_DB``).
 
@@ -55,7 +56,7 @@ from planner.link.feedline import (
     vswr_from_impedance,
     wavelength_in_line_m,
 )
-from planner.antenna import AXIAL_RATIO_CAP_DB
+from planner.antenna.table import axial_ratio_db_from_circular
 from planner.link.polarization import MAX_LOSS_DB, MIN_EFFICIENCY
 
 __all__ = [
@@ -114,22 +115,6 @@ def circular_components_from_phase_error(d_deg, amplitude_ratio=1.0) -> tuple[np
     return (e_x + 1j * e_y) / root2, (e_x - 1j * e_y) / root2
 
 
-def _axial_ratio_db(e_r, e_l) -> np.ndarray:
-    major = np.abs(e_r) + np.abs(e_l)
-    minor = np.abs(np.abs(e_r) - np.abs(e_l))
-    cap = 10.0 ** (AXIAL_RATIO_CAP_DB / 20.0)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        ratio = np.where(minor * cap > major, major / np.where(minor > 0, minor, 1.0), cap)
-    return 20.0 * np.log10(ratio)
-
-
-def axial_ratio_db_from_circular(e_r, e_l):
-    """Axial ratio (dB, >= 0) of a field with circular components ``e_r``, ``e_l`` (complex or
-    magnitudes): 20 log10((|E_R| + |E_L|) / ||E_R| - |E_L||), capped for a linear state."""
-    ar = _axial_ratio_db(np.asarray(e_r), np.asarray(e_l))
-    return float(ar) if np.ndim(ar) == 0 else ar
-
-
 def _loss_against_rhcp_db(e_r, e_l) -> np.ndarray:
     power_r = np.abs(e_r) ** 2
     total = power_r + np.abs(e_l) ** 2
@@ -141,8 +126,7 @@ def _loss_against_rhcp_db(e_r, e_l) -> np.ndarray:
 def axial_ratio_db_from_phase_error(d_deg, amplitude_ratio=1.0):
     """Axial ratio (dB, >= 0) of ``x + rho exp(-j (90 + d)) y``; 0 dB for d = 0 and rho = 1."""
     e_r, e_l = circular_components_from_phase_error(d_deg, amplitude_ratio)
-    ar = _axial_ratio_db(e_r, e_l)
-    return float(ar) if np.ndim(ar) == 0 else ar
+    return axial_ratio_db_from_circular(e_r, e_l)
 
 
 def polarization_loss_db_from_phase_error(d_deg, amplitude_ratio=1.0):
@@ -297,6 +281,6 @@ def harness_report(
             rhcp_dbic, lhcp_dbic = solution.gains_dbic(0.0, 90.0, result.port_voltages)
             g_r = 10.0 ** (float(np.asarray(rhcp_dbic).ravel()[0]) / 10.0)
             g_l = 10.0 ** (float(np.asarray(lhcp_dbic).ravel()[0]) / 10.0)
-            report["zenith_axial_ratio_db"] = float(_axial_ratio_db(math.sqrt(g_r), math.sqrt(g_l)))
+            report["zenith_axial_ratio_db"] = float(axial_ratio_db_from_circular(math.sqrt(g_r), math.sqrt(g_l)))
             report["zenith_polarization_loss_db"] = float(_loss_against_rhcp_db(math.sqrt(g_r), math.sqrt(g_l)))
     return report

@@ -72,7 +72,8 @@ def _harness_sensitivity(pattern: Path, cut_error_mm: float, format: str) -> Non
     """``planner harness --pattern FILE``: the table's harness rebuilt and cut wrong."""
     from planner.output.export import to_json
     from planner.antenna import load_pattern
-    from planner.antenna.synth.design import cut_sensitivity, harness_from_header
+    from planner.antenna.synth.design import cut_sensitivity
+    from planner.antenna.synth.tables import harness_from_header
 
     if not (np.isfinite(cut_error_mm) and 0.0 < cut_error_mm <= 50.0):
         raise UserError(f"--cut-error-mm: {cut_error_mm:g} is out of range; allowed more than 0 up to 50")

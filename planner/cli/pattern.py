@@ -36,8 +36,9 @@ def pattern_build(
     force: bool = common.FORCE,
 ) -> None:
     """Generate pattern tables from the project's own antenna models."""
-    from planner.antenna import SHIPPED_PATTERNS, build_pattern, build_shipped_patterns, write_pattern
-    from planner.antenna import TEMPLATES as ANALYTIC
+    from planner.antenna import write_pattern
+    from planner.antenna.registry import SHIPPED_PATTERNS, build_pattern, build_shipped_patterns
+    from planner.antenna.registry import TEMPLATES as ANALYTIC
     from planner.antenna.synth.templates import TEMPLATES as WIRE
 
     rules = common.write_rules(force)

@@ -95,7 +95,7 @@ def _builder_and_parameters(pattern) -> tuple[str, dict[str, str]]:
 
 def rebuild_at_spacing(pattern, spacing_wavelengths: float):
     """The candidate's own model rebuilt with another reflector spacing."""
-    from planner.antenna import rebuild_pattern
+    from planner.antenna.registry import rebuild_pattern
 
     builder, parameters = _builder_and_parameters(pattern)
     parameters = dict(parameters, **{SPACING_PARAMETER: f"{spacing_wavelengths:.6g}"})

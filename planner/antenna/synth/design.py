@@ -80,7 +80,7 @@ from typing import Any, Callable, Mapping, Sequence
 import numpy as np
 from scipy.optimize import minimize_scalar
 
-from planner.errors import UserError, warn
+from planner.errors import UserError
 from planner.link.feedline import (
     CABLES,
     Cable,
@@ -91,10 +91,10 @@ from planner.link.feedline import (
     vswr_from_impedance,
     wavelength_in_line_m,
 )
-from planner.antenna.harness import axial_ratio_db_from_circular
 from planner.antenna.synth import mom
 from planner.antenna.synth.feed import REFERENCE_IMPEDANCE_OHM, FeedResult, phasing_line
 from planner.antenna.synth.geometry import WireModel
+from planner.antenna.table import axial_ratio_db_from_circular
 
 __all__ = [
     "SIZE_PARAMETERS",
@@ -116,7 +116,6 @@ __all__ = [
     "HarnessDesign",
     "design_harness",
     "harness_state",
-    "harness_from_header",
     "cut_sensitivity",
 ]
 
@@ -756,35 +755,6 @@ def design_harness(solution: "mom.Solution", *, phasing_cable: str | None = None
         ),
     )
     return HarnessDesign(frequency_hz, sense, z, fields, phasing, section, feed, state)
-
-
-def harness_from_header(header: Mapping[str, str], source: str = "pattern table") -> HarnessDesign:
-    """Rebuild the harness a ``feed=harness`` table was made with, from its ``builder`` and
-    ``parameters`` header lines (the model is trimmed, solved and the harness designed again)."""
-    from planner.antenna import BUILDER_ALIASES
-    from planner.antenna.synth import tables  # tables builds on this module
-
-    builder = header.get("builder", "")
-    template = BUILDER_ALIASES.get(builder, builder)
-    if template not in tables.TWO_PORT_TEMPLATES:
-        raise UserError(f"{source}: builder {builder or '(none)'!r} is not a two-port wire template; allowed: tables built by "
-                        "planner pattern build turnstile|crossed-loops ... feed=harness")
-    values = {}
-    for item in header.get("parameters", "").split(";"):
-        key, sep, value = item.partition("=")
-        if sep:
-            values[key.strip()] = value.strip()
-    if values.get("feed") != "harness":
-        raise UserError(f"{source}: the table was built with feed={values.get('feed', 'quadrature')}; allowed: a table built "
-                        "with feed=harness (planner pattern build ... feed=harness)")
-    _, options, _, solution, _ = tables.solve_template(template, values)
-    harness = design_harness(solution, phasing_cable=options["phasing_cable"], match=options["match"],
-                             sense=options["sense"] or "rhcp")
-    recorded = header.get("phasing_line_cut_cm")
-    if recorded is not None and recorded != harness.header()["phasing_line_cut_cm"]:
-        warn(f"{source}: the rebuilt phasing line is {harness.header()['phasing_line_cut_cm']} cm, the table says {recorded} cm "
-             "(made by another version of planner?); the sensitivity is for the rebuilt one")
-    return harness
 
 
 def cut_sensitivity(design: HarnessDesign, errors_m: Sequence[float] = (-0.005, 0.0, 0.005),

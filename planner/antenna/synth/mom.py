@@ -84,7 +84,8 @@ from planner.limits import (
     check_allocation,
     format_seconds,
 )
-from planner.antenna import GAIN_FLOOR_DBIC, circular_components, direction_enu, spherical_unit_vectors
+from planner.antenna.analytic import circular_components, direction_enu, spherical_unit_vectors
+from planner.antenna.table import GAIN_FLOOR_DBIC
 from planner.antenna.synth.geometry import Segmentation, WireModel, estimated_segment_count, segment_model
 
 ETA0_OHM = math.sqrt(mu_0 / epsilon_0)
@@ -510,7 +511,7 @@ class Solution:
 
     def gains_dbic(self, azimuth_deg, elevation_deg, port_voltages=None) -> tuple[np.ndarray, np.ndarray]:
         """Partial gains (RHCP, LHCP) in dBic relative to the input power (so losses show),
-        IEEE Std 145 senses via ``planner.antenna.circular_components``; floored at
+        IEEE Std 145 senses via ``planner.antenna.analytic.circular_components``; floored at
         GAIN_FLOOR_DBIC (no field, e.g. below a PEC ground)."""
         az, el = np.broadcast_arrays(np.asarray(azimuth_deg, dtype=float), np.asarray(elevation_deg, dtype=float))
         e_theta, e_phi = self.far_field(az, el, port_voltages)

@@ -6,7 +6,8 @@ header. :func:`build_template_table` does the whole chain from a template name a
 (validate, build the model, solve, feed, tabulate); it is what ``planner pattern build TEMPLATE``
 calls. A table's header names its template (``builder``) and its ``parameters``, so the header alone
 is enough to rebuild it with one parameter changed (the reflector sweep,
-``planner.antenna.rebuild_pattern``).
+``planner.antenna.registry.rebuild_pattern``); :func:`harness_from_header` designs again the harness a
+``feed=harness`` table was built with (``planner harness`` cut-error check).
 
 Gains
 -----
@@ -28,9 +29,11 @@ from typing import Any, Mapping
 
 import numpy as np
 
-from planner.errors import UserError
+from planner.errors import UserError, warn
 from planner.link.feedline import CABLES, quarter_wave_length_m
-from planner.antenna import format_number, GAIN_FLOOR_DBIC, PatternTable, check_frequency, pattern_grid
+from planner.antenna.analytic import check_frequency, pattern_grid
+from planner.antenna.table import GAIN_FLOOR_DBIC, PatternTable
+from planner.antenna.tablefile import BUILDER_ALIASES, format_number
 from planner.antenna.synth import design, mom
 from planner.antenna.synth.design import MATCHES, SIZE_PARAMETERS
 from planner.antenna.synth.feed import FeedResult, ideal_quadrature, phasing_line, single_port
@@ -46,6 +49,7 @@ __all__ = [
     "build_pattern_table",
     "build_template_table",
     "feed_model",
+    "harness_from_header",
 ]
 
 MODEL_DESCRIPTION = "thin-wire method of moments (Galerkin, piecewise-linear basis, reduced kernel)"
@@ -404,3 +408,29 @@ def build_template_table(template: str, values: Mapping[str, Any] | None = None,
     if extra:
         _insert_after(table.header, "feed", extra)
     return table
+
+
+def harness_from_header(header: Mapping[str, str], source: str = "pattern table") -> design.HarnessDesign:
+    """Rebuild the harness a ``feed=harness`` table was made with, from its ``builder`` and
+    ``parameters`` header lines (the model is trimmed, solved and the harness designed again)."""
+    builder = header.get("builder", "")
+    template = BUILDER_ALIASES.get(builder, builder)
+    if template not in TWO_PORT_TEMPLATES:
+        raise UserError(f"{source}: builder {builder or '(none)'!r} is not a two-port wire template; allowed: tables built by "
+                        "planner pattern build turnstile|crossed-loops ... feed=harness")
+    values = {}
+    for item in header.get("parameters", "").split(";"):
+        key, sep, value = item.partition("=")
+        if sep:
+            values[key.strip()] = value.strip()
+    if values.get("feed") != "harness":
+        raise UserError(f"{source}: the table was built with feed={values.get('feed', 'quadrature')}; allowed: a table built "
+                        "with feed=harness (planner pattern build ... feed=harness)")
+    _, options, _, solution, _ = solve_template(template, values)
+    harness = design.design_harness(solution, phasing_cable=options["phasing_cable"], match=options["match"],
+                                    sense=options["sense"] or "rhcp")
+    recorded = header.get("phasing_line_cut_cm")
+    if recorded is not None and recorded != harness.header()["phasing_line_cut_cm"]:
+        warn(f"{source}: the rebuilt phasing line is {harness.header()['phasing_line_cut_cm']} cm, the table says {recorded} cm "
+             "(made by another version of planner?); the sensitivity is for the rebuilt one")
+    return harness
