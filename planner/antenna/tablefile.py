@@ -38,8 +38,9 @@ from typing import Any
 import numpy as np
 
 from planner.antenna.table import PatternTable, db_to_linear, linear_to_db, sphere_mean_gain
-from planner.fileio import REPLACE_ANY, WriteRules, write_atomically
+from planner.bounds import FREQUENCY_MAX_MHZ, FREQUENCY_MIN_MHZ
 from planner.errors import UserError
+from planner.fileio import REPLACE_ANY, WriteRules, write_atomically
 from planner.limits import (
     MEMORY_LIMIT_BYTES,
     PATTERN_BYTES_PER_POINT,
@@ -123,13 +124,7 @@ def _fmt_deg(value: float) -> str:
     return "0" if text in ("-0", "") else text
 
 
-# Design frequencies a table may have: the link frequencies a scenario accepts (downlink_mhz,
-# uplink_mhz), 1 MHz to 50 GHz. Inside it the models of planner.link.noise (ITU-R P.372 lines from
-# 0.3 MHz, extrapolated beyond their stated ranges with a warning) and planner.link.atmosphere
-# (ITU-R P.676, stated for 1-1000 GHz, its low-frequency tail used below 1 GHz) are evaluated;
-# a table outside it serves no link the planner computes, so it is a unit mistake.
-FREQUENCY_MIN_MHZ = 1.0
-FREQUENCY_MAX_MHZ = 50_000.0
+# Design frequencies a table may have: the link frequencies of planner.bounds.
 
 # Energy conservation: a passive antenna radiates at most the power it is fed, so its total gain
 # G_RHCP + G_LHCP averaged over the sphere equals its radiation efficiency, at most 1 (IEEE Std 145

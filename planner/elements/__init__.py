@@ -33,14 +33,16 @@ Modules:
 * ``selection``: choosing one satellite's element set, and the element-age checks.
 """
 
-from planner.elements.model import (
+from planner.bounds import (
     EARLIEST_YEAR,
     LATEST_YEAR,
     MAX_OMM_CATALOG_NUMBER,
     SUPPORTED_YEARS,
-    ElementSet,
     control_character,
     in_supported_years,
+)
+from planner.elements.model import (
+    ElementSet,
 )
 from planner.elements.read import read_elements
 from planner.elements.selection import (

@@ -20,25 +20,10 @@ from sgp4.api import SGP4_ERRORS, Satrec
 
 from planner.errors import UserError
 
-
 # A circular orbit at the Earth's surface goes round about 17 times a day; more
 # than 20 rev/day cannot be an orbit (plausibility bound, common practice).
 MAX_MEAN_MOTION_REV_PER_DAY = 20.0
 MAX_CATALOG_NUMBER = 339999  # largest five-character (Alpha-5) catalog number, 'Z9999'
-# The OMM carries NORAD_CAT_ID as a plain integer, not in five columns. Catalog numbers of
-# up to 9 digits were announced for when the five-character field runs out (from memory),
-# so an OMM may hold up to 999999999; anything longer is a mistake, not a catalog number.
-MAX_OMM_CATALOG_NUMBER = 999_999_999
-
-# Years an element-set epoch, a window or any time a user gives must fall in (inclusive).
-# 1957: the first artificial satellite was launched in October 1957, so no element set is
-# older. 2100: far beyond any element set's useful life (SGP4 errors grow by kilometres a
-# day from the epoch) and well inside what datetime and the time scales can represent.
-EARLIEST_YEAR = 1957
-LATEST_YEAR = 2100
-SUPPORTED_YEARS = f"{EARLIEST_YEAR} to {LATEST_YEAR}"
-_EARLIEST_UTC = datetime(EARLIEST_YEAR, 1, 1, tzinfo=timezone.utc)
-_AFTER_LATEST_UTC = datetime(LATEST_YEAR + 1, 1, 1, tzinfo=timezone.utc)
 
 _MINUTES_PER_DAY = 1440.0
 _REV_PER_DAY_PER_RAD_PER_MIN = _MINUTES_PER_DAY / (2.0 * math.pi)
@@ -68,34 +53,6 @@ class ElementSet:
     def label(self) -> str:
         """``NAME (ID)`` for messages; ``unnamed (ID)`` without a name."""
         return f"{self.name or 'unnamed'} ({self.norad_id})"
-
-
-def in_supported_years(moment: datetime) -> bool:
-    """True when ``moment`` (naive means UTC) falls in EARLIEST_YEAR..LATEST_YEAR, UTC.
-
-    Times near year 1 or 9999 with an offset cannot even be converted to UTC (OverflowError);
-    they are outside, not an error.
-    """
-    try:
-        return _EARLIEST_UTC <= _utc(moment) < _AFTER_LATEST_UTC
-    except (OverflowError, ValueError):
-        return False
-
-
-def control_character(text: str) -> tuple[int, str] | None:
-    """(1-based position, escaped form like ``\\x1b``) of the first character a terminal would not
-    show as itself, or None when every character prints.
-
-    The one rule for every name the program prints (TLE titles, OMM OBJECT_NAME, scenario
-    names): an ESC sequence, BEL, any other C0 or C1 control character or DEL could recolour
-    or rewrite the user's terminal. ``str.isprintable`` is False for exactly these and for
-    the other Unicode "Other" and "Separator" characters except the ASCII space (Python docs,
-    str.isprintable), such as tabs, line separators and text-direction overrides.
-    """
-    for index, char in enumerate(text, start=1):
-        if not char.isprintable():
-            return index, char.encode("unicode_escape").decode("ascii")
-    return None
 
 
 def _clip(text: str, limit: int = 40) -> str:

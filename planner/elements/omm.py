@@ -15,26 +15,27 @@ from decimal import Decimal
 
 from sgp4.api import WGS72, Satrec
 
+from planner.bounds import (
+    EARLIEST_YEAR,
+    LATEST_YEAR,
+    MAX_OMM_CATALOG_NUMBER,
+    SUPPORTED_YEARS,
+    control_character,
+    in_supported_years,
+)
 from planner.elements.model import (
     _NDDOT_UNITS,
     _NDOT_UNITS,
     _REV_PER_DAY_PER_RAD_PER_MIN,
-    EARLIEST_YEAR,
-    LATEST_YEAR,
     MAX_CATALOG_NUMBER,
-    MAX_OMM_CATALOG_NUMBER,
-    SUPPORTED_YEARS,
     ElementSet,
     _check_mean_motion,
     _check_range,
     _check_satrec,
     _clip,
     _days_since_sgp4_epoch0,
-    control_character,
-    in_supported_years,
 )
 from planner.errors import UserError
-
 
 _OMM_KEYWORDS = frozenset(
     {

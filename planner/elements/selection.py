@@ -12,7 +12,6 @@ from datetime import datetime
 from planner.elements.model import ElementSet, _utc
 from planner.errors import UserError, warn
 
-
 STALE_WARNING_DAYS = 7.0
 STALE_REFUSAL_DAYS = 30.0
 

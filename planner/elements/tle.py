@@ -17,6 +17,7 @@ from decimal import Decimal
 from sgp4.alpha5 import from_alpha5
 from sgp4.api import WGS72, Satrec
 
+from planner.bounds import control_character
 from planner.elements.model import (
     _NDDOT_UNITS,
     _NDOT_UNITS,
@@ -27,10 +28,8 @@ from planner.elements.model import (
     _check_satrec,
     _clip,
     _days_since_sgp4_epoch0,
-    control_character,
 )
 from planner.errors import UserError
-
 
 TLE_LINE_COLUMNS = 69
 
