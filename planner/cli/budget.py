@@ -6,72 +6,12 @@ import sys
 from pathlib import Path
 from typing import Optional
 
-import numpy as np
 import typer
 from rich.table import Table
 
 from planner.cli import common
 from planner.cli.app import app
 from planner.errors import UserError
-
-
-def _geometry_for_budget(study, satellite_name, pass_number, at, elevation_deg, range_km, azimuth_deg):
-    """(azimuth_deg, elevation_deg, range_km, time label, the pass or None) for a budget."""
-    from planner.link.budget import ORBIT_RADIUS_MARGIN_KM, orbit_radii_km, slant_range_km, slant_range_limits_km
-    from planner.output.export import iso_utc
-    from planner.passes import Observer, predict_passes
-
-    target = next(t for t in study.targets if t.display_name == study.satellite_config(satellite_name).name)
-    chosen = [x is not None for x in (pass_number, at, elevation_deg)]
-    if sum(chosen) != 1:
-        raise UserError("budget: give exactly one of --pass N, --at ISO_TIME or --elevation-deg E")
-    if pass_number is not None:
-        found = predict_passes(target, study.station, study.start_utc, study.end_utc, step_s=study.step_s)
-        if not 1 <= pass_number <= len(found):
-            raise UserError(f"--pass: {pass_number} is out of range; {target.display_name} has {len(found)} passes in the window (1 to {len(found)})")
-        chosen_pass = found[pass_number - 1]
-        observer = Observer(study.station, chosen_pass.tca_utc, 0.0)
-        look = observer.look(target.element_set.satrec, np.array([0.0]))
-        return look.azimuth_deg[0], look.elevation_deg[0], look.range_km[0], f"TCA of pass {pass_number}, {iso_utc(chosen_pass.tca_utc)}", chosen_pass
-    if at is not None:
-        from planner.elements import check_element_age
-
-        moment = common.parse_utc("--at", at)
-        check_element_age([target.element_set], moment, moment, allow_stale=study.allow_stale)
-        look = Observer(study.station, moment, 0.0).look(target.element_set.satrec, np.array([0.0]))
-        if not np.isfinite(look.elevation_deg[0]):
-            raise UserError(f"--at: SGP4 cannot propagate {target.display_name} to {iso_utc(moment)}")
-        if look.elevation_deg[0] < study.station.mask.min_elevation_at(look.azimuth_deg)[0]:
-            from planner.errors import warn
-
-            warn(f"{target.display_name} is below the horizon mask at {iso_utc(moment)} (elevation {look.elevation_deg[0]:.1f} deg)")
-        return look.azimuth_deg[0], look.elevation_deg[0], look.range_km[0], iso_utc(moment), None
-    if not -90.0 <= elevation_deg <= 90.0:
-        raise UserError(f"--elevation-deg: {elevation_deg:g} is out of range; allowed -90 to 90")
-    if azimuth_deg is not None and not np.isfinite(azimuth_deg):
-        raise UserError(f"--azimuth-deg: {azimuth_deg:g} is not a finite number; allowed e.g. 0 to 360")
-    azimuth = float(azimuth_deg or 0.0) % 360.0
-    satrec = target.element_set.satrec
-    if range_km is None:
-        if elevation_deg < 0:
-            raise UserError("--elevation-deg: below 0 give --range-km as well")
-        radius_km = orbit_radii_km(satrec)[1]
-        range_km = float(slant_range_km(elevation_deg, radius_km, study.station, azimuth))
-        label = (f"elevation {elevation_deg:g} deg, range {range_km:.0f} km to the orbit's mean radius {radius_km:.0f} km "
-                 "from the station's WGS84 position")
-    else:
-        if not np.isfinite(range_km) or range_km <= 0:
-            raise UserError(f"--range-km: {range_km:g} is out of range; allowed a finite number more than 0")
-        shortest, longest = slant_range_limits_km(satrec, study.station, elevation_deg, azimuth)
-        if not shortest <= range_km <= longest:
-            perigee, _, apogee = orbit_radii_km(satrec)
-            raise UserError(
-                f"--range-km: {range_km:g} km is out of reach of {target.display_name}'s orbit at elevation {elevation_deg:g} deg; "
-                f"allowed {shortest:.0f} to {longest:.0f} km (the straight lines to its perigee and apogee radii, "
-                f"{perigee:.0f} and {apogee:.0f} km, widened by {ORBIT_RADIUS_MARGIN_KM:g} km)"
-            )
-        label = f"elevation {elevation_deg:g} deg, range {range_km:g} km"
-    return azimuth, elevation_deg, range_km, label, None
 
 
 def _print_exposure(study, out) -> None:
@@ -112,7 +52,8 @@ def budget(
     force: bool = common.FORCE,
 ) -> None:
     """Print the link budget as a ladder of terms, each one recomputable by hand."""
-    from planner.link.budget import LADDER, evaluate, ladder_values, pass_budget
+    from planner.link.budget import LADDER, evaluate, ladder_values, pass_budget, pass_summary
+    from planner.link.geometry import budget_geometry
     from planner.output.export import to_json
 
     if format not in ("table", "json"):
@@ -128,23 +69,14 @@ def budget(
             allowed = ", ".join(study.candidate_names) or "none in this scenario"
             raise UserError(f"--candidate: a downlink budget needs a candidate set-up; allowed: {allowed}")
         study.candidate(candidate)  # refuse an unknown candidate before any computation
-    az, el, rng, label, chosen_pass = _geometry_for_budget(study, satellite, pass_number, at, elevation_deg, range_km, azimuth_deg)
+    moment = None if at is None else common.parse_utc("--at", at)
+    az, el, rng, label, chosen_pass = budget_geometry(study, satellite, pass_number, moment, elevation_deg, range_km, azimuth_deg)
     setup = study.downlink_setup(sat_name, candidate) if direction == "downlink" else study.uplink_setup(sat_name)
     row = evaluate(setup, [az], [el], [rng]).iloc[0]
     values = ladder_values(setup, row)
     summary = None
     if chosen_pass is not None:
-        along = pass_budget(setup, chosen_pass)
-        threshold = study.scenario.criteria.min_margin_db
-        steps = np.diff(along["time_s"].to_numpy(), append=along["time_s"].to_numpy()[-1])
-        summary = {
-            "samples": int(len(along)),
-            "min_margin_db": float(along["margin_db"].min()),
-            "median_margin_db": float(along["margin_db"].median()),
-            "max_margin_db": float(along["margin_db"].max()),
-            "seconds_at_or_above_min_margin": float(steps[along["margin_db"].to_numpy() >= threshold].sum()),
-            "min_margin_criterion_db": threshold,
-        }
+        summary = pass_summary(pass_budget(setup, chosen_pass), study.criteria.min_margin_db)
     if format == "json":
         document = {
             "satellite": sat_name,

@@ -471,6 +471,22 @@ LADDER = (
 )
 
 
+def pass_summary(along: pd.DataFrame, min_margin_db: float) -> dict[str, float | int]:
+    """Margins along one pass (the frame of :func:`pass_budget`): samples, min/median/max margin,
+    and the seconds at or above the usable margin (each sample counts until the next one)."""
+    time_s = along["time_s"].to_numpy()
+    margin_db = along["margin_db"].to_numpy()
+    steps = np.diff(time_s, append=time_s[-1])
+    return {
+        "samples": int(len(along)),
+        "min_margin_db": float(along["margin_db"].min()),
+        "median_margin_db": float(along["margin_db"].median()),
+        "max_margin_db": float(along["margin_db"].max()),
+        "seconds_at_or_above_min_margin": float(steps[margin_db >= min_margin_db].sum()),
+        "min_margin_criterion_db": min_margin_db,
+    }
+
+
 def ladder_values(setup: LinkSetup, row: pd.Series) -> dict[str, float | None]:
     """One sample's budget as the ladder's keys (None where a term does not apply)."""
     ladder_keys = {key for key, _, _ in LADDER}
