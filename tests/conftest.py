@@ -14,3 +14,17 @@ from hypothesis import settings
 settings.register_profile("fixed", derandomize=True, database=None, deadline=None)
 settings.register_profile("explore", derandomize=False, deadline=None)
 settings.load_profile(os.environ.get("PLANNER_HYPOTHESIS_PROFILE", "fixed"))
+
+import subprocess  # noqa: E402
+import sys  # noqa: E402
+from pathlib import Path  # noqa: E402
+
+ROOT = Path(__file__).resolve().parents[1]
+"""The repository's root folder (scenarios/, patterns/, sample_tle/ are under it)."""
+DEMO = ROOT / "scenarios" / "demo.toml"
+"""The demo scenario: the invented station and satellites the README walks through."""
+
+
+def run_planner(*args, cwd: Path = ROOT) -> subprocess.CompletedProcess:
+    """``planner ARGS`` in a new interpreter (``python -m planner``), output captured as text."""
+    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=cwd)

@@ -6,10 +6,7 @@ Sources: docs/references.md (full citations; values not yet checked against the 
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 from math import log10, pi, sqrt
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -25,9 +22,8 @@ from planner.antenna import load_pattern
 from planner.link.safety import general_public_limit_mw_cm2, min_distance_m, power_density_mw_cm2
 from planner.scenario import load_scenario
 from planner.study import Study
+from tests.conftest import DEMO, ROOT, run_planner as run
 
-ROOT = Path(__file__).resolve().parents[1]
-DEMO = ROOT / "scenarios" / "demo.toml"
 CONTRACT_KEYS = {
     "satellite", "direction", "frequency_mhz", "elevation_deg", "azimuth_deg", "range_km", "eirp_dbw",
     "free_space_loss_db", "atmospheric_loss_db", "polarization_loss_db", "rx_antenna_gain_dbic",
@@ -41,8 +37,6 @@ def study():
     return Study.from_scenario(load_scenario(DEMO))
 
 
-def run(*args):
-    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
 
 
 def test_free_space_loss_itu_p525():

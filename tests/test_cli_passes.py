@@ -8,10 +8,7 @@ from __future__ import annotations
 import csv
 import io
 import json
-import subprocess
-import sys
 from datetime import datetime, timedelta, timezone
-from pathlib import Path
 
 import pytest
 
@@ -23,17 +20,14 @@ from planner.errors import UserError
 from tests.orbit_factory import make_tle, write_three_line
 from tests.test_hardening import assert_user_error as assert_one_error_line
 from tests.test_hardening import run_cli
+from tests.conftest import DEMO, ROOT, run_planner as run
 
-ROOT = Path(__file__).resolve().parents[1]
-DEMO = ROOT / "scenarios" / "demo.toml"
 CONTRACT = [
     "satellite", "norad_id", "aos_utc", "tca_utc", "los_utc", "duration_s", "max_elevation_deg",
     "aos_azimuth_deg", "tca_azimuth_deg", "los_azimuth_deg", "min_range_km",
 ]
 
 
-def run(*args, cwd=ROOT):
-    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=cwd)
 
 
 def assert_user_error(result, *fragments):

@@ -6,19 +6,14 @@ Sources: docs/references.md (full citations; values not yet checked against the 
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
-from pathlib import Path
 
 import pytest
 
 from planner.antenna import load_pattern
+from tests.conftest import ROOT, run_planner as run
 
-ROOT = Path(__file__).resolve().parents[1]
 
 
-def run(*args):
-    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
 
 
 def test_pattern_build_makes_crossed_loops_over_a_reflector(tmp_path):

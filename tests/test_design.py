@@ -9,10 +9,7 @@ from __future__ import annotations
 
 import cmath
 import math
-import subprocess
-import sys
 import warnings
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -24,8 +21,8 @@ from planner.antenna.harness import axial_ratio_db_from_phase_error, phase_error
 from planner.antenna import load_pattern, spherical_unit_vectors
 from planner.antenna.synth import design
 from planner.antenna.synth.templates import check_parameters
+from tests.conftest import run_planner as run
 
-ROOT = Path(__file__).resolve().parents[1]
 F_HZ = 436e6
 TALL_FAR = {"width_to_height": 0.5, "exponent": 6.0, "reflector": "pec", "spacing_wavelengths": 0.6}
 
@@ -332,8 +329,6 @@ def test_options_that_do_not_apply_are_refused_in_one_line():
         assert "\n" not in str(error.value)
 
 
-def run(*args):
-    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
 
 
 def test_harness_command_reports_cut_errors_of_a_harness_table(harness_table, tall_loops):

@@ -12,7 +12,6 @@ import itertools
 import warnings
 from datetime import timedelta
 from math import log10
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -32,7 +31,6 @@ from planner.decision.forecast import (
     compute_samples,
     forecast,
     hour_table,
-    pass_table,
     schedule,
     summarize_passes,
     weekly_table,
@@ -40,9 +38,8 @@ from planner.decision.forecast import (
 )
 from planner.scenario import load_scenario
 from planner.study import Study
+from tests.conftest import DEMO
 
-ROOT = Path(__file__).resolve().parents[1]
-DEMO = ROOT / "scenarios" / "demo.toml"
 WEEK_COLUMNS = ["candidate", "satellite", "passes", "usable_passes", "usable_minutes", "data_volume_mbit", "dropouts"]
 
 
@@ -79,7 +76,6 @@ def synthetic(study, series, satellite="WRENLING-1", candidate="test"):
     start = study.start_utc
     for number, (time_s, margin_db) in enumerate(series, start=1):
         time_s = np.asarray(time_s, dtype=float)
-        n = len(time_s)
         sample_frames.append(
             pd.DataFrame(
                 {

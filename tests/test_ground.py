@@ -15,7 +15,6 @@ import math
 import subprocess
 import sys
 import warnings
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -36,8 +35,8 @@ from planner.antenna.synth.ground import (
 )
 from planner.antenna.synth.tables import build_template_table
 from planner.antenna.synth.templates import build_model
+from tests.conftest import ROOT
 
-ROOT = Path(__file__).resolve().parents[1]
 F_HZ = 436e6
 LAM = speed_of_light / F_HZ
 

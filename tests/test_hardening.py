@@ -59,8 +59,8 @@ from planner.passes import predict_passes
 from planner.antenna import format_pattern, isotropic_rhcp, turnstile_over_reflector
 from planner.passes.station import Station
 from tests.orbit_factory import EARTH_RADIUS_KM, make_tle, write_three_line
+from tests.conftest import ROOT
 
-ROOT = Path(__file__).resolve().parents[1]
 START = datetime(2027, 1, 4, tzinfo=timezone.utc)
 START_TEXT = "2027-01-04T00:00:00Z"
 PASS_COLUMNS = [

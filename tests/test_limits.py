@@ -58,9 +58,8 @@ from planner.antenna.synth import mom, templates
 from planner.antenna.synth.geometry import estimated_segment_count, segment_model
 from tests.orbit_factory import make_tle
 from tests.test_hardening import assert_user_error, run_cli
+from tests.conftest import DEMO, ROOT
 
-ROOT = Path(__file__).resolve().parents[1]
-DEMO = ROOT / "scenarios" / "demo.toml"
 DEMO_TLE = ROOT / "sample_tle" / "demo.tle"
 DEV_ZERO = Path("/dev/zero")  # POSIX: a character device that reads as endless zero bytes
 START_TEXT = "2027-01-04T00:00:00Z"

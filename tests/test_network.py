@@ -5,9 +5,6 @@ from __future__ import annotations
 import csv
 import io
 import json
-import subprocess
-import sys
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -16,9 +13,8 @@ from planner.errors import UserError
 from planner.scenario import load_scenario
 from planner.study import Study
 from tests.orbit_factory import make_tle, write_three_line
+from tests.conftest import DEMO, ROOT, run_planner as run
 
-ROOT = Path(__file__).resolve().parents[1]
-DEMO = ROOT / "scenarios" / "demo.toml"
 
 # Two more invented club sites: one in the southern hemisphere, one far north.
 NETWORK = """
@@ -42,8 +38,6 @@ def scenario_text(days=0.5):
     return DEMO.read_text().replace('"../', f'"{ROOT}/').replace("days = 7", f"days = {days}")
 
 
-def run(*args):
-    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
 
 
 @pytest.fixture(scope="module")

@@ -3,12 +3,11 @@
 from __future__ import annotations
 
 import os
-from pathlib import Path
 
 import nbformat
 from nbclient import NotebookClient
+from tests.conftest import ROOT
 
-ROOT = Path(__file__).resolve().parents[1]
 NOTEBOOK = ROOT / "notebooks" / "station-choice.ipynb"
 
 

@@ -8,10 +8,7 @@ from __future__ import annotations
 import csv
 import io
 import json
-import subprocess
-import sys
 from datetime import timedelta
-from pathlib import Path
 
 import pytest
 from icalendar import Calendar
@@ -21,9 +18,8 @@ from planner.decision.forecast import forecast
 from planner.decision.recommend import _band_minutes, recommend
 from planner.scenario import load_scenario
 from planner.study import Study
+from tests.conftest import DEMO, ROOT, run_planner as run
 
-ROOT = Path(__file__).resolve().parents[1]
-DEMO = ROOT / "scenarios" / "demo.toml"
 
 
 def short_scenario(tmp_path, days=1.5, extra_candidates="", replace=()):
@@ -37,8 +33,6 @@ def short_scenario(tmp_path, days=1.5, extra_candidates="", replace=()):
     return path
 
 
-def run(*args):
-    return subprocess.run([sys.executable, "-m", "planner", *map(str, args)], capture_output=True, text=True, cwd=ROOT)
 
 
 @pytest.fixture(scope="module")

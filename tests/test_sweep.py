@@ -8,7 +8,6 @@ from __future__ import annotations
 import json
 import subprocess
 import sys
-from pathlib import Path
 
 import numpy as np
 import pytest
@@ -21,9 +20,8 @@ from planner.decision.recommend import score_candidates
 from planner.scenario import load_scenario
 from planner.study import Study
 from planner.decision.sweep import parse_spacing_range, rebuild_at_spacing, sweep_reflector
+from tests.conftest import DEMO, ROOT
 
-ROOT = Path(__file__).resolve().parents[1]
-DEMO = ROOT / "scenarios" / "demo.toml"
 
 
 def short_demo(tmp_path, days=1.0):
