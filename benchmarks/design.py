@@ -63,9 +63,11 @@ def main() -> None:
         runs = [run(segments) for _ in range(max(1, args.repeat))]
         best = min(runs, key=lambda r: r["trim_s"] + r["harness_s"])
         print(f"crossed loops, {segments} segments per loop (solves: {best['solves']})")
-        print(f"  trim {best['trim_s']:.2f} s + harness design {best['harness_s']:.3f} s = "
-              f"{best['trim_s'] + best['harness_s']:.2f} s   (one solve {best['one_solve_s']:.2f} s; "
-              f"whole table with trim, harness and tabulation {min(r['whole_table_s'] for r in runs):.2f} s)")
+        print(
+            f"  trim {best['trim_s']:.2f} s + harness design {best['harness_s']:.3f} s = "
+            f"{best['trim_s'] + best['harness_s']:.2f} s   (one solve {best['one_solve_s']:.2f} s; "
+            f"whole table with trim, harness and tabulation {min(r['whole_table_s'] for r in runs):.2f} s)"
+        )
         print(f"  {best['trimmed']}; element {best['element']} ohm; zenith axial ratio {best['zenith_ar_db']:.2f} dB")
         print(f"  phasing line {best['phasing']}")
         print(f"  matching section {best['match']}; feed {best['feed']}")

@@ -19,7 +19,7 @@ import os
 import sys
 import tempfile
 import time
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 import numpy as np
@@ -108,7 +108,7 @@ def main() -> None:
     write_three_line(path, invented_catalog(args.satellites))
     element_sets = read_elements(path)
     station = Station("bench", 52.137, -1.804, 142.0)
-    start = datetime(2027, 1, 4, tzinfo=timezone.utc)
+    start = datetime(2027, 1, 4, tzinfo=UTC)
     end = start + timedelta(days=args.days)
 
     t = time.perf_counter()
@@ -132,9 +132,11 @@ def main() -> None:
     print(f"planner engine : {ours_s:8.2f} s  ({len(complete)} complete passes)")
     print(f"skyfield loop  : {reference_s:8.2f} s  ({len(ref_by)} complete passes)")
     print(f"ratio          : {reference_s / ours_s:8.1f}x faster (target >= 20x)")
-    print(f"agreement      : same passes of the same satellites: {same_count}; worst AOS {worst_aos:.3f} s, "
-          f"LOS {worst_los:.3f} s (skyfield's events to about 0.5 s), max elevation {worst_el:.4f} deg; "
-          f"identical within 1 s / 0.01 deg: {identical}")
+    print(
+        f"agreement      : same passes of the same satellites: {same_count}; worst AOS {worst_aos:.3f} s, "
+        f"LOS {worst_los:.3f} s (skyfield's events to about 0.5 s), max elevation {worst_el:.4f} deg; "
+        f"identical within 1 s / 0.01 deg: {identical}"
+    )
 
 
 if __name__ == "__main__":

@@ -31,6 +31,7 @@ sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(ROOT / "benchmarks"))
 
 from catalog import invented_catalog  # noqa: E402
+
 from tests.orbit_factory import write_three_line  # noqa: E402
 
 CANDIDATE = "turnstile-far"
@@ -41,16 +42,20 @@ def catalog_scenario(folder: Path, count: int, days: float) -> Path:
     elements = folder / "catalog.tle"
     write_three_line(elements, invented_catalog(count))
     demo = (ROOT / "scenarios" / "demo.toml").read_text()
-    head, tail = demo[: demo.index("[[satellite]]")], demo[demo.index("[receiver]"):]
+    head, tail = demo[: demo.index("[[satellite]]")], demo[demo.index("[receiver]") :]
     head = re.sub(r"^days = .*$", f"days = {days:g}", head, flags=re.M)
-    text = head + f'''[catalog]
+    text = (
+        head
+        + f'''[catalog]
 elements = "{elements}"
 downlink_mhz = 436.0
 tx_power_w = 1.0
 modulation = "gmsk"
 data_rate_bps = 9600
 
-''' + tail
+'''
+        + tail
+    )
     # Relative paths of the demo (patterns, cables) are taken from the demo's folder.
     text = text.replace('"../', f'"{ROOT}/')
     path = folder / "catalog.toml"
@@ -71,19 +76,32 @@ def main() -> None:
     folder = Path(tempfile.mkdtemp())
     scenario = catalog_scenario(folder, args.satellites, args.days)
     output = folder / "ranked.csv"
-    command = planner_command() + ["rank", str(scenario), "--candidate", CANDIDATE, "--format", "csv",
-                                   "--output", str(output), "--quiet"]
+    command = planner_command() + [
+        "rank",
+        str(scenario),
+        "--candidate",
+        CANDIDATE,
+        "--format",
+        "csv",
+        "--output",
+        str(output),
+        "--quiet",
+    ]
     started = time.perf_counter()
     run = subprocess.run(command, capture_output=True, text=True)
     wall_s = time.perf_counter() - started
     if run.returncode != 0:
         sys.exit(f"planner rank failed ({run.returncode}): {run.stderr.strip()}")
-    peak_mb = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024.0   # kilobytes on Linux
+    peak_mb = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024.0  # kilobytes on Linux
     ranked = len(output.read_text().splitlines()) - 1
-    print(f"machine: {os.cpu_count()} cores; planner rank, {args.satellites} invented objects x {args.days:g} days, "
-          f"candidate {CANDIDATE}, tracks every 10 s")
-    print(f"wall time {wall_s:.1f} s (start-up included); {ranked} objects ranked; "
-          f"peak resident memory of the largest process {peak_mb:.0f} MB (target < 2048 MB)")
+    print(
+        f"machine: {os.cpu_count()} cores; planner rank, {args.satellites} invented objects x {args.days:g} days, "
+        f"candidate {CANDIDATE}, tracks every 10 s"
+    )
+    print(
+        f"wall time {wall_s:.1f} s (start-up included); {ranked} objects ranked; "
+        f"peak resident memory of the largest process {peak_mb:.0f} MB (target < 2048 MB)"
+    )
 
 
 if __name__ == "__main__":

@@ -30,7 +30,9 @@ C = 299_792_458.0
 def dipole_model(frequency_hz: float, segments: int) -> WireModel:
     lam = C / frequency_hz
     half = lam / 4.0
-    wire = Wire(np.array([[0, 0, -half], [0, 0, 0], [0, 0, half]]), lam / 2000.0, "copper", "dipole", segments_per_edge=segments // 2)
+    wire = Wire(
+        np.array([[0, 0, -half], [0, 0, 0], [0, 0, half]]), lam / 2000.0, "copper", "dipole", segments_per_edge=segments // 2
+    )
     return WireModel([wire], [Port("a", (0, 0, 0))], frequency_hz=frequency_hz)
 
 
@@ -81,12 +83,12 @@ def main(argv=None) -> int:
     for n in (50, 100, 200, 400):
         model = dipole_model(f, n)
         seg = segment_model(model)
-        t_fill, z = best(lambda: impedance_matrix(seg, f), args.repeat)
+        t_fill, z = best(lambda: impedance_matrix(seg, f), args.repeat)  # noqa: B023 (called at once, in this iteration)
         rhs = np.zeros(seg.n_basis, complex)
         rhs[seg.port_basis[0]] = 1.0
-        t_solve, _ = best(lambda: np.linalg.solve(z, rhs), args.repeat)
+        t_solve, _ = best(lambda: np.linalg.solve(z, rhs), args.repeat)  # noqa: B023 (called at once, in this iteration)
         sol = solve(model)
-        t_pat, _ = best(lambda: sol.gains_dbic(az[None, :], el[:, None]), args.repeat)
+        t_pat, _ = best(lambda: sol.gains_dbic(az[None, :], el[:, None]), args.repeat)  # noqa: B023 (called at once, in this iteration)
         zin = sol.input_impedance()[0]
         print(f"{n:>9d} {t_fill:9.4f} {t_solve:9.4f} {t_pat:10.4f} {zin.real:10.2f}{zin.imag:+10.2f}j")
 
@@ -108,7 +110,9 @@ def main(argv=None) -> int:
         f"crossed loops over PEC ground: {sol.segmentation.n_segments} segments, {sol.segmentation.n_basis} basis functions "
         f"(+ images), 2 ports"
     )
-    print(f"  solve (segment + fill + LU, 2 ports): {t1 - t0:.3f} s; table {len(el)} x {len(az)} + efficiency: {t2 - t1:.3f} s; total {t2 - t0:.3f} s")
+    print(
+        f"  solve (segment + fill + LU, 2 ports): {t1 - t0:.3f} s; table {len(el)} x {len(az)} + efficiency: {t2 - t1:.3f} s; total {t2 - t0:.3f} s"
+    )
     print(f"  Z11 = {z[0, 0]:.2f} ohm, Z22 = {z[1, 1]:.2f} ohm, Z12 = {z[0, 1]:.2f} ohm; radiation efficiency {eff:.4f}")
     zen = int(np.argmin(np.abs(el - 90.0)))
     print(f"  zenith (quadrature feed, b lagging): RHCP {rhcp[zen, 0]:.2f} dBic, LHCP {lhcp[zen, 0]:.2f} dBic")

@@ -13,7 +13,7 @@ checking a scenario's years or names must not pull in numpy, sgp4 or the antenna
 
 from __future__ import annotations
 
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 
 __all__ = [
     "EARLIEST_YEAR",
@@ -33,8 +33,8 @@ __all__ = [
 EARLIEST_YEAR = 1957
 LATEST_YEAR = 2100
 SUPPORTED_YEARS = f"{EARLIEST_YEAR} to {LATEST_YEAR}"
-_EARLIEST_UTC = datetime(EARLIEST_YEAR, 1, 1, tzinfo=timezone.utc)
-_AFTER_LATEST_UTC = datetime(LATEST_YEAR + 1, 1, 1, tzinfo=timezone.utc)
+_EARLIEST_UTC = datetime(EARLIEST_YEAR, 1, 1, tzinfo=UTC)
+_AFTER_LATEST_UTC = datetime(LATEST_YEAR + 1, 1, 1, tzinfo=UTC)
 
 # The OMM carries NORAD_CAT_ID as a plain integer, not in five columns. Catalog numbers of
 # up to 9 digits were announced for when the five-character field runs out (from memory),
@@ -53,7 +53,7 @@ FREQUENCY_MAX_MHZ = 50_000.0
 
 def _utc(moment: datetime) -> datetime:
     """``moment`` in UTC; a naive datetime is taken as UTC already."""
-    return moment.replace(tzinfo=timezone.utc) if moment.tzinfo is None else moment.astimezone(timezone.utc)
+    return moment.replace(tzinfo=UTC) if moment.tzinfo is None else moment.astimezone(UTC)
 
 
 def in_supported_years(moment: datetime) -> bool:

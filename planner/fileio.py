@@ -10,9 +10,9 @@ from __future__ import annotations
 
 import os
 import tempfile
+from collections.abc import Iterable
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Iterable
 
 from planner.errors import UserError
 
@@ -40,7 +40,7 @@ class WriteRules:
     force: bool = False
 
     @classmethod
-    def for_run(cls, inputs: Iterable[str | os.PathLike | None], *, force: bool) -> "WriteRules":
+    def for_run(cls, inputs: Iterable[str | os.PathLike | None], *, force: bool) -> WriteRules:
         """Rules protecting ``inputs`` (None entries are skipped)."""
         paths = [Path(p) for p in inputs if p is not None]
         resolved = frozenset(_resolved(p) for p in paths)

@@ -23,7 +23,9 @@ from pathlib import Path
 from planner.errors import UserError
 
 __all__ = [
-    "KIB", "MIB", "GIB",
+    "KIB",
+    "MIB",
+    "GIB",
     "MEMORY_LIMIT_BYTES",
     "RUN_TIME_LIMIT_S",
     "ELEMENTS_FILE_LIMIT_BYTES",

@@ -14,11 +14,11 @@ edge, by :meth:`Study.satellite_config` and :meth:`Study.candidate`.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
 from datetime import datetime
 from pathlib import Path
 from types import MappingProxyType
-from typing import Mapping
 
 from planner.elements import ElementSet, check_element_age, read_elements, select_element_set
 from planner.errors import UserError
@@ -52,15 +52,15 @@ class Candidate:
     """
 
     name: str
-    pattern: object                      # planner.antenna.PatternTable
-    feedline: tuple = ()                 # ((planner.link.feedline.Cable, length_m), ...)
+    pattern: object  # planner.antenna.PatternTable
+    feedline: tuple = ()  # ((planner.link.feedline.Cable, length_m), ...)
     connectors: int = 0
     connector_loss_db: float = 0.0
     lna_position: str | None = None
-    feed_vswr_override: float | None = None   # the scenario's feed_vswr
-    pre_lna_feedline: tuple = ()         # ((Cable, length_m), ...) between antenna and LNA
+    feed_vswr_override: float | None = None  # the scenario's feed_vswr
+    pre_lna_feedline: tuple = ()  # ((Cable, length_m), ...) between antenna and LNA
     pre_lna_connectors: int = 0
-    pre_lna_loss_db: float = 0.0         # switch, bias-tee (dB)
+    pre_lna_loss_db: float = 0.0  # switch, bias-tee (dB)
 
     @property
     def feed_vswr(self) -> float | None:
@@ -84,7 +84,7 @@ def _frozen(mapping: dict) -> Mapping:
 def satellite_index(satellites: tuple[SatelliteConfig, ...]) -> Mapping[str, SatelliteConfig]:
     """Name and catalog number -> configuration; the first entry in scenario order wins."""
     index: dict[str, SatelliteConfig] = {}
-    for config in reversed(satellites):      # earlier entries overwrite later ones
+    for config in reversed(satellites):  # earlier entries overwrite later ones
         if config.norad_id is not None:
             index[str(config.norad_id)] = config
         index[config.name] = config
@@ -102,14 +102,14 @@ class Study:
     step_s: float
     scenario: Scenario | None = None
     station_config: StationConfig | None = None
-    satellites: tuple[SatelliteConfig, ...] = ()      # [[satellite]] + [catalog] objects
+    satellites: tuple[SatelliteConfig, ...] = ()  # [[satellite]] + [catalog] objects
     candidates: Mapping[str, Candidate] = field(default_factory=lambda: _frozen({}))
-    transmitter_feedline: tuple = ()                   # ((Cable, length_m), ...) of [transmitter]
+    transmitter_feedline: tuple = ()  # ((Cable, length_m), ...) of [transmitter]
     allow_stale: bool = False
     satellites_by_name: Mapping[str, SatelliteConfig] = field(default_factory=lambda: _frozen({}))
 
     @classmethod
-    def from_scenario(cls, scenario: Scenario, *, allow_stale: bool = False, station: str | None = None) -> "Study":
+    def from_scenario(cls, scenario: Scenario, *, allow_stale: bool = False, station: str | None = None) -> Study:
         """The scenario ready to compute, at its home station or at the named network station."""
         files: dict[Path, list[ElementSet]] = {}
         targets, satellites = [], list(scenario.satellite)
@@ -139,30 +139,33 @@ class Study:
             step_s=window.step_s,
             satellites=tuple(satellites),
             station_config=site,
-            candidates=_frozen({c.name: _candidate(scenario, c, position, cables)
-                                for position, c in enumerate(scenario.candidate, start=1)}),
-            transmitter_feedline=() if transmitter is None else _runs(scenario, cables, transmitter.feedline, "transmitter.feedline"),
+            candidates=_frozen(
+                {c.name: _candidate(scenario, c, position, cables) for position, c in enumerate(scenario.candidate, start=1)}
+            ),
+            transmitter_feedline=()
+            if transmitter is None
+            else _runs(scenario, cables, transmitter.feedline, "transmitter.feedline"),
             allow_stale=allow_stale,
             satellites_by_name=satellite_index(tuple(satellites)),
         )
 
     @classmethod
-    def for_targets(cls, station: Station, targets, start_utc: datetime, end_utc: datetime, step_s: float) -> "Study":
+    def for_targets(cls, station: Station, targets, start_utc: datetime, end_utc: datetime, step_s: float) -> Study:
         """A study without a scenario: passes of these targets over one station (the quick look)."""
         return cls(station=station, targets=tuple(targets), start_utc=start_utc, end_utc=end_utc, step_s=step_s)
 
     # ------------------------------------------------------------------ variants
 
-    def with_targets(self, targets) -> "Study":
+    def with_targets(self, targets) -> Study:
         """The same study for these targets only."""
         return replace(self, targets=tuple(targets))
 
-    def at_station(self, name: str) -> "Study":
+    def at_station(self, name: str) -> Study:
         """The same study seen from another station of the scenario."""
         site = self.config.station_named(name)
         return replace(self, station=Station.from_config(site), station_config=site)
 
-    def with_candidate(self, candidate: Candidate) -> "Study":
+    def with_candidate(self, candidate: Candidate) -> Study:
         """The same study with one candidate replaced (or added) by ``candidate``."""
         return replace(self, candidates=_frozen({**self.candidates, candidate.name: candidate}))
 
@@ -220,15 +223,28 @@ class Study:
         """The fixed part of the downlink budget of a satellite and a candidate, by name."""
         from planner.link.budget import downlink_setup
 
-        return downlink_setup(self.satellite_config(satellite), self.candidate(candidate), self.receiver, self.station,
-                              fade_percentile=self.criteria.fade_percentile, source=self.source, antenna_noise=antenna_noise)
+        return downlink_setup(
+            self.satellite_config(satellite),
+            self.candidate(candidate),
+            self.receiver,
+            self.station,
+            fade_percentile=self.criteria.fade_percentile,
+            source=self.source,
+            antenna_noise=antenna_noise,
+        )
 
     def uplink_setup(self, satellite: str):
         """The fixed part of the uplink budget of a satellite, by name (needs a [transmitter])."""
         from planner.link.budget import uplink_setup
 
-        return uplink_setup(self.satellite_config(satellite), self.config.transmitter, self.transmitter_feedline,
-                            self.station, fade_percentile=self.criteria.fade_percentile, source=self.source)
+        return uplink_setup(
+            self.satellite_config(satellite),
+            self.config.transmitter,
+            self.transmitter_feedline,
+            self.station,
+            fade_percentile=self.criteria.fade_percentile,
+            source=self.source,
+        )
 
     def passes(self) -> list[Pass]:
         return predict_passes(list(self.targets), self.station, self.start_utc, self.end_utc, step_s=self.step_s)

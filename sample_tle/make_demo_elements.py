@@ -31,7 +31,7 @@ import json
 import math
 import sys
 from dataclasses import dataclass
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta
 from decimal import Decimal
 from pathlib import Path
 from xml.sax.saxutils import escape
@@ -49,17 +49,30 @@ EARTH_RADIUS_KM = 6378.137  # WGS84 equatorial radius
 MU_KM3_S2 = 398600.4418  # WGS84 gravitational parameter
 J2 = 1.08262668e-3  # Earth's second zonal harmonic (EGM96 / WGS84 value, from memory)
 TROPICAL_YEAR_DAYS = 365.2421897  # mean tropical year (from memory)
-EPOCH = datetime(2027, 1, 3, 12, 0, 0, tzinfo=timezone.utc)  # the demo window opens 2027-01-04T00:00Z
-SGP4_EPOCH0 = datetime(1949, 12, 31, tzinfo=timezone.utc)  # sgp4init counts days from here
+EPOCH = datetime(2027, 1, 3, 12, 0, 0, tzinfo=UTC)  # the demo window opens 2027-01-04T00:00Z
+SGP4_EPOCH0 = datetime(1949, 12, 31, tzinfo=UTC)  # sgp4init counts days from here
 J2000_JD = 2451545.0
-J2000 = datetime(2000, 1, 1, 12, 0, 0, tzinfo=timezone.utc)
+J2000 = datetime(2000, 1, 1, 12, 0, 0, tzinfo=UTC)
 REV_PER_DAY_PER_RAD_PER_MIN = 1440.0 / (2.0 * math.pi)
 
 OMM_KEYS = (
-    "OBJECT_NAME", "OBJECT_ID", "EPOCH", "MEAN_MOTION", "ECCENTRICITY", "INCLINATION",
-    "RA_OF_ASC_NODE", "ARG_OF_PERICENTER", "MEAN_ANOMALY", "EPHEMERIS_TYPE",
-    "CLASSIFICATION_TYPE", "NORAD_CAT_ID", "ELEMENT_SET_NO", "REV_AT_EPOCH", "BSTAR",
-    "MEAN_MOTION_DOT", "MEAN_MOTION_DDOT",
+    "OBJECT_NAME",
+    "OBJECT_ID",
+    "EPOCH",
+    "MEAN_MOTION",
+    "ECCENTRICITY",
+    "INCLINATION",
+    "RA_OF_ASC_NODE",
+    "ARG_OF_PERICENTER",
+    "MEAN_ANOMALY",
+    "EPHEMERIS_TYPE",
+    "CLASSIFICATION_TYPE",
+    "NORAD_CAT_ID",
+    "ELEMENT_SET_NO",
+    "REV_AT_EPOCH",
+    "BSTAR",
+    "MEAN_MOTION_DOT",
+    "MEAN_MOTION_DDOT",
 )
 
 
@@ -82,16 +95,11 @@ class DemoOrbit:
 
 
 DEMO_ORBITS = (
-    DemoOrbit(99901, "WRENLING-1", "2026-901A", 550.0, None, 0.0001, None, 22.5, 90.0, 10.0,
-              1.1e-4, 1.8e-5, 211, 1520),
-    DemoOrbit(99902, "TARNBECK", "2026-902A", 420.0, 51.64, 0.0005, 120.0, None, 45.0, 200.0,
-              2.6e-4, 1.5e-4, 318, 4107),
-    DemoOrbit(99903, "OSTRAVEL-2", "2026-903B", 800.0, 97.8, 0.0008, 300.0, None, 270.0, 80.0,
-              2.2e-5, 1.1e-6, 127, 2893),
-    DemoOrbit(99904, "CALDERWISP", "2026-904A", 520.0, None, 0.0001, None, 6.0, 0.0, 300.0,
-              1.3e-4, 2.4e-5, 96, 840),
-    DemoOrbit(99905, "MERROWFALL", "2026-905C", 600.0, 43.0, 0.002, 210.0, None, 135.0, 150.0,
-              6.0e-5, 9.5e-6, 402, 3366),
+    DemoOrbit(99901, "WRENLING-1", "2026-901A", 550.0, None, 0.0001, None, 22.5, 90.0, 10.0, 1.1e-4, 1.8e-5, 211, 1520),
+    DemoOrbit(99902, "TARNBECK", "2026-902A", 420.0, 51.64, 0.0005, 120.0, None, 45.0, 200.0, 2.6e-4, 1.5e-4, 318, 4107),
+    DemoOrbit(99903, "OSTRAVEL-2", "2026-903B", 800.0, 97.8, 0.0008, 300.0, None, 270.0, 80.0, 2.2e-5, 1.1e-6, 127, 2893),
+    DemoOrbit(99904, "CALDERWISP", "2026-904A", 520.0, None, 0.0001, None, 6.0, 0.0, 300.0, 1.3e-4, 2.4e-5, 96, 840),
+    DemoOrbit(99905, "MERROWFALL", "2026-905C", 600.0, 43.0, 0.002, 210.0, None, 135.0, 150.0, 6.0e-5, 9.5e-6, 402, 3366),
 )
 
 
@@ -129,10 +137,18 @@ def build_satrec(orbit: DemoOrbit) -> Satrec:
     epoch_days = delta.days + delta.seconds / 86400.0
     satrec = Satrec()
     satrec.sgp4init(
-        WGS72, "i", orbit.norad_id, epoch_days, orbit.bstar_per_earth_radius,
-        orbit.ndot_over_2_rev_per_day2 / (REV_PER_DAY_PER_RAD_PER_MIN * 1440.0), 0.0,
-        orbit.eccentricity, math.radians(orbit.argp_deg), math.radians(inclination_deg),
-        math.radians(orbit.mean_anomaly_deg), mean_motion / REV_PER_DAY_PER_RAD_PER_MIN,
+        WGS72,
+        "i",
+        orbit.norad_id,
+        epoch_days,
+        orbit.bstar_per_earth_radius,
+        orbit.ndot_over_2_rev_per_day2 / (REV_PER_DAY_PER_RAD_PER_MIN * 1440.0),
+        0.0,
+        orbit.eccentricity,
+        math.radians(orbit.argp_deg),
+        math.radians(inclination_deg),
+        math.radians(orbit.mean_anomaly_deg),
+        mean_motion / REV_PER_DAY_PER_RAD_PER_MIN,
         math.radians(raan_deg),
     )
     if satrec.error:
@@ -157,9 +173,7 @@ def omm_fields_from_tle(name: str, line1: str, line2: str) -> dict[str, str]:
     two_digit_year = int(line1[18:20])
     year = 2000 + two_digit_year if two_digit_year < 57 else 1900 + two_digit_year
     day_of_year = Decimal(line1[20:32])
-    epoch = datetime(year, 1, 1) + timedelta(
-        microseconds=int(((day_of_year - 1) * 86_400_000_000).to_integral_value())
-    )
+    epoch = datetime(year, 1, 1) + timedelta(microseconds=int(((day_of_year - 1) * 86_400_000_000).to_integral_value()))
     intldesg = line1[9:17].strip()
     launch_year = int(intldesg[:2])
     launch_year += 2000 if launch_year < 57 else 1900
@@ -191,14 +205,18 @@ def _decimal_text(value: Decimal) -> str:
 
 def omm_xml(records: list[dict[str, str]]) -> str:
     """CCSDS 502.0-B NDM/XML: one <omm> a satellite, each with one segment."""
+
     def items(keys, record, indent):
         return "".join(f"{indent}<{key}>{escape(record[key])}</{key}>\n" for key in keys)
 
     parts = ['<?xml version="1.0" encoding="UTF-8"?>\n', "<ndm>\n"]
     for record in records:
         metadata = {
-            "OBJECT_NAME": record["OBJECT_NAME"], "OBJECT_ID": record["OBJECT_ID"],
-            "CENTER_NAME": "EARTH", "REF_FRAME": "TEME", "TIME_SYSTEM": "UTC",
+            "OBJECT_NAME": record["OBJECT_NAME"],
+            "OBJECT_ID": record["OBJECT_ID"],
+            "CENTER_NAME": "EARTH",
+            "REF_FRAME": "TEME",
+            "TIME_SYSTEM": "UTC",
             "MEAN_ELEMENT_THEORY": "SGP4",
         }
         parts += [
@@ -215,12 +233,27 @@ def omm_xml(records: list[dict[str, str]]) -> str:
             "        </metadata>\n",
             "        <data>\n",
             "          <meanElements>\n",
-            items(("EPOCH", "MEAN_MOTION", "ECCENTRICITY", "INCLINATION", "RA_OF_ASC_NODE",
-                   "ARG_OF_PERICENTER", "MEAN_ANOMALY"), record, " " * 12),
+            items(
+                ("EPOCH", "MEAN_MOTION", "ECCENTRICITY", "INCLINATION", "RA_OF_ASC_NODE", "ARG_OF_PERICENTER", "MEAN_ANOMALY"),
+                record,
+                " " * 12,
+            ),
             "          </meanElements>\n",
             "          <tleParameters>\n",
-            items(("EPHEMERIS_TYPE", "CLASSIFICATION_TYPE", "NORAD_CAT_ID", "ELEMENT_SET_NO",
-                   "REV_AT_EPOCH", "BSTAR", "MEAN_MOTION_DOT", "MEAN_MOTION_DDOT"), record, " " * 12),
+            items(
+                (
+                    "EPHEMERIS_TYPE",
+                    "CLASSIFICATION_TYPE",
+                    "NORAD_CAT_ID",
+                    "ELEMENT_SET_NO",
+                    "REV_AT_EPOCH",
+                    "BSTAR",
+                    "MEAN_MOTION_DOT",
+                    "MEAN_MOTION_DDOT",
+                ),
+                record,
+                " " * 12,
+            ),
             "          </tleParameters>\n",
             "        </data>\n",
             "      </segment>\n",
@@ -281,8 +314,12 @@ def self_check(output_dir: Path, tles: list[tuple[str, str, str]]) -> None:
 
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--output-dir", type=Path, default=Path(__file__).resolve().parent,
-                        help="folder for the element files (default: this script's folder)")
+    parser.add_argument(
+        "--output-dir",
+        type=Path,
+        default=Path(__file__).resolve().parent,
+        help="folder for the element files (default: this script's folder)",
+    )
     args = parser.parse_args(argv)
     output_dir: Path = args.output_dir
 

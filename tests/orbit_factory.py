@@ -9,16 +9,16 @@ from __future__ import annotations
 
 import importlib.util
 import sys
-from datetime import datetime, timezone
-from pathlib import Path
+from datetime import UTC, datetime
 from math import pi, sqrt
+from pathlib import Path
 
 from sgp4.api import WGS72, Satrec
 from sgp4.exporter import export_tle
 
 MU_KM3_S2 = 398600.4418
 EARTH_RADIUS_KM = 6378.137
-_EPOCH0 = datetime(1949, 12, 31, tzinfo=timezone.utc)
+_EPOCH0 = datetime(1949, 12, 31, tzinfo=UTC)
 
 
 def mean_motion_rad_min(height_km: float, eccentricity: float = 0.0) -> float:
@@ -36,16 +36,26 @@ def make_tle(
     raan_deg: float = 0.0,
     argp_deg: float = 90.0,
     mean_anomaly_deg: float = 0.0,
-    epoch: datetime = datetime(2027, 1, 3, 12, tzinfo=timezone.utc),
+    epoch: datetime = datetime(2027, 1, 3, 12, tzinfo=UTC),
     bstar: float = 2.0e-5,
 ) -> tuple[str, str]:
     """Two TLE lines (with real checksums) for an invented orbit."""
     satrec = Satrec()
     epoch_days = (epoch - _EPOCH0).total_seconds() / 86400.0
     satrec.sgp4init(
-        WGS72, "i", norad_id, epoch_days, bstar, 0.0, 0.0, eccentricity,
-        argp_deg * pi / 180, inclination_deg * pi / 180, mean_anomaly_deg * pi / 180,
-        mean_motion_rad_min(height_km), raan_deg * pi / 180,
+        WGS72,
+        "i",
+        norad_id,
+        epoch_days,
+        bstar,
+        0.0,
+        0.0,
+        eccentricity,
+        argp_deg * pi / 180,
+        inclination_deg * pi / 180,
+        mean_anomaly_deg * pi / 180,
+        mean_motion_rad_min(height_km),
+        raan_deg * pi / 180,
     )
     satrec.classification = "U"
     satrec.intldesg = "27001A"

@@ -13,8 +13,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from planner.link import atmosphere
 from planner.errors import UserError
+from planner.link import atmosphere
 
 MHZ = 1e6
 REPO = Path(__file__).resolve().parents[1]
@@ -31,9 +31,7 @@ def test_matches_itur_exact_mode(frequency_hz, elevation_deg):
     from itur.models import itu676
 
     reference = float(
-        itu676.gaseous_attenuation_slant_path(
-            frequency_hz / 1e9, elevation_deg, 7.5, 1013.25, 288.15, mode="exact"
-        ).value
+        itu676.gaseous_attenuation_slant_path(frequency_hz / 1e9, elevation_deg, 7.5, 1013.25, 288.15, mode="exact").value
     )
     assert reference > 0
     assert atmosphere.gaseous_loss_db(frequency_hz, elevation_deg) == pytest.approx(reference, abs=0.01)
@@ -55,9 +53,7 @@ def test_zenith_loss_is_the_integral_of_specific_attenuation():
             itu835.standard_temperature(h).to("K").value,
         ).value
         integral_db = float(np.sum(0.5 * (gamma[1:] + gamma[:-1]) * np.diff(h)))
-        assert atmosphere.gaseous_loss_db(f_hz, 90.0, altitude_m=station_km * 1000) == pytest.approx(
-            integral_db, rel=0.01
-        )
+        assert atmosphere.gaseous_loss_db(f_hz, 90.0, altitude_m=station_km * 1000) == pytest.approx(integral_db, rel=0.01)
 
 
 def test_uhf_well_under_one_db_above_5_deg():
@@ -109,7 +105,11 @@ def test_itur_is_not_imported_with_the_module():
     env = dict(os.environ, PYTHONPATH=str(REPO))
     out = subprocess.run(
         [sys.executable, "-c", "import sys, planner.link.atmosphere; print('itur' in sys.modules)"],
-        cwd=REPO, env=env, capture_output=True, text=True, check=True,
+        cwd=REPO,
+        env=env,
+        capture_output=True,
+        text=True,
+        check=True,
     )
     assert out.stdout.strip() == "False"
 

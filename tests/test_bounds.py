@@ -15,7 +15,7 @@ from __future__ import annotations
 import os
 import subprocess
 import sys
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta, timezone
 from pathlib import Path
 
 import pytest
@@ -36,10 +36,10 @@ REPO = Path(__file__).resolve().parents[1]
 
 def test_years_hold_the_first_launch_and_end_with_2100():
     # 1957-10-04: first artificial satellite (NSSDCA 1957-001B, from memory).
-    assert in_supported_years(datetime(1957, 10, 4, 19, 28, tzinfo=timezone.utc))
-    assert not in_supported_years(datetime(1956, 12, 31, 23, 59, 59, tzinfo=timezone.utc))
-    assert in_supported_years(datetime(2100, 12, 31, 23, 59, 59, tzinfo=timezone.utc))
-    assert not in_supported_years(datetime(2101, 1, 1, tzinfo=timezone.utc))
+    assert in_supported_years(datetime(1957, 10, 4, 19, 28, tzinfo=UTC))
+    assert not in_supported_years(datetime(1956, 12, 31, 23, 59, 59, tzinfo=UTC))
+    assert in_supported_years(datetime(2100, 12, 31, 23, 59, 59, tzinfo=UTC))
+    assert not in_supported_years(datetime(2101, 1, 1, tzinfo=UTC))
     assert SUPPORTED_YEARS == f"{EARLIEST_YEAR} to {LATEST_YEAR}" == "1957 to 2100"
 
 
@@ -58,7 +58,7 @@ def test_times_that_cannot_be_converted_to_utc_are_outside_not_an_error():
     # datetime.min with a positive offset lies before year 1 in UTC: astimezone raises
     # OverflowError (Python docs, datetime.astimezone).
     with pytest.raises(OverflowError):
-        datetime.min.replace(tzinfo=timezone(timedelta(hours=5))).astimezone(timezone.utc)
+        datetime.min.replace(tzinfo=timezone(timedelta(hours=5))).astimezone(UTC)
     assert not in_supported_years(datetime.min.replace(tzinfo=timezone(timedelta(hours=5))))
     assert not in_supported_years(datetime.max.replace(tzinfo=timezone(timedelta(hours=-5))))
 
@@ -110,6 +110,12 @@ def test_bounds_need_only_the_standard_library():
         "print(sorted(m for m in sys.modules if m.split('.')[0] in ('numpy', 'sgp4', 'pydantic') "
         "or m.startswith('planner.')))"
     )
-    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True,
-                          cwd=REPO, env={**os.environ, "PYTHONPATH": str(REPO)})
+    done = subprocess.run(
+        [sys.executable, "-c", code],
+        capture_output=True,
+        text=True,
+        check=True,
+        cwd=REPO,
+        env={**os.environ, "PYTHONPATH": str(REPO)},
+    )
     assert done.stdout.strip() == "['planner.bounds']"

@@ -12,31 +12,44 @@ import numpy as np
 import pytest
 from scipy.constants import Boltzmann
 
+from planner.antenna import load_pattern
 from planner.link.budget import (
     BOLTZMANN_DBW_PER_K_HZ,
     evaluate,
     free_space_loss_db,
     pass_budget,
 )
-from planner.antenna import load_pattern
 from planner.link.safety import general_public_limit_mw_cm2, min_distance_m, power_density_mw_cm2
 from planner.scenario import load_scenario
 from planner.study import Study
-from tests.conftest import DEMO, ROOT, run_planner as run
+from tests.conftest import DEMO, ROOT
+from tests.conftest import run_planner as run
 
 CONTRACT_KEYS = {
-    "satellite", "direction", "frequency_mhz", "elevation_deg", "azimuth_deg", "range_km", "eirp_dbw",
-    "free_space_loss_db", "atmospheric_loss_db", "polarization_loss_db", "rx_antenna_gain_dbic",
-    "feedline_loss_db", "system_noise_temperature_k", "g_over_t_dbk", "cn0_dbhz", "ebn0_db",
-    "required_ebn0_db", "margin_db",
+    "satellite",
+    "direction",
+    "frequency_mhz",
+    "elevation_deg",
+    "azimuth_deg",
+    "range_km",
+    "eirp_dbw",
+    "free_space_loss_db",
+    "atmospheric_loss_db",
+    "polarization_loss_db",
+    "rx_antenna_gain_dbic",
+    "feedline_loss_db",
+    "system_noise_temperature_k",
+    "g_over_t_dbk",
+    "cn0_dbhz",
+    "ebn0_db",
+    "required_ebn0_db",
+    "margin_db",
 }
 
 
 @pytest.fixture(scope="module")
 def study():
     return Study.from_scenario(load_scenario(DEMO))
-
-
 
 
 def test_free_space_loss_itu_p525():
@@ -73,7 +86,7 @@ def test_end_to_end_budget_recomputed_by_hand(study):
     rx_gain = 10 * log10(g_r + g_l)
     pol_loss = -10 * log10(0.5)
     # Feedline: the catalog's cable at this frequency plus 0.1 dB a connector.
-    (cable, length_m), = candidate.feedline
+    ((cable, length_m),) = candidate.feedline
     loss_db = (cable.k1_db_per_100m_sqrt_mhz * sqrt(f_mhz) + cable.k2_db_per_100m_per_mhz * f_mhz) * length_m / 100
     loss_db += candidate.connectors * candidate.connector_loss_db
     # Friis (Proc. IRE 1944) with the LNA at the antenna: T = T_ant + T_lna + T_line/G_lna + L T_rx / G_lna,
@@ -227,7 +240,12 @@ def test_bad_budget_inputs(tmp_path):
     path = demo_variant(tmp_path, demo_pattern_text(), f'"{broken}"')
     assert_user_error(run("budget", path, *args), "broken.csv")
     path = demo_variant(tmp_path, 'cable = "RG-58"', 'cable = "RG-999"')
-    assert_user_error(run("budget", path, "--satellite", "WRENLING-1", "--candidate", "turnstile-close-rg58-lna-in-shack", "--elevation-deg", "30"), "RG-999")
+    assert_user_error(
+        run(
+            "budget", path, "--satellite", "WRENLING-1", "--candidate", "turnstile-close-rg58-lna-in-shack", "--elevation-deg", "30"
+        ),
+        "RG-999",
+    )
     path = demo_variant(tmp_path, "length_m = 20.0", "length_m = -3")
     assert_user_error(run("budget", path, *args), "length_m")
     path = demo_variant(tmp_path, "downlink_mhz = 436.525", "downlink_mhz = 60000")
@@ -249,7 +267,7 @@ def _m(vswr):
 
 
 def _main_run_db(candidate, f_hz):
-    (cable, length_m), = candidate.feedline
+    ((cable, length_m),) = candidate.feedline
     return float(cable.loss_db_per_100m(f_hz)) * length_m / 100 + candidate.connectors * candidate.connector_loss_db
 
 
@@ -284,7 +302,13 @@ def test_cn0_change_with_vswr_matches_the_formula_by_hand():
     assert _m(4.0) == pytest.approx(m)
     t_a = setup.antenna_noise_temperature_k
     t_chain = _hand_chain_k(receiver, 0.0, _main_run_db(base, setup.frequency_hz))
-    available_dbw = row["eirp_dbw"] - row["free_space_loss_db"] - row["atmospheric_loss_db"] - row["polarization_loss_db"] + row["rx_antenna_gain_dbic"]
+    available_dbw = (
+        row["eirp_dbw"]
+        - row["free_space_loss_db"]
+        - row["atmospheric_loss_db"]
+        - row["polarization_loss_db"]
+        + row["rx_antenna_gain_dbic"]
+    )
     cn0 = available_dbw + 10 * log10(m) + 228.5991 - 10 * log10(m * t_a + t_chain)
     assert row["received_power_dbw"] == pytest.approx(available_dbw, abs=1e-9)
     assert row["mismatch_loss_db"] == pytest.approx(-10 * log10(m), abs=1e-9)
@@ -315,7 +339,7 @@ def test_pre_lna_losses_are_charged_before_the_lna(tmp_path):
     setup = study.downlink_setup("WRENLING-1", "turnstile-close")
     f_hz = setup.frequency_hz
     m = _m(candidate.feed_vswr)
-    (jumper, jumper_m), = candidate.pre_lna_feedline
+    ((jumper, jumper_m),) = candidate.pre_lna_feedline
     pre_db = float(jumper.loss_db_per_100m(f_hz)) * jumper_m / 100 + 2 * 0.1 + 0.3
     f_loss_db = _main_run_db(candidate, f_hz)
     t_a = setup.antenna_noise_temperature_k
@@ -351,8 +375,12 @@ def test_pre_lna_defaults_from_the_receiver_and_old_scenarios_keep_their_meaning
 
 
 def test_ladder_shows_pre_lna_row_chain_and_noise_breakdown(tmp_path):
-    path = demo_variant(tmp_path, 'name = "turnstile-close"\n', 'name = "turnstile-close"\nfeed_vswr = 4.0\npre_lna_loss_db = 0.4\n')
-    result = run("budget", path, "--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "30", "--format", "json")
+    path = demo_variant(
+        tmp_path, 'name = "turnstile-close"\n', 'name = "turnstile-close"\nfeed_vswr = 4.0\npre_lna_loss_db = 0.4\n'
+    )
+    result = run(
+        "budget", path, "--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "30", "--format", "json"
+    )
     assert result.returncode == 0, result.stderr
     document = json.loads(result.stdout)
     assert document["pre_lna_loss_db"] == pytest.approx(0.4)
@@ -360,13 +388,20 @@ def test_ladder_shows_pre_lna_row_chain_and_noise_breakdown(tmp_path):
     noise = document["noise"]
     for key in ("pre_lna_noise_k", "lna_noise_k", "feedline_noise_k", "receiver_noise_k", "antenna_sky_atmosphere_k"):
         assert key in noise
-    assert noise["pre_lna_noise_k"] == pytest.approx((10 ** 0.04 - 1) * 290 / 0.64)
-    parts = noise["antenna_noise_temperature_k"] + noise["pre_lna_noise_k"] + noise["lna_noise_k"] + noise["feedline_noise_k"] + noise["receiver_noise_k"]
+    assert noise["pre_lna_noise_k"] == pytest.approx((10**0.04 - 1) * 290 / 0.64)
+    parts = (
+        noise["antenna_noise_temperature_k"]
+        + noise["pre_lna_noise_k"]
+        + noise["lna_noise_k"]
+        + noise["feedline_noise_k"]
+        + noise["receiver_noise_k"]
+    )
     assert parts == pytest.approx(document["system_noise_temperature_k"], rel=1e-9)
     assert document["chain_noise_temperature_k"] == pytest.approx(noise["receiver_chain_temperature_k"], rel=1e-9)
     # The ladder recomputes by hand: C/N0 = available carrier - 10 log10 k - 10 log10 T_sys.
     assert document["cn0_dbhz"] == pytest.approx(
-        document["received_power_dbw"] - document["boltzmann_dbw_per_k_hz"] - 10 * log10(document["system_noise_temperature_k"]), abs=1e-9
+        document["received_power_dbw"] - document["boltzmann_dbw_per_k_hz"] - 10 * log10(document["system_noise_temperature_k"]),
+        abs=1e-9,
     )
     assert document["notes"] == []  # the VSWR is given
     assert {t["key"] for t in document["terms"]} >= {"pre_lna_loss_db", "chain_noise_temperature_k"}
@@ -431,7 +466,9 @@ def test_slant_range_from_the_station_wgs84_position_against_skyfield(study):
 def test_budget_at_an_elevation_uses_the_station_radius(study):
     from planner.link.budget import orbit_radii_km, slant_range_km
 
-    result = run("budget", DEMO, "--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "10", "--format", "json")
+    result = run(
+        "budget", DEMO, "--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--elevation-deg", "10", "--format", "json"
+    )
     assert result.returncode == 0, result.stderr
     document = json.loads(result.stdout)
     satrec = next(t for t in study.targets if t.display_name == "WRENLING-1").element_set.satrec
@@ -483,7 +520,9 @@ def test_no_feed_data_is_said_in_the_ladder_and_the_comparison(tmp_path):
     assert "note: no feed mismatch charged for turnstile-close" in text and "[[candidate]]" in text
     assert "no feed mismatch" not in run("budget", path, *args, "--candidate", "loops-round-close").stdout
     report = tmp_path / "report"
-    result = run("compare", path, "--candidate", "turnstile-close", "--candidate", "loops-round-close", "--quiet", "--report", report)
+    result = run(
+        "compare", path, "--candidate", "turnstile-close", "--candidate", "loops-round-close", "--quiet", "--report", report
+    )
     assert result.returncode == 0, result.stderr
     said = "No feed mismatch was charged for turnstile-close:"
     assert said in " ".join(result.stdout.split())

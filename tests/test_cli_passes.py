@@ -8,26 +8,34 @@ from __future__ import annotations
 import csv
 import io
 import json
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta
 
 import pytest
 
+from planner.cli.common import parse_utc as _parse_utc
 from planner.elements import read_elements
+from planner.errors import UserError
 from planner.passes import predict_passes
 from planner.passes.station import Station
-from planner.cli.common import parse_utc as _parse_utc
-from planner.errors import UserError
+from tests.conftest import DEMO, ROOT
+from tests.conftest import run_planner as run
 from tests.orbit_factory import make_tle, write_three_line
 from tests.test_hardening import assert_user_error as assert_one_error_line
 from tests.test_hardening import run_cli
-from tests.conftest import DEMO, ROOT, run_planner as run
 
 CONTRACT = [
-    "satellite", "norad_id", "aos_utc", "tca_utc", "los_utc", "duration_s", "max_elevation_deg",
-    "aos_azimuth_deg", "tca_azimuth_deg", "los_azimuth_deg", "min_range_km",
+    "satellite",
+    "norad_id",
+    "aos_utc",
+    "tca_utc",
+    "los_utc",
+    "duration_s",
+    "max_elevation_deg",
+    "aos_azimuth_deg",
+    "tca_azimuth_deg",
+    "los_azimuth_deg",
+    "min_range_km",
 ]
-
-
 
 
 def assert_user_error(result, *fragments):
@@ -66,9 +74,23 @@ def test_json_has_the_same_keys():
 
 def test_quick_look_needs_no_scenario():
     result = run(
-        "passes", "--elements", ROOT / "sample_tle" / "demo.tle", "--lat", "52.137", "--lon", "-1.804",
-        "--start", "2027-01-04T00:00:00Z", "--days", "1", "--min-elevation-deg", "5", "--satellite", "99903",
-        "--format", "json",
+        "passes",
+        "--elements",
+        ROOT / "sample_tle" / "demo.tle",
+        "--lat",
+        "52.137",
+        "--lon",
+        "-1.804",
+        "--start",
+        "2027-01-04T00:00:00Z",
+        "--days",
+        "1",
+        "--min-elevation-deg",
+        "5",
+        "--satellite",
+        "99903",
+        "--format",
+        "json",
     )
     assert result.returncode == 0, result.stderr
     data = json.loads(result.stdout)
@@ -86,7 +108,7 @@ def test_omm_and_tle_forms_give_the_same_passes():
     # The same orbits written as TLE and as CCSDS OMM (XML, CSV, JSON) must give the same
     # passes: the OMM carries the TLE's printed values (CCSDS 502.0-B-3, OMM).
     station = Station("demo", 52.137, -1.804, 142.0)
-    start = datetime(2027, 1, 4, tzinfo=timezone.utc)
+    start = datetime(2027, 1, 4, tzinfo=UTC)
     end = start + timedelta(days=2)
     reference = predict_passes(read_elements(ROOT / "sample_tle" / "demo.tle"), station, start, end)
     for name in ("demo_omm.xml", "demo_omm.csv", "demo_omm.json", "demo.2le"):
@@ -149,7 +171,7 @@ def test_truncated_line(tmp_path):
 def test_stale_epoch_refused_then_allowed(tmp_path):
     # Elements 40 days before the window: refused beyond 30 days unless --allow-stale,
     # which still warns (SGP4 error grows by km/day; common practice, no published source).
-    old = datetime(2027, 1, 4, tzinfo=timezone.utc) - timedelta(days=40)
+    old = datetime(2027, 1, 4, tzinfo=UTC) - timedelta(days=40)
     elements = tmp_path / "old.tle"
     write_three_line(elements, [("OLDSAT", make_tle(99952, height_km=600, inclination_deg=97.8, epoch=old))])
     args = ["passes", "--elements", elements, "--lat", "50", "--lon", "0", "--start", "2027-01-04T00:00:00Z"]
@@ -182,36 +204,66 @@ def test_output_folder_missing(tmp_path):
 # satellite, and beyond any element set's useful life; common practice, no published source).
 # Near year 1 and 9999 datetime arithmetic overflows (Python docs, datetime.MINYEAR / MAXYEAR), which
 # used to end the command with a traceback.
-OUT_OF_RANGE_TIMES = ["0001-01-01T00:00:00Z", "9999-12-31T23:59:59Z", "9999-12-31T23:59:59-23:59",
-                      "1956-12-31T23:59:59Z", "2101-01-01T00:00:00Z"]
+OUT_OF_RANGE_TIMES = [
+    "0001-01-01T00:00:00Z",
+    "9999-12-31T23:59:59Z",
+    "9999-12-31T23:59:59-23:59",
+    "1956-12-31T23:59:59Z",
+    "2101-01-01T00:00:00Z",
+]
 
 
 @pytest.mark.parametrize("moment", OUT_OF_RANGE_TIMES)
 def test_budget_at_a_time_outside_1957_to_2100_is_one_line(moment):
-    run = run_cli("budget", DEMO, "--satellite", "TARNBECK", "--candidate", "turnstile-far", "--at", moment,
-                  "--allow-stale")
+    run = run_cli("budget", DEMO, "--satellite", "TARNBECK", "--candidate", "turnstile-far", "--at", moment, "--allow-stale")
     assert_one_error_line(run, f"--at: {moment!r} is out of range", "1957 to 2100")
 
 
 @pytest.mark.parametrize("moment", OUT_OF_RANGE_TIMES)
 def test_quick_look_start_outside_1957_to_2100_is_one_line(moment):
-    run = run_cli("passes", "--elements", ROOT / "sample_tle" / "demo.tle", "--lat", "52", "--lon", "0",
-                  "--start", moment, "--days", "1", "--allow-stale")
+    run = run_cli(
+        "passes",
+        "--elements",
+        ROOT / "sample_tle" / "demo.tle",
+        "--lat",
+        "52",
+        "--lon",
+        "0",
+        "--start",
+        moment,
+        "--days",
+        "1",
+        "--allow-stale",
+    )
     assert_one_error_line(run, f"--start: {moment!r} is out of range", "1957 to 2100")
 
 
 def test_quick_look_window_ending_after_2100_is_one_line():
-    run = run_cli("passes", "--elements", ROOT / "sample_tle" / "demo.tle", "--lat", "52", "--lon", "0",
-                  "--start", "2100-12-31T00:00:00Z", "--days", "2", "--allow-stale")
+    run = run_cli(
+        "passes",
+        "--elements",
+        ROOT / "sample_tle" / "demo.tle",
+        "--lat",
+        "52",
+        "--lon",
+        "0",
+        "--start",
+        "2100-12-31T00:00:00Z",
+        "--days",
+        "2",
+        "--allow-stale",
+    )
     assert_one_error_line(run, "--days: the window from 2100-12-31T00:00:00+00:00 for 2 days ends in 2101")
 
 
 @pytest.mark.parametrize(
     ("text", "expected"),
-    [("1957-01-01T00:00:00Z", datetime(1957, 1, 1, tzinfo=timezone.utc)),
-     ("2100-12-31T23:59:59.999999Z", datetime(2100, 12, 31, 23, 59, 59, 999999, tzinfo=timezone.utc)),
-     ("2101-01-01T00:30:00+01:00", datetime(2100, 12, 31, 23, 30, tzinfo=timezone.utc)),  # in 2100 as UTC
-     ("2027-01-04T00:00:00", datetime(2027, 1, 4, tzinfo=timezone.utc))],  # naive is UTC
+    [
+        ("1957-01-01T00:00:00Z", datetime(1957, 1, 1, tzinfo=UTC)),
+        ("2100-12-31T23:59:59.999999Z", datetime(2100, 12, 31, 23, 59, 59, 999999, tzinfo=UTC)),
+        ("2101-01-01T00:30:00+01:00", datetime(2100, 12, 31, 23, 30, tzinfo=UTC)),  # in 2100 as UTC
+        ("2027-01-04T00:00:00", datetime(2027, 1, 4, tzinfo=UTC)),
+    ],  # naive is UTC
 )
 def test_times_at_the_edges_of_the_years_are_accepted(text, expected):
     assert _parse_utc("--at", text) == expected
@@ -225,7 +277,20 @@ def test_a_long_non_time_is_clipped_in_the_message():
 
 def test_catalog_number_of_thousands_of_digits_is_one_line():
     # int() of more than 4300 digits raises (Python docs, integer string conversion length limitation).
-    run = run_cli("passes", "--elements", ROOT / "sample_tle" / "demo.tle", "--lat", "52", "--lon", "0",
-                  "--start", "2027-01-04T00:00:00Z", "--days", "1", "--satellite", "9" * 5000)
+    run = run_cli(
+        "passes",
+        "--elements",
+        ROOT / "sample_tle" / "demo.tle",
+        "--lat",
+        "52",
+        "--lon",
+        "0",
+        "--start",
+        "2027-01-04T00:00:00Z",
+        "--days",
+        "1",
+        "--satellite",
+        "9" * 5000,
+    )
     line = assert_one_error_line(run, "--satellite:", "(5000 digits) is not a catalog number", "1 to 999999999")
     assert len(line) < 300

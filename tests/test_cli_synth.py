@@ -10,16 +10,23 @@ import json
 import pytest
 
 from planner.antenna import load_pattern
-from tests.conftest import ROOT, run_planner as run
-
-
-
+from tests.conftest import ROOT
+from tests.conftest import run_planner as run
 
 
 def test_pattern_build_makes_crossed_loops_over_a_reflector(tmp_path):
     out = tmp_path / "loops.csv"
-    result = run("pattern", "build", "crossed-loops", "width_to_height=0.8", "exponent=3", "reflector=pec",
-                 "spacing_wavelengths=0.2", "--out", out)
+    result = run(
+        "pattern",
+        "build",
+        "crossed-loops",
+        "width_to_height=0.8",
+        "exponent=3",
+        "reflector=pec",
+        "spacing_wavelengths=0.2",
+        "--out",
+        out,
+    )
     assert result.returncode == 0, result.stderr
     table = load_pattern(out)
     assert table.header["generated_by"].startswith("planner pattern build crossed-loops")
@@ -57,10 +64,23 @@ def test_sweep_names_the_best_spacing_of_a_solver_pattern(tmp_path):
     text = (ROOT / "scenarios" / "demo.toml").read_text().replace('"../', f'"{ROOT}/').replace("days = 7", "days = 1")
     scenario = tmp_path / "short.toml"
     scenario.write_text(text)
-    result = run("sweep", scenario, "--candidate", "loops-round-close", "--reflector-spacing", "0.1:0.5:0.2",
-                 "--format", "json", "--figure", tmp_path / "sweep", "--quiet")
+    result = run(
+        "sweep",
+        scenario,
+        "--candidate",
+        "loops-round-close",
+        "--reflector-spacing",
+        "0.1:0.5:0.2",
+        "--format",
+        "json",
+        "--figure",
+        tmp_path / "sweep",
+        "--quiet",
+    )
     assert result.returncode == 0, result.stderr
     document = json.loads(result.stdout)
     assert len(document["spacings"]) == 3
-    assert document["best_spacing_wavelengths"] == pytest.approx(max(document["spacings"], key=lambda r: r["score"])["spacing_wavelengths"])
+    assert document["best_spacing_wavelengths"] == pytest.approx(
+        max(document["spacings"], key=lambda r: r["score"])["spacing_wavelengths"]
+    )
     assert (tmp_path / "sweep.png").exists()

@@ -15,12 +15,12 @@ import numpy as np
 import pytest
 from scipy.constants import c as C_M_S  # exact SI speed of light
 
-from planner.errors import UserError
-from planner.link.feedline import cable_from_points, line_input_impedance, mismatch_loss_db, vswr_from_impedance
-from planner.antenna.harness import axial_ratio_db_from_phase_error, phase_error_deg
 from planner.antenna import load_pattern, spherical_unit_vectors
+from planner.antenna.harness import axial_ratio_db_from_phase_error, phase_error_deg
 from planner.antenna.synth import design
 from planner.antenna.synth.templates import check_parameters
+from planner.errors import UserError
+from planner.link.feedline import cable_from_points, line_input_impedance, mismatch_loss_db, vswr_from_impedance
 from tests.conftest import run_planner as run
 
 F_HZ = 436e6
@@ -71,8 +71,9 @@ def test_quarter_wave_section_of_foam_cable_at_435_mhz_is_about_13_8_cm():
     section = design.quarter_wave_section(100.0, 435e6, cables=[foam75])
     assert section.length_m == pytest.approx(0.138, abs=0.001)
     # The residual VSWR is that of the real (lossy) line on the load (Pozar's input impedance).
-    expected = line_input_impedance(75.0, 100.0, section.length_m, 435e6, 0.8,
-                                    float(foam75.loss_db_per_100m(435e6)) / 100 * section.length_m)
+    expected = line_input_impedance(
+        75.0, 100.0, section.length_m, 435e6, 0.8, float(foam75.loss_db_per_100m(435e6)) / 100 * section.length_m
+    )
     assert section.input_impedance_ohm == pytest.approx(expected)
     assert section.vswr == pytest.approx(vswr_from_impedance(expected, 50.0))
 
@@ -223,8 +224,9 @@ def test_the_grid_search_found_the_best_line_length(tall_loops):
         for length in np.linspace(0.5, 1.5, 201) * harness.phasing.length_m
     )
     assert harness.state.axial_ratio_db <= best + 1e-6
-    exact = phasing_line(harness.port_impedance_matrix, harness.phasing.length_m, cable.impedance_ohm,
-                         cable.velocity_factor, alpha, F_HZ)
+    exact = phasing_line(
+        harness.port_impedance_matrix, harness.phasing.length_m, cable.impedance_ohm, cable.velocity_factor, alpha, F_HZ
+    )
     assert exact.feed_impedance_ohm == pytest.approx(harness.phasing.feed.feed_impedance_ohm)
 
 
@@ -276,8 +278,9 @@ def harness_table(tmp_path_factory):
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        table = build_template_table("crossed-loops", dict(TALL_FAR, trim="resonance", feed="harness",
-                                                           elevation_step_deg=5, azimuth_step_deg=90))
+        table = build_template_table(
+            "crossed-loops", dict(TALL_FAR, trim="resonance", feed="harness", elevation_step_deg=5, azimuth_step_deg=90)
+        )
     path = tmp_path_factory.mktemp("harness") / "loops.csv"
     write_pattern(path, table)
     return path
@@ -327,8 +330,6 @@ def test_options_that_do_not_apply_are_refused_in_one_line():
         with pytest.raises(UserError, match=word) as error:
             build_template_table("crossed-loops", values)
         assert "\n" not in str(error.value)
-
-
 
 
 def test_harness_command_reports_cut_errors_of_a_harness_table(harness_table, tall_loops):

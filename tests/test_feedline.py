@@ -12,8 +12,8 @@ import numpy as np
 import pytest
 from scipy.constants import c
 
-from planner.link import feedline as fl
 from planner.errors import PlannerWarning, UserError
+from planner.link import feedline as fl
 
 MHZ = 1e6
 
@@ -77,9 +77,7 @@ def test_feedline_total_adds_connectors():
     # CONNECTOR_LOSS_DB = 0.1 dB each (common practice, no published source).
     runs = [("RG-213", 12.0), ("RG-316", 0.5)]
     expected = (
-        fl.cable_loss_db(fl.CABLES["RG-213"], 435 * MHZ, 12.0)
-        + fl.cable_loss_db(fl.CABLES["RG-316"], 435 * MHZ, 0.5)
-        + 4 * 0.1
+        fl.cable_loss_db(fl.CABLES["RG-213"], 435 * MHZ, 12.0) + fl.cable_loss_db(fl.CABLES["RG-316"], 435 * MHZ, 0.5) + 4 * 0.1
     )
     assert fl.feedline_loss_db(runs, 435 * MHZ, connectors=4) == pytest.approx(expected)
 

@@ -20,8 +20,6 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from planner.decision import forecast as forecast_module
-from planner.link.budget import pass_budget
-from planner.errors import PlannerWarning
 from planner.decision.forecast import (
     ELEVATION_BAND_LABELS,
     ELEVATION_BANDS_DEG,
@@ -36,6 +34,8 @@ from planner.decision.forecast import (
     weekly_table,
     weighted_interval_schedule,
 )
+from planner.errors import PlannerWarning
+from planner.link.budget import pass_budget
 from planner.scenario import load_scenario
 from planner.study import Study
 from tests.conftest import DEMO
@@ -63,7 +63,7 @@ def study(scenario):
 @pytest.fixture(scope="module")
 def day(study):
     with warnings.catch_warnings():
-        warnings.simplefilter("ignore", PlannerWarning)   # P.372 extrapolation notes
+        warnings.simplefilter("ignore", PlannerWarning)  # P.372 extrapolation notes
         return forecast(study)
 
 
@@ -79,20 +79,36 @@ def synthetic(study, series, satellite="WRENLING-1", candidate="test"):
         sample_frames.append(
             pd.DataFrame(
                 {
-                    "candidate": candidate, "satellite": satellite, "pass_number": number, "time_s": time_s,
-                    "dt_s": np.gradient(time_s), "azimuth_deg": 0.0, "elevation_deg": 45.0, "range_km": 1000.0,
-                    "margin_db": np.asarray(margin_db, dtype=float), "margin_at_fade_db": np.asarray(margin_db) - 1.0,
+                    "candidate": candidate,
+                    "satellite": satellite,
+                    "pass_number": number,
+                    "time_s": time_s,
+                    "dt_s": np.gradient(time_s),
+                    "azimuth_deg": 0.0,
+                    "elevation_deg": 45.0,
+                    "range_km": 1000.0,
+                    "margin_db": np.asarray(margin_db, dtype=float),
+                    "margin_at_fade_db": np.asarray(margin_db) - 1.0,
                 }
             )
         )
         aos, los = float(time_s[0]), float(time_s[-1])
         pass_rows.append(
             {
-                "satellite": satellite, "norad_id": 99901, "pass_number": number,
-                "aos_utc": start + timedelta(seconds=aos), "tca_utc": start + timedelta(seconds=(aos + los) / 2),
-                "los_utc": start + timedelta(seconds=los), "aos_s": aos, "los_s": los, "duration_s": los - aos,
-                "max_elevation_deg": 45.0, "elevation_band": "30-60", "local_hour": 0,
-                "aos_clipped": False, "los_clipped": False,
+                "satellite": satellite,
+                "norad_id": 99901,
+                "pass_number": number,
+                "aos_utc": start + timedelta(seconds=aos),
+                "tca_utc": start + timedelta(seconds=(aos + los) / 2),
+                "los_utc": start + timedelta(seconds=los),
+                "aos_s": aos,
+                "los_s": los,
+                "duration_s": los - aos,
+                "max_elevation_deg": 45.0,
+                "elevation_band": "30-60",
+                "local_hour": 0,
+                "aos_clipped": False,
+                "los_clipped": False,
             }
         )
     return pd.concat(sample_frames, ignore_index=True), pd.DataFrame(pass_rows, columns=list(PASS_COLUMNS))
@@ -216,8 +232,11 @@ def test_samples_match_the_per_pass_budget(day, study):
                 mine = [p for p in passes if p.satellite == satellite]
                 for number, a_pass in enumerate(mine[:3], start=1):
                     expected = pass_budget(setup, a_pass)
-                    got = day.samples[(day.samples.candidate == candidate) & (day.samples.satellite == satellite)
-                                      & (day.samples.pass_number == number)]
+                    got = day.samples[
+                        (day.samples.candidate == candidate)
+                        & (day.samples.satellite == satellite)
+                        & (day.samples.pass_number == number)
+                    ]
                     np.testing.assert_allclose(got.time_s, expected.time_s)
                     np.testing.assert_allclose(got.margin_db, expected.margin_db, rtol=0, atol=1e-12)
                     np.testing.assert_allclose(got.margin_at_fade_db, expected.margin_at_fade_db, rtol=0, atol=1e-12)
@@ -265,8 +284,10 @@ def test_weekly_table_contract_and_totals(day, study):
 
 def test_band_and_hour_tables_add_up_to_the_weekly_totals(day):
     weekly = day.weekly.groupby("candidate")[["passes", "usable_passes", "usable_minutes", "data_volume_mbit"]].sum()
-    for table, key, levels in ((band_table(day.outcomes), "elevation_band", ELEVATION_BAND_LABELS),
-                               (hour_table(day.outcomes), "local_hour", tuple(range(24)))):
+    for table, key, levels in (
+        (band_table(day.outcomes), "elevation_band", ELEVATION_BAND_LABELS),
+        (hour_table(day.outcomes), "local_hour", tuple(range(24))),
+    ):
         for candidate, group in table.groupby("candidate"):
             assert tuple(group[key]) == levels
             for column in ("passes", "usable_passes"):
@@ -342,7 +363,7 @@ def test_weighted_interval_schedule_is_optimal(intervals):
     assert len(set(chosen.tolist())) == len(chosen)
     assert best == pytest.approx(sum(values[i] for i in chosen), rel=1e-12, abs=1e-12)
     assert best == pytest.approx(brute_force(starts, ends, values), rel=1e-12, abs=1e-12)
-    assert list(np.asarray(ends)[chosen]) == sorted(np.asarray(ends)[chosen])   # time order
+    assert list(np.asarray(ends)[chosen]) == sorted(np.asarray(ends)[chosen])  # time order
 
 
 def test_weighted_interval_schedule_small_cases():

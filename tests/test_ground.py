@@ -20,8 +20,6 @@ import numpy as np
 import pytest
 from scipy.constants import epsilon_0, speed_of_light
 
-from planner.errors import PlannerWarning, UserError
-from planner.link.noise import antenna_noise_temperature_k
 from planner.antenna.synth import mom
 from planner.antenna.synth.feed import ideal_quadrature
 from planner.antenna.synth.ground import (
@@ -35,6 +33,8 @@ from planner.antenna.synth.ground import (
 )
 from planner.antenna.synth.tables import build_template_table
 from planner.antenna.synth.templates import build_model
+from planner.errors import PlannerWarning, UserError
+from planner.link.noise import antenna_noise_temperature_k
 from tests.conftest import ROOT
 
 F_HZ = 436e6
@@ -69,7 +69,9 @@ def test_vertical_coefficient_vanishes_at_the_brewster_angle(eps_r):
     assert np.all(np.abs(near) > 1e-3)
 
 
-@pytest.mark.parametrize("eps", [15.0, complex(complex_permittivity(15.0, 9e-3, F_HZ)), complex(complex_permittivity(70.0, 5.0, F_HZ))])
+@pytest.mark.parametrize(
+    "eps", [15.0, complex(complex_permittivity(15.0, 9e-3, F_HZ)), complex(complex_permittivity(70.0, 5.0, F_HZ))]
+)
 def test_grazing_incidence_reflects_everything_with_reversed_sign(eps):
     # At grazing incidence |Gamma| -> 1 for both polarizations, Gamma -> -1 (Balanis ch. 4, figures of
     # |Gamma_h| and |Gamma_v| against the grazing angle)
@@ -206,8 +208,10 @@ def test_mast_height_is_measured_to_the_models_reference_plane():
     # (image theory, Balanis ch. 4); the path phase exp(-j 2 k H sin el) puts the image at the right depth.
     # Measured: 0.05 dB apart (the currents' coupling to the ground); 1.8-2.2 dB for a mast 1 % off
     common = {"material": "pec", "segments_per_wavelength": 20, "elevation_step_deg": 2.0, "azimuth_step_deg": 30.0}
-    ours = build_template_table("turnstile", {**common, "ground": "custom", "ground_permittivity": 1.0,
-                                              "ground_conductivity_s_per_m": 1e7, "mast_height_m": LAM})
+    ours = build_template_table(
+        "turnstile",
+        {**common, "ground": "custom", "ground_permittivity": 1.0, "ground_conductivity_s_per_m": 1e7, "mast_height_m": LAM},
+    )
     theirs = build_template_table("turnstile", {**common, "reflector": "pec", "spacing_wavelengths": 1.25})
     up = ours.elevation_deg >= 0.0
     a = total_dbi(ours.gain_rhcp_dbic[up], ours.gain_lhcp_dbic[up])
@@ -223,8 +227,14 @@ def test_real_ground_fills_the_nulls_as_the_reflection_coefficient_says():
     null_deg = 20.0
     height = LAM / (2.0 * math.sin(math.radians(null_deg)))
     lobe_deg = math.degrees(math.asin(LAM / (4.0 * height)))
-    values = {"ground": "medium-dry-ground", "mast_height_m": height, "material": "pec", "segments_per_wavelength": 30,
-              "elevation_step_deg": 2.0, "azimuth_step_deg": 30.0}
+    values = {
+        "ground": "medium-dry-ground",
+        "mast_height_m": height,
+        "material": "pec",
+        "segments_per_wavelength": 30,
+        "elevation_step_deg": 2.0,
+        "azimuth_step_deg": 30.0,
+    }
     over = build_template_table("dipole", values)
     free = build_template_table("dipole", {k: v for k, v in values.items() if k not in ("ground", "mast_height_m")})
     eps = complex(complex_permittivity(*ground_constants("medium-dry-ground", F_HZ), F_HZ))
@@ -234,7 +244,9 @@ def test_real_ground_fills_the_nulls_as_the_reflection_coefficient_says():
     assert abs(1.0 + gamma_null) > 0.1  # the null is filled, not a null any more
     solution, ground = _dipole_over(height, ground="medium-dry-ground")
     gamma_lobe, _ = reflection_coefficients(lobe_deg, eps)
-    lobe = total_dbi(*gains_over_ground_dbic(solution, 0.0, lobe_deg, None, ground)) - total_dbi(*solution.gains_dbic(0.0, lobe_deg))
+    lobe = total_dbi(*gains_over_ground_dbic(solution, 0.0, lobe_deg, None, ground)) - total_dbi(
+        *solution.gains_dbic(0.0, lobe_deg)
+    )
     assert lobe == pytest.approx(20.0 * math.log10(abs(1.0 - gamma_lobe)), abs=0.01)
 
 
@@ -312,7 +324,9 @@ def test_a_mirror_ground_does_not_emit_and_a_lossy_one_does():
     f_theta, f_phi = solution.far_field(az[None, :], el[:, None], voltages)
     eps = complex(complex_permittivity(*ground_constants("medium-dry-ground", F_HZ), F_HZ))
     gamma_h, gamma_v = reflection_coefficients(np.abs(el), eps)
-    emitted = np.abs(f_theta) ** 2 * (1.0 - np.abs(gamma_v[:, None]) ** 2) + np.abs(f_phi) ** 2 * (1.0 - np.abs(gamma_h[:, None]) ** 2)
+    emitted = np.abs(f_theta) ** 2 * (1.0 - np.abs(gamma_v[:, None]) ** 2) + np.abs(f_phi) ** 2 * (
+        1.0 - np.abs(gamma_h[:, None]) ** 2
+    )
     total = np.abs(f_theta) ** 2 + np.abs(f_phi) ** 2
     expected = 290.0 * np.sum((w[:, None] * emitted)[el < 0.0]) / np.sum(w[:, None] * total)
     assert soil.ground_k == pytest.approx(expected, rel=0.03)
@@ -343,7 +357,11 @@ def test_header_records_the_ground_and_what_is_neglected():
         ("turnstile", {"ground": "wet-ground"}, "mast_height_m is missing"),
         ("turnstile", {"ground": "custom", "mast_height_m": 2.0, "ground_permittivity": 10.0}, "needs both"),
         ("turnstile", {"ground": "wet-ground", "mast_height_m": 2.0, "ground_permittivity": 10.0}, "only for ground = custom"),
-        ("turnstile", {"reflector": "rods", "ground": "wet-ground", "mast_height_m": 0.01, "radius_m": 0.02}, "at or below the ground"),
+        (
+            "turnstile",
+            {"reflector": "rods", "ground": "wet-ground", "mast_height_m": 0.01, "radius_m": 0.02},
+            "at or below the ground",
+        ),
         ("dipole", {"ground": "loam"}, "allowed"),
     ],
 )
@@ -368,8 +386,9 @@ def test_coarse_table_over_a_tall_mast_warns():
 
 
 def test_pattern_build_list_shows_the_ground_parameters():
-    result = subprocess.run([sys.executable, "-m", "planner", "pattern", "build", "crossed-loops", "--list"],
-                            capture_output=True, text=True, cwd=ROOT)
+    result = subprocess.run(
+        [sys.executable, "-m", "planner", "pattern", "build", "crossed-loops", "--list"], capture_output=True, text=True, cwd=ROOT
+    )
     assert result.returncode == 0, result.stderr
     for name in ("ground", "ground_permittivity", "ground_conductivity_s_per_m", "mast_height_m"):
         assert any(line.startswith(f"{name} = ") for line in result.stdout.splitlines()), name

@@ -40,7 +40,7 @@ import traceback
 import warnings
 from contextlib import redirect_stderr, redirect_stdout
 from dataclasses import dataclass
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 from unittest import mock
 
@@ -52,20 +52,29 @@ from skyfield.api import EarthSatellite, load, wgs84
 
 import planner.cli as cli
 import planner.fileio as fileio
+from planner.antenna import format_pattern, isotropic_rhcp, turnstile_over_reflector
+from planner.elements import read_elements, tle_checksum
 from planner.errors import PlannerWarning, UserError
 from planner.fileio import REPLACE_ANY, write_atomically
-from planner.elements import read_elements, tle_checksum
 from planner.passes import predict_passes
-from planner.antenna import format_pattern, isotropic_rhcp, turnstile_over_reflector
 from planner.passes.station import Station
-from tests.orbit_factory import EARTH_RADIUS_KM, make_tle, write_three_line
 from tests.conftest import ROOT
+from tests.orbit_factory import EARTH_RADIUS_KM, make_tle, write_three_line
 
-START = datetime(2027, 1, 4, tzinfo=timezone.utc)
+START = datetime(2027, 1, 4, tzinfo=UTC)
 START_TEXT = "2027-01-04T00:00:00Z"
 PASS_COLUMNS = [
-    "satellite", "norad_id", "aos_utc", "tca_utc", "los_utc", "duration_s", "max_elevation_deg",
-    "aos_azimuth_deg", "tca_azimuth_deg", "los_azimuth_deg", "min_range_km",
+    "satellite",
+    "norad_id",
+    "aos_utc",
+    "tca_utc",
+    "los_utc",
+    "duration_s",
+    "max_elevation_deg",
+    "aos_azimuth_deg",
+    "tca_azimuth_deg",
+    "los_azimuth_deg",
+    "min_range_km",
 ]  # output contract of `planner passes --format csv`
 WEEK_COLUMNS = ["candidate", "satellite", "passes", "usable_passes", "usable_minutes", "data_volume_mbit", "dropouts"]
 EXAMPLES = int(os.environ.get("PLANNER_FUZZ_EXAMPLES", "15"))
@@ -104,8 +113,12 @@ def run_cli(*args) -> Run:
     """`planner ARGS` in this process: exit code, stdout, stderr (a traceback counts as code 1)."""
     out, err = io.StringIO(), io.StringIO()
     code = 0
-    with mock.patch.object(sys, "argv", ["planner", *map(str, args)]), redirect_stdout(out), \
-            redirect_stderr(err), warnings.catch_warnings():
+    with (
+        mock.patch.object(sys, "argv", ["planner", *map(str, args)]),
+        redirect_stdout(out),
+        redirect_stderr(err),
+        warnings.catch_warnings(),
+    ):
         try:
             cli.main()
         except SystemExit as exc:
@@ -188,8 +201,17 @@ PATTERN_TEXTS = {
 }
 
 
-def scenario_text(elements, *, patterns=None, latitude_deg=52.0, longitude_deg=-1.8, days=1, step_s=20,
-                  satellites=(("ALPHA", 99001), ("BETA", 99002)), candidates=("close", "isotropic")) -> str:
+def scenario_text(
+    elements,
+    *,
+    patterns=None,
+    latitude_deg=52.0,
+    longitude_deg=-1.8,
+    days=1,
+    step_s=20,
+    satellites=(("ALPHA", 99001), ("BETA", 99002)),
+    candidates=("close", "isotropic"),
+) -> str:
     """A small scenario: the given satellites from one element file, two candidate set-ups.
 
     File names are taken from the scenario's folder unless ``patterns`` (a folder) is given.
@@ -272,22 +294,112 @@ def test_the_base_inputs_are_valid(world):
 
 # Nasty replacements for a number: signs, huge and tiny, non-finite spellings, range edges.
 NASTY_NUMBERS = [
-    "0", "-0", "-1", "1e999", "-1e999", "1e-300", "nan", "NaN", "inf", "Infinity", "", " ", "00",
-    "360", "360.0001", "-0.0001", "90.000001", "180", "19.99", "20", "0.9999999", "1.0", "99999999",
-    "1e16", "0x10", "1_0", "٣",
+    "0",
+    "-0",
+    "-1",
+    "1e999",
+    "-1e999",
+    "1e-300",
+    "nan",
+    "NaN",
+    "inf",
+    "Infinity",
+    "",
+    " ",
+    "00",
+    "360",
+    "360.0001",
+    "-0.0001",
+    "90.000001",
+    "180",
+    "19.99",
+    "20",
+    "0.9999999",
+    "1.0",
+    "99999999",
+    "1e16",
+    "0x10",
+    "1_0",
+    "٣",
 ]
 GENERIC_TOKENS = ["\n", "\r\n", "\r", " ", "\t", "\x00", "\ufeff", "\u00e9", "\u2028", "#", ",", ".", "-", "+", "0", "9", "e"]
 FORMAT_TOKENS = {
     "tle": ["1 ", "2 ", "0 ", "1 99001U", "2 99001", "A0001"],
     "3le": ["1 ", "2 ", "0 ", "ALPHA", "0 ALPHA"],
-    "xml": ["<", ">", "</", "/>", "&", "&amp;", "<!DOCTYPE ndm>", "<![CDATA[", "]]>", "<segment>", "</segment>",
-            "<EPOCH>", "<MEAN_MOTION>", "<COMMENT>", "xmlns:x='y'", "<?xml version='1.0'?>"],
+    "xml": [
+        "<",
+        ">",
+        "</",
+        "/>",
+        "&",
+        "&amp;",
+        "<!DOCTYPE ndm>",
+        "<![CDATA[",
+        "]]>",
+        "<segment>",
+        "</segment>",
+        "<EPOCH>",
+        "<MEAN_MOTION>",
+        "<COMMENT>",
+        "xmlns:x='y'",
+        "<?xml version='1.0'?>",
+    ],
     "csv": ['"', '""', ",", "\n", "EPOCH", "MEAN_MOTION", "NORAD_CAT_ID", "BSTAR"],
-    "json": ["{", "}", "[", "]", ",", ":", '"', "null", "true", "NaN", "-Infinity", "1e999", '"EPOCH"', '"NORAD_CAT_ID"', "[[[[", "{}"],
-    "toml": ["=", '"', "'", "[", "]", "[[", "]]", "{", "}", "true", "nan", "inf", "T", "Z", ":", "\\",
-             "[[satellite]]", "[station]", "[[candidate]]", "days", "norad_id", "elements", "pattern"],
-    "pattern": ["# frequency_mhz = 436", "# feed_vswr = 0.5", "# radiation_efficiency = 2", "elevation_deg",
-                "azimuth_deg", "gain_rhcp_dbic", "-90", "90", "1e3", "-60.000"],
+    "json": [
+        "{",
+        "}",
+        "[",
+        "]",
+        ",",
+        ":",
+        '"',
+        "null",
+        "true",
+        "NaN",
+        "-Infinity",
+        "1e999",
+        '"EPOCH"',
+        '"NORAD_CAT_ID"',
+        "[[[[",
+        "{}",
+    ],
+    "toml": [
+        "=",
+        '"',
+        "'",
+        "[",
+        "]",
+        "[[",
+        "]]",
+        "{",
+        "}",
+        "true",
+        "nan",
+        "inf",
+        "T",
+        "Z",
+        ":",
+        "\\",
+        "[[satellite]]",
+        "[station]",
+        "[[candidate]]",
+        "days",
+        "norad_id",
+        "elements",
+        "pattern",
+    ],
+    "pattern": [
+        "# frequency_mhz = 436",
+        "# feed_vswr = 0.5",
+        "# radiation_efficiency = 2",
+        "elevation_deg",
+        "azimuth_deg",
+        "gain_rhcp_dbic",
+        "-90",
+        "90",
+        "1e3",
+        "-60.000",
+    ],
 }
 _NUMBER_RE = re.compile(r"[-+]?\d+(?:\.\d+)?(?:[eE][-+]?\d+)?")
 
@@ -302,28 +414,30 @@ def mutated(draw, text: str, kind: str) -> str:
         edit = draw(st.sampled_from(edits))
         if edit == "char" and text:
             at = draw(st.integers(0, len(text) - 1))
-            text = text[:at] + draw(st.characters(max_codepoint=0x2FFF)) + text[at + 1:]
+            text = text[:at] + draw(st.characters(max_codepoint=0x2FFF)) + text[at + 1 :]
         elif edit == "token":
             at = draw(st.integers(0, len(text)))
             text = text[:at] + draw(st.sampled_from(tokens)) + text[at:]
         elif edit == "delete" and text:
             at = draw(st.integers(0, len(text) - 1))
-            text = text[:at] + text[at + draw(st.integers(1, 40)):]
+            text = text[:at] + text[at + draw(st.integers(1, 40)) :]
         elif edit in ("number", "digit"):
             numbers = list(_NUMBER_RE.finditer(text))
             if numbers:
                 match = draw(st.sampled_from(numbers))
                 if edit == "number":  # a new value, the layout may shift
-                    new = draw(st.one_of(st.sampled_from(NASTY_NUMBERS), st.floats().map(repr),
-                                         st.integers(-10**20, 10**20).map(str)))
-                    text = text[:match.start()] + new + text[match.end():]
+                    new = draw(
+                        st.one_of(st.sampled_from(NASTY_NUMBERS), st.floats().map(repr), st.integers(-(10**20), 10**20).map(str))
+                    )
+                    text = text[: match.start()] + new + text[match.end() :]
                 else:  # one digit changed in place: fixed columns stay where they are
-                    digits = [i for i in range(match.start(), match.end()) if text[i].isdigit()
-                              and not (i == 0 or text[i - 1] == "\n")]  # the line number is the "char" edit's job
+                    digits = [
+                        i for i in range(match.start(), match.end()) if text[i].isdigit() and not (i == 0 or text[i - 1] == "\n")
+                    ]  # the line number is the "char" edit's job
                     if not digits:
                         continue
                     at = draw(st.sampled_from(digits))
-                    text = text[:at] + draw(st.sampled_from("0123456789")) + text[at + 1:]
+                    text = text[:at] + draw(st.sampled_from("0123456789")) + text[at + 1 :]
         elif edit in ("line", "swap"):
             lines = text.split("\n")
             i = draw(st.integers(0, len(lines) - 1))
@@ -350,8 +464,9 @@ def _fix_checksums(text: str) -> str:
     return "\n".join(lines)
 
 
-FUZZ = settings(max_examples=EXAMPLES, deadline=None,
-                suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
+FUZZ = settings(
+    max_examples=EXAMPLES, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow]
+)
 
 
 @pytest.mark.parametrize("kind", list(ELEMENT_TEXTS))
@@ -363,8 +478,23 @@ def test_mutated_element_files_through_the_passes_command(world, kind):
     def check(text, allow_stale):
         path = world / f"mutant-{kind}{SUFFIX[kind]}"
         path.write_text(text, encoding="utf-8", errors="surrogatepass", newline="")
-        args = ["passes", "--elements", path, "--lat", "52.0", "--lon", "-1.8", "--start", START_TEXT,
-                "--days", "0.25", "--step-s", "30", "--format", "csv"]
+        args = [
+            "passes",
+            "--elements",
+            path,
+            "--lat",
+            "52.0",
+            "--lon",
+            "-1.8",
+            "--start",
+            START_TEXT,
+            "--days",
+            "0.25",
+            "--step-s",
+            "30",
+            "--format",
+            "csv",
+        ]
         run = run_cli(*args, *(["--allow-stale"] if allow_stale else []))
         assert_contract(run)
         if run.code == 2:
@@ -435,8 +565,9 @@ def test_mutated_scenarios_through_passes_and_budget(world):
         if command == "passes":
             run = run_cli("passes", path, "--format", "csv")
         else:
-            run = run_cli("budget", path, "--satellite", "ALPHA", "--candidate", "close",
-                          "--elevation-deg", "30", "--format", "json")
+            run = run_cli(
+                "budget", path, "--satellite", "ALPHA", "--candidate", "close", "--elevation-deg", "30", "--format", "json"
+            )
         assert_contract(run)
         if run.code == 0 and command == "passes":
             check_pass_rows(csv_rows(run.stdout, PASS_COLUMNS))
@@ -532,11 +663,14 @@ def test_command_output_onto_a_folder_is_one_line(world, tmp_path):
     assert _files(tmp_path) == []
 
 
-@pytest.mark.parametrize("command", [
-    ["passes", "--format", "csv"],
-    ["week", "--format", "csv", "--quiet"],
-    ["compare", "--format", "json", "--quiet"],
-])
+@pytest.mark.parametrize(
+    "command",
+    [
+        ["passes", "--format", "csv"],
+        ["week", "--format", "csv", "--quiet"],
+        ["compare", "--format", "json", "--quiet"],
+    ],
+)
 def test_failing_command_leaves_no_output_and_keeps_an_old_one(world, tmp_path, command):
     bad = tmp_path / "bad.toml"
     bad.write_text(scenario_text(world / "elements.txt", patterns=world).replace("latitude_deg = 52.0", "latitude_deg = 91"))
@@ -578,8 +712,9 @@ def test_same_input_gives_byte_identical_output(world):
         for seed in ("1", "4242"):
             env = dict(os.environ, PYTHONHASHSEED=seed, PYTHONPATH=str(ROOT))
             argv = [a.format(seed=seed) for a in args]
-            runs[name, seed] = subprocess.Popen([sys.executable, "-m", "planner", *argv], cwd=world, env=env,
-                                                stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+            runs[name, seed] = subprocess.Popen(
+                [sys.executable, "-m", "planner", *argv], cwd=world, env=env, stdout=subprocess.PIPE, stderr=subprocess.PIPE
+            )
     outputs = {key: process.communicate(timeout=300) for key, process in runs.items()}
     for name in commands:
         (out_a, err_a), (out_b, err_b) = outputs[name, "1"], outputs[name, "4242"]
@@ -732,16 +867,42 @@ def test_geostationary_satellite_is_up_all_window_under_it_and_never_opposite(wo
     opposite = (geo_longitude_deg + 360.0) % 360.0 - 180.0
     assert _quiet_passes([element_set], Station("far", 0.0, opposite)) == []
     # Through the CLI: one row spanning the window, flagged in the table.
-    common = ["passes", "--elements", world / "edge.tle", "--satellite", "99004", "--lat", "0",
-              "--lon", f"{geo_longitude_deg:.6f}", "--start", START_TEXT, "--days", "1"]
+    common = [
+        "passes",
+        "--elements",
+        world / "edge.tle",
+        "--satellite",
+        "99004",
+        "--lat",
+        "0",
+        "--lon",
+        f"{geo_longitude_deg:.6f}",
+        "--start",
+        START_TEXT,
+        "--days",
+        "1",
+    ]
     rows = json.loads(run_cli(*common, "--format", "json").stdout)
     assert len(rows) == 1 and rows[0]["aos_utc"] == START_TEXT and rows[0]["los_utc"] == "2027-01-05T00:00:00Z"
     assert rows[0]["duration_s"] == 86400.0
 
 
 def test_passes_table_of_a_full_window_pass_stays_readable(world, geo_longitude_deg):
-    run = run_cli("passes", "--elements", world / "edge.tle", "--satellite", "99004", "--lat", "0",
-                  "--lon", f"{geo_longitude_deg:.6f}", "--start", START_TEXT, "--days", "1")
+    run = run_cli(
+        "passes",
+        "--elements",
+        world / "edge.tle",
+        "--satellite",
+        "99004",
+        "--lat",
+        "0",
+        "--lon",
+        f"{geo_longitude_deg:.6f}",
+        "--start",
+        START_TEXT,
+        "--days",
+        "1",
+    )
     assert run.code == 0, run.stderr
     for text in ("GEOSTAT", "2027-01-04", "00:00:00", "start+end"):
         assert text in run.stdout, text
@@ -772,8 +933,15 @@ def test_decaying_satellite_warns_and_leaves_the_others_alone(world, edge_sets, 
     assert others == csv_rows(without.stdout, PASS_COLUMNS) and len(others) > 3
     # The forecast and the comparison run with it too.
     scenario = tmp_path / "decay.toml"
-    scenario.write_text(scenario_text(world / "edge.tle", patterns=world, latitude_deg=-40, longitude_deg=-180,
-                                      satellites=(("ALPHA", 99001), ("DECAYING", 99005))))
+    scenario.write_text(
+        scenario_text(
+            world / "edge.tle",
+            patterns=world,
+            latitude_deg=-40,
+            longitude_deg=-180,
+            satellites=(("ALPHA", 99001), ("DECAYING", 99005)),
+        )
+    )
     for command in (["week", "--format", "csv"], ["compare", "--format", "json"]):
         run = run_cli(command[0], scenario, *command[1:], "--quiet")
         assert run.code == 0 and "Traceback" not in run.stderr, run.stderr
@@ -798,8 +966,7 @@ def test_a_window_of_zero_length(world, edge_sets, tmp_path):
     assert _quiet_passes(sets, Station("s", 52.0, -1.8), end=START) == []
     assert _quiet_passes(sets, Station("s", 52.0, -1.8), end=START - timedelta(hours=1)) == []
     # The CLI refuses a zero-day window with one line naming the option or the key.
-    run = run_cli("passes", "--elements", world / "plain.tle", "--lat", "52", "--lon", "-1.8",
-                  "--start", START_TEXT, "--days", "0")
+    run = run_cli("passes", "--elements", world / "plain.tle", "--lat", "52", "--lon", "-1.8", "--start", START_TEXT, "--days", "0")
     assert_user_error(run, "--days")
     scenario = tmp_path / "zero.toml"
     scenario.write_text(scenario_text(world / "elements.txt", patterns=world, days=0))
@@ -820,15 +987,29 @@ def test_a_satellite_never_visible(world, tmp_path):
     assert run.code == 0 and "0 passes of 1 satellites" in run.stdout
     # Week and compare still work, with zero passes for it and the other satellite as usual.
     scenario = tmp_path / "never.toml"
-    scenario.write_text(scenario_text(world / "edge.tle", patterns=world, latitude_deg=60, longitude_deg=10,
-                                      satellites=(("ALPHA", 99001), ("EQUATORIAL", 99003))))
+    scenario.write_text(
+        scenario_text(
+            world / "edge.tle",
+            patterns=world,
+            latitude_deg=60,
+            longitude_deg=10,
+            satellites=(("ALPHA", 99001), ("EQUATORIAL", 99003)),
+        )
+    )
     run = run_cli("week", scenario, "--format", "csv", "--quiet")
     assert run.code == 0, run.stderr
     rows = csv_rows(run.stdout, WEEK_COLUMNS)
-    assert {(r["candidate"], r["satellite"]) for r in rows} == {(c, s) for c in ("close", "isotropic") for s in ("ALPHA", "EQUATORIAL")}
+    assert {(r["candidate"], r["satellite"]) for r in rows} == {
+        (c, s) for c in ("close", "isotropic") for s in ("ALPHA", "EQUATORIAL")
+    }
     for row in rows:
         if row["satellite"] == "EQUATORIAL":
-            assert (row["passes"], row["usable_passes"], float(row["usable_minutes"]), float(row["data_volume_mbit"])) == ("0", "0", 0.0, 0.0)
+            assert (row["passes"], row["usable_passes"], float(row["usable_minutes"]), float(row["data_volume_mbit"])) == (
+                "0",
+                "0",
+                0.0,
+                0.0,
+            )
         else:
             assert int(row["passes"]) > 3
     run = run_cli("compare", scenario, "--format", "json", "--quiet")
@@ -848,8 +1029,11 @@ def test_forecast_and_comparison_at_the_edges(world, tmp_path, geo_longitude_deg
         "under the geostationary satellite": (0.0, round(geo_longitude_deg, 6), (("GEOSTAT", 99004), ("ALPHA", 99001))),
     }[site]
     scenario = tmp_path / "edge.toml"
-    scenario.write_text(scenario_text(world / "edge.tle", patterns=world, latitude_deg=latitude_deg,
-                                      longitude_deg=longitude_deg, satellites=satellites))
+    scenario.write_text(
+        scenario_text(
+            world / "edge.tle", patterns=world, latitude_deg=latitude_deg, longitude_deg=longitude_deg, satellites=satellites
+        )
+    )
     run = run_cli("week", scenario, "--format", "csv", "--quiet")
     assert run.code == 0 and "Traceback" not in run.stderr, run.stderr
     rows = csv_rows(run.stdout, WEEK_COLUMNS)
@@ -869,8 +1053,9 @@ def test_forecast_and_comparison_at_the_edges(world, tmp_path, geo_longitude_deg
 def nothing_visible(world, tmp_path) -> Path:
     """A scenario with only the equatorial satellite, seen from latitude 60: no pass at all."""
     scenario = tmp_path / "nothing.toml"
-    scenario.write_text(scenario_text(world / "edge.tle", patterns=world, latitude_deg=60, longitude_deg=10,
-                                      satellites=(("EQUATORIAL", 99003),)))
+    scenario.write_text(
+        scenario_text(world / "edge.tle", patterns=world, latitude_deg=60, longitude_deg=10, satellites=(("EQUATORIAL", 99003),))
+    )
     return scenario
 
 
@@ -883,10 +1068,13 @@ def test_week_when_nothing_is_ever_visible(nothing_visible):
     assert run.code == 0 and "Traceback" not in run.stderr, run.stderr
 
 
-@pytest.mark.parametrize("command", [
-    ["compare", "--format", "json"],
-    ["sweep", "--candidate", "close", "--reflector-spacing", "0.2:0.3:0.1", "--format", "csv"],
-])
+@pytest.mark.parametrize(
+    "command",
+    [
+        ["compare", "--format", "json"],
+        ["sweep", "--candidate", "close", "--reflector-spacing", "0.2:0.3:0.1", "--format", "csv"],
+    ],
+)
 def test_ranking_when_nothing_is_ever_visible(nothing_visible, command):
     # Nothing to rank: the command must end cleanly, with an empty result or one line saying why.
     run = run_cli(command[0], nothing_visible, *command[1:], "--quiet")
@@ -900,25 +1088,41 @@ def _xfail(reason):
     return pytest.mark.xfail(strict=True, reason=reason)
 
 
-_TYPER_BOX = ("cli.py main(): typer's own usage errors (a value of the wrong type, a missing or unknown "
-              "option) print a multi-line Usage/Try/Error box, not one 'planner: error:' line")
+_TYPER_BOX = (
+    "cli.py main(): typer's own usage errors (a value of the wrong type, a missing or unknown "
+    "option) print a multi-line Usage/Try/Error box, not one 'planner: error:' line"
+)
 
 
-@pytest.mark.parametrize("args", [
-    ["passes", "--elements", "plain.tle", "--lat", "52", "--lon", "0", "--days", "abc"],
-    ["budget", "scenario.toml", "--satellite", "ALPHA", "--candidate", "close", "--pass", "first"],
-    ["week", "scenario.toml", "--no-such-option"],
-    ["passes", "--elements", "plain.tle", "--lat", "52", "--lon", "0", "--days", "nan"],
-    ["passes", "--elements", "plain.tle", "--lat", "nan", "--lon", "0"],
-    ["passes", "--elements", "plain.tle", "--lat", "52", "--lon", "0", "--start", "2027-02-30T00:00:00Z"],
-    ["passes", "--elements", "plain.tle", "--lat", "52", "--lon", "0", "--step-s", "inf"],
-    ["passes", "--elements", "plain.tle", "--lat", "52", "--lon", "0", "--min-elevation-deg", "nan"],
-    ["budget", "scenario.toml", "--satellite", "ALPHA", "--candidate", "close", "--elevation-deg", "nan"],
-    ["budget", "scenario.toml", "--satellite", "ALPHA", "--candidate", "close", "--elevation-deg", "30", "--range-km", "nan"],
-    ["budget", "scenario.toml", "--satellite", "ALPHA", "--candidate", "close", "--elevation-deg", "30", "--azimuth-deg", "nan"],
-    ["pattern", "show", "azimuth.csv", "--azimuth-deg", "inf"],
-    ["harness", "--frequency-mhz", "435", "--velocity-factor", "nan"],
-])
+@pytest.mark.parametrize(
+    "args",
+    [
+        ["passes", "--elements", "plain.tle", "--lat", "52", "--lon", "0", "--days", "abc"],
+        ["budget", "scenario.toml", "--satellite", "ALPHA", "--candidate", "close", "--pass", "first"],
+        ["week", "scenario.toml", "--no-such-option"],
+        ["passes", "--elements", "plain.tle", "--lat", "52", "--lon", "0", "--days", "nan"],
+        ["passes", "--elements", "plain.tle", "--lat", "nan", "--lon", "0"],
+        ["passes", "--elements", "plain.tle", "--lat", "52", "--lon", "0", "--start", "2027-02-30T00:00:00Z"],
+        ["passes", "--elements", "plain.tle", "--lat", "52", "--lon", "0", "--step-s", "inf"],
+        ["passes", "--elements", "plain.tle", "--lat", "52", "--lon", "0", "--min-elevation-deg", "nan"],
+        ["budget", "scenario.toml", "--satellite", "ALPHA", "--candidate", "close", "--elevation-deg", "nan"],
+        ["budget", "scenario.toml", "--satellite", "ALPHA", "--candidate", "close", "--elevation-deg", "30", "--range-km", "nan"],
+        [
+            "budget",
+            "scenario.toml",
+            "--satellite",
+            "ALPHA",
+            "--candidate",
+            "close",
+            "--elevation-deg",
+            "30",
+            "--azimuth-deg",
+            "nan",
+        ],
+        ["pattern", "show", "azimuth.csv", "--azimuth-deg", "inf"],
+        ["harness", "--frequency-mhz", "435", "--velocity-factor", "nan"],
+    ],
+)
 def test_bad_option_values_are_one_line(world, args, monkeypatch):
     # Option values are input as well: a non-number, a non-finite number, an impossible date.
     monkeypatch.chdir(world)
@@ -927,8 +1131,7 @@ def test_bad_option_values_are_one_line(world, args, monkeypatch):
 
 
 def test_budget_at_a_time_far_from_the_epoch_is_refused_or_flagged(world):
-    run = run_cli("budget", world / "scenario.toml", "--satellite", "ALPHA", "--candidate", "close",
-                  "--at", "1900-01-01T00:00:00Z")
+    run = run_cli("budget", world / "scenario.toml", "--satellite", "ALPHA", "--candidate", "close", "--at", "1900-01-01T00:00:00Z")
     assert_contract(run)
     assert run.code == 2 or any("days from" in line for line in run.stderr.splitlines()), run.stderr
 

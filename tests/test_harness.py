@@ -14,16 +14,15 @@ import numpy as np
 import pytest
 from scipy.constants import c as C_M_S  # reference value of the speed of light (exact, SI)
 
-from planner.errors import UserError
 from planner.antenna.harness import (
     HARNESS_UNITS,
     axial_ratio_db_from_circular,
     axial_ratio_db_from_phase_error,
+    harness_report,
     phase_error_deg,
     polarization_loss_db_from_phase_error,
-    harness_report,
 )
-
+from planner.errors import UserError
 
 # --------------------------------------------------------------------- independent references
 
@@ -52,9 +51,7 @@ def ellipse_by_stokes(a1: float, a2: float, delta_rad: float) -> float:
 
 def stutzman_efficiency(r_w: float, r_a: float, dtilt_rad: float = 0.0) -> float:
     """Polarization efficiency between signed axial ratios (Stutzman)."""
-    return 0.5 + (4 * r_w * r_a + (1 - r_w**2) * (1 - r_a**2) * math.cos(2 * dtilt_rad)) / (
-        2 * (1 + r_w**2) * (1 + r_a**2)
-    )
+    return 0.5 + (4 * r_w * r_a + (1 - r_w**2) * (1 - r_a**2) * math.cos(2 * dtilt_rad)) / (2 * (1 + r_w**2) * (1 + r_a**2))
 
 
 # --------------------------------------------------------------------- lengths and velocity factor
@@ -214,8 +211,9 @@ def test_network_on_a_synthetic_matrix():
 
 
 def test_report_keys_carry_their_units():
-    report = harness_report(435e6, 0.66, measured_length_m=0.1, load_ohm=50, length_error_m=0.002,
-                            impedance_matrix=np.diag([50.0, 50.0]))
+    report = harness_report(
+        435e6, 0.66, measured_length_m=0.1, load_ohm=50, length_error_m=0.002, impedance_matrix=np.diag([50.0, 50.0])
+    )
     for key in report:
         assert key in HARNESS_UNITS, key
         unit = HARNESS_UNITS[key]

@@ -201,12 +201,15 @@ def _write(root: Path, files: dict[str, str]) -> None:
 
 def test_checker_finds_a_cycle_through_a_function_level_import(tmp_path):
     # a imports b at module level, b imports a inside a function: a cycle all the same.
-    _write(tmp_path, {
-        "pkg/__init__.py": "",
-        "pkg/a.py": "from pkg.b import f\n",
-        "pkg/b.py": "def f():\n    from pkg import a\n    return a\n",
-        "pkg/c.py": "import pkg.a\n",
-    })
+    _write(
+        tmp_path,
+        {
+            "pkg/__init__.py": "",
+            "pkg/a.py": "from pkg.b import f\n",
+            "pkg/b.py": "def f():\n    from pkg import a\n    return a\n",
+            "pkg/c.py": "import pkg.a\n",
+        },
+    )
     graph = import_graph(tmp_path, "pkg")
     assert graph["pkg.c"] == {"pkg.a"}
     assert strongly_connected(graph) == [["pkg.a", "pkg.b"]]
@@ -216,13 +219,16 @@ def test_checker_finds_a_cycle_through_a_function_level_import(tmp_path):
 def test_checker_counts_front_doors_and_relative_imports(tmp_path):
     # Importing pkg.sub.x runs pkg.sub's front door first (Python Language Reference, "The import
     # system"); a name taken from a front door depends on that front door, even from inside it.
-    _write(tmp_path, {
-        "pkg/__init__.py": "",
-        "pkg/sub/__init__.py": "from .x import VALUE\n",
-        "pkg/sub/x.py": "VALUE = 1\n",
-        "pkg/sub/y.py": "from pkg.sub import VALUE\n",
-        "pkg/top.py": "from pkg.sub.x import VALUE\n",
-    })
+    _write(
+        tmp_path,
+        {
+            "pkg/__init__.py": "",
+            "pkg/sub/__init__.py": "from .x import VALUE\n",
+            "pkg/sub/x.py": "VALUE = 1\n",
+            "pkg/sub/y.py": "from pkg.sub import VALUE\n",
+            "pkg/top.py": "from pkg.sub.x import VALUE\n",
+        },
+    )
     graph = import_graph(tmp_path, "pkg")
     assert graph["pkg.top"] == {"pkg.sub", "pkg.sub.x"}
     assert graph["pkg.sub"] == {"pkg.sub.x"}
@@ -281,7 +287,12 @@ def test_the_front_door_names_resolve_and_the_notebook_uses_only_them():
     for name in planner.__all__:
         assert getattr(planner, name) is not None, name
     notebook = json.loads((Path(__file__).resolve().parents[1] / "notebooks" / "station-choice.ipynb").read_text())
-    imports = [line.strip() for cell in notebook["cells"] if cell["cell_type"] == "code"
-               for line in "".join(cell["source"]).splitlines() if "planner" in line and "import" in line]
+    imports = [
+        line.strip()
+        for cell in notebook["cells"]
+        if cell["cell_type"] == "code"
+        for line in "".join(cell["source"]).splitlines()
+        if "planner" in line and "import" in line
+    ]
     assert imports, "the notebook imports nothing from planner"
     assert all(line.startswith("from planner import ") for line in imports), imports

@@ -32,8 +32,10 @@ import pytest
 from sgp4.api import Satrec
 
 from planner import limits
-from planner.passes import predict as predict_module
-from planner.passes.search import _perigee_period_s
+from planner.antenna import format_pattern, turnstile_over_reflector
+from planner.antenna.registry import SHIPPED_PATTERNS
+from planner.antenna.synth import mom, templates
+from planner.antenna.synth.geometry import estimated_segment_count, segment_model
 from planner.errors import UserError
 from planner.limits import (
     GIB,
@@ -51,14 +53,12 @@ from planner.limits import (
     format_bytes,
     read_text_capped,
 )
-from planner.antenna import format_pattern, turnstile_over_reflector
-from planner.antenna.registry import SHIPPED_PATTERNS
+from planner.passes import predict as predict_module
+from planner.passes.search import _perigee_period_s
 from planner.scenario import load_scenario
-from planner.antenna.synth import mom, templates
-from planner.antenna.synth.geometry import estimated_segment_count, segment_model
+from tests.conftest import DEMO, ROOT
 from tests.orbit_factory import make_tle
 from tests.test_hardening import assert_user_error, run_cli
-from tests.conftest import DEMO, ROOT
 
 DEMO_TLE = ROOT / "sample_tle" / "demo.tle"
 DEV_ZERO = Path("/dev/zero")  # POSIX: a character device that reads as endless zero bytes
@@ -188,27 +188,46 @@ def test_reading_failures_are_one_line_naming_the_file(tmp_path):
 
 def test_a_tiny_elevation_step_is_refused_before_allocating(tmp_path):
     out = tmp_path / "fine.csv"
-    run, peak = measured(lambda: run_cli(
-        "pattern", "build", "image-turnstile", "spacing_wavelengths=0.25", "elevation_step_deg=0.00005", "--out", out))
+    run, peak = measured(
+        lambda: run_cli(
+            "pattern", "build", "image-turnstile", "spacing_wavelengths=0.25", "elevation_step_deg=0.00005", "--out", out
+        )
+    )
     # 180 / 5e-5 + 1 = 3,600,001 elevations x 360 / 10 = 36 azimuths (the default step).
     expected_gib = 3_600_001 * 36 * PATTERN_BYTES_PER_POINT / GIB
-    line = assert_user_error(run, "elevation_step_deg=5e-05", "3,600,001 x 36", f"({expected_gib:,.0f} GiB)",
-                             "the limit is 1 GiB", "use elevation_step_deg of at least")
+    line = assert_user_error(
+        run,
+        "elevation_step_deg=5e-05",
+        "3,600,001 x 36",
+        f"({expected_gib:,.0f} GiB)",
+        "the limit is 1 GiB",
+        "use elevation_step_deg of at least",
+    )
     assert not out.exists(), line
     assert peak < 50e6, peak
 
 
 def test_a_tiny_azimuth_step_is_refused(tmp_path):
-    run = run_cli("pattern", "build", "image-turnstile", "spacing_wavelengths=0.25", "azimuth_step_deg=0.001",
-                  "--out", tmp_path / "x.csv")
-    assert_user_error(run, "azimuth_step_deg=0.001", "181 x 360,000", "GiB", "the limit is 1 GiB",
-                      "use azimuth_step_deg of at least")
+    run = run_cli(
+        "pattern", "build", "image-turnstile", "spacing_wavelengths=0.25", "azimuth_step_deg=0.001", "--out", tmp_path / "x.csv"
+    )
+    assert_user_error(
+        run, "azimuth_step_deg=0.001", "181 x 360,000", "GiB", "the limit is 1 GiB", "use azimuth_step_deg of at least"
+    )
 
 
 def test_a_one_degree_grid_is_built_and_read_back(tmp_path):
     out = tmp_path / "one-degree.csv"
-    run = run_cli("pattern", "build", "image-turnstile", "spacing_wavelengths=0.25", "elevation_step_deg=1",
-                  "azimuth_step_deg=1", "--out", out)
+    run = run_cli(
+        "pattern",
+        "build",
+        "image-turnstile",
+        "spacing_wavelengths=0.25",
+        "elevation_step_deg=1",
+        "azimuth_step_deg=1",
+        "--out",
+        out,
+    )
     assert run.code == 0, run.stderr
     rows = [line for line in out.read_text().splitlines() if line and not line.startswith("#")]
     assert len(rows) == 1 + 181 * 360  # the column row, then -90..90 x 0..359
@@ -216,8 +235,7 @@ def test_a_one_degree_grid_is_built_and_read_back(tmp_path):
 
 
 def test_wire_table_grid_is_refused_before_solving(tmp_path):
-    run = run_cli("pattern", "build", "turnstile", "elevation_step_deg=0.1", "azimuth_step_deg=0.5",
-                  "--out", tmp_path / "x.csv")
+    run = run_cli("pattern", "build", "turnstile", "elevation_step_deg=0.1", "azimuth_step_deg=0.5", "--out", tmp_path / "x.csv")
     assert_user_error(run, "elevation_step_deg=0.1", "1,801 x 720", "GiB", "the limit is 1 GiB")
 
 
@@ -249,18 +267,37 @@ def test_sweep_rebuild_from_a_header_asking_a_tiny_azimuth_step_is_refused(tmp_p
 def test_a_grid_reflector_of_thousands_of_wires_is_refused_with_its_segment_count(tmp_path):
     # 3 wavelengths / 0.03 = 100 cells: 101 rods each way, 3 wavelengths at 200 segments a
     # wavelength = 600 segments a rod; 202 x 600 = 121,200, plus the two 48-segment loops.
-    run = run_cli("pattern", "build", "crossed-loops", "reflector=grid", "reflector_size_wavelengths=3",
-                  "grid_pitch_wavelengths=0.03", "segments_per_wavelength=200", "--out", tmp_path / "x.csv")
+    run = run_cli(
+        "pattern",
+        "build",
+        "crossed-loops",
+        "reflector=grid",
+        "reflector_size_wavelengths=3",
+        "grid_pitch_wavelengths=0.03",
+        "segments_per_wavelength=200",
+        "--out",
+        tmp_path / "x.csv",
+    )
     expected_tib = 121_296**2 * MOM_BYTES_PER_SEGMENT_PAIR / 2**40
-    assert_user_error(run, "121,296 segments", "121,296 x 121,296 moment-matrix", f"({expected_tib:.2g} TiB)",
-                      "the limit is 1 GiB", "segments_per_wavelength")
+    assert_user_error(
+        run,
+        "121,296 segments",
+        "121,296 x 121,296 moment-matrix",
+        f"({expected_tib:.2g} TiB)",
+        "the limit is 1 GiB",
+        "segments_per_wavelength",
+    )
 
 
 # 200 segments on a 1 mm loop are 3.4 radii long: the segmenter's thin-wire warning is expected.
 @pytest.mark.filterwarnings("ignore::planner.errors.PlannerWarning")
 def test_segment_estimate_is_the_segmenters_count_and_the_pair_cost_covers_the_real_peak():
-    for model in (templates.crossed_loops(reflector="grid"), templates.turnstile(reflector="rods"),
-                  templates.crossed_loops(segments=200, reflector="rods"), templates.dipole()):
+    for model in (
+        templates.crossed_loops(reflector="grid"),
+        templates.turnstile(reflector="rods"),
+        templates.crossed_loops(segments=200, reflector="rods"),
+        templates.dipole(),
+    ):
         assert estimated_segment_count(model) == segment_model(model).n_segments
     assert MOM_BYTES_PER_SEGMENT_PAIR >= 16  # at least the complex128 matrix itself (Harrington)
     model = templates.crossed_loops(reflector="rods")
@@ -284,8 +321,9 @@ def test_shipped_wire_models_and_the_default_grid_reflector_fit():
 
 
 def test_a_sweep_of_billions_of_spacings_is_refused_with_its_time(tmp_path):
-    run = run_cli("sweep", demo_scenario(tmp_path), "--candidate", "turnstile-close",
-                  "--reflector-spacing", "0.1:0.8:1e-9", "--quiet")
+    run = run_cli(
+        "sweep", demo_scenario(tmp_path), "--candidate", "turnstile-close", "--reflector-spacing", "0.1:0.8:1e-9", "--quiet"
+    )
     # (0.8 - 0.1) / 1e-9 + 1 = 700,000,001 spacings at 5 s each: 3.5e9 s = 111 years (365.25 d).
     assert_user_error(run, "--reflector-spacing", "700,000,001 spacings", "111 years", "at most 60")
 
@@ -332,12 +370,14 @@ def test_too_many_network_stations_are_refused_and_a_few_pass(tmp_path):
 
     def with_stations(count: int) -> str:
         # Invented sites along a parallel; the demo station's keys (README "Networks and catalogs").
-        tables = "".join(f'\n[[network_station]]\nname = "site-{k}"\nlatitude_deg = 52.0\nlongitude_deg = {k * 0.1:.1f}\n'
-                         for k in range(count))
+        tables = "".join(
+            f'\n[[network_station]]\nname = "site-{k}"\nlatitude_deg = 52.0\nlongitude_deg = {k * 0.1:.1f}\n' for k in range(count)
+        )
         return base + tables
 
     path.write_text(with_stations(2))
     assert len(load_scenario(path).stations) == 3
     path.write_text(with_stations(NETWORK_STATIONS_LIMIT + 1))
-    assert_user_error(run_cli("passes", path), f"{NETWORK_STATIONS_LIMIT + 1} network stations",
-                      f"at most {NETWORK_STATIONS_LIMIT}")
+    assert_user_error(
+        run_cli("passes", path), f"{NETWORK_STATIONS_LIMIT + 1} network stations", f"at most {NETWORK_STATIONS_LIMIT}"
+    )

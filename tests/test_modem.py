@@ -24,6 +24,7 @@ from hypothesis import strategies as st
 from scipy import integrate, stats
 
 from planner.errors import PlannerWarning, UserError
+from planner.link import modem
 from planner.link.modem import (
     MODULATIONS,
     NO_THEORY,
@@ -33,7 +34,6 @@ from planner.link.modem import (
     q_function,
     required_ebn0_db,
 )
-from planner.link import modem
 
 THEORY = [m for m in MODULATIONS if m not in NO_THEORY]
 
@@ -42,10 +42,10 @@ THEORY = [m for m in MODULATIONS if m not in NO_THEORY]
 @pytest.mark.parametrize(
     "modulation, expected_db",
     [
-        ("bpsk", 9.59),              # Q(sqrt(2 Eb/N0))
-        ("qpsk", 9.59),              # Gray-coded QPSK: same per-bit error rate as BPSK
-        ("dbpsk", 10.34),            # 0.5 exp(-Eb/N0)
-        ("fsk-coherent", 12.60),     # Q(sqrt(Eb/N0))
+        ("bpsk", 9.59),  # Q(sqrt(2 Eb/N0))
+        ("qpsk", 9.59),  # Gray-coded QPSK: same per-bit error rate as BPSK
+        ("dbpsk", 10.34),  # 0.5 exp(-Eb/N0)
+        ("fsk-coherent", 12.60),  # Q(sqrt(Eb/N0))
         ("fsk-noncoherent", 13.35),  # 0.5 exp(-Eb/2N0)
     ],
 )
@@ -64,9 +64,7 @@ def test_closed_forms_for_exponential_kinds():
     for ber in (1e-3, 1e-5, 1e-9):
         g = math.log(1.0 / (2.0 * ber))
         assert required_ebn0_db("dbpsk", ber) == pytest.approx(10 * math.log10(g), abs=1e-9)
-        assert required_ebn0_db("fsk-noncoherent", ber) == pytest.approx(
-            10 * math.log10(2 * g), abs=1e-9
-        )
+        assert required_ebn0_db("fsk-noncoherent", ber) == pytest.approx(10 * math.log10(2 * g), abs=1e-9)
 
 
 def test_coherent_fsk_is_3db_behind_bpsk():

@@ -17,7 +17,6 @@ import pytest
 from scipy.constants import mu_0, speed_of_light
 from scipy.optimize import brentq
 
-from planner.errors import PlannerWarning, UserError
 from planner.antenna.synth.geometry import (
     MATERIALS,
     Load,
@@ -30,6 +29,7 @@ from planner.antenna.synth.geometry import (
     surface_resistance_ohm,
 )
 from planner.antenna.synth.mom import ETA0_OHM, solve
+from planner.errors import PlannerWarning, UserError
 
 F_HZ = 300e6
 LAM = speed_of_light / F_HZ
@@ -44,8 +44,18 @@ def straight_dipole(length_m, radius_m, segments, *, centre=(0.0, 0.0, 0.0), axi
     return Wire(points, radius_m, material, name, segments_per_edge=segments // 2)
 
 
-def dipole_model(length_m=LAM / 2, radius_m=LAM / 1000, segments=40, *, ground="free-space", centre=(0.0, 0.0, 0.0),
-                 axis=(0.0, 0.0, 1.0), material="pec", frequency_hz=F_HZ, loads=()):
+def dipole_model(
+    length_m=LAM / 2,
+    radius_m=LAM / 1000,
+    segments=40,
+    *,
+    ground="free-space",
+    centre=(0.0, 0.0, 0.0),
+    axis=(0.0, 0.0, 1.0),
+    material="pec",
+    frequency_hz=F_HZ,
+    loads=(),
+):
     wire = straight_dipole(length_m, radius_m, segments, centre=centre, axis=axis, material=material)
     return WireModel([wire], [Port("feed", centre)], loads, frequency_hz=frequency_hz, ground=ground)
 
@@ -362,8 +372,9 @@ def test_turnstile_in_quadrature_is_rhcp_toward_zenith():
     # the port direction is along the wire it names: the north dipole drawn from north to south
     # with direction -1 is the same antenna (same currents, same gains, same Z matrix)
     n_rev = Wire(n.points[::-1], n.radius_m, "pec", "n", segments_per_edge=20)
-    rev = solve(WireModel([e, n_rev], [Port("e", (0, 0, 0.005 * LAM)), Port("n", (0, 0, -0.005 * LAM), direction=-1)],
-                          frequency_hz=F_HZ))
+    rev = solve(
+        WireModel([e, n_rev], [Port("e", (0, 0, 0.005 * LAM)), Port("n", (0, 0, -0.005 * LAM), direction=-1)], frequency_hz=F_HZ)
+    )
     np.testing.assert_allclose(rev.gains_dbic(0.0, 90.0, voltages), (r_up, l_up), atol=1e-9)
     np.testing.assert_allclose(rev.port_impedance_matrix(), sol.port_impedance_matrix(), rtol=1e-9, atol=1e-9)
     # the north dipole as two wires meeting head to head at its feed, the port named on the one
@@ -371,12 +382,14 @@ def test_turnstile_in_quadrature_is_rhcp_toward_zenith():
     c_n = np.array([0, 0, -0.005 * LAM])
     n1 = Wire(np.array([c_n - [0, LAM / 4, 0], c_n]), n.radius_m, "pec", "n-south-half", segments_per_edge=20)
     n2 = Wire(np.array([c_n + [0, LAM / 4, 0], c_n]), n.radius_m, "pec", "n-north-half", segments_per_edge=20)
-    split = solve(WireModel([e, n1, n2], [Port("e", (0, 0, 0.005 * LAM)), Port("n", c_n, direction=-1, wire="n-north-half")],
-                            frequency_hz=F_HZ))
+    split = solve(
+        WireModel(
+            [e, n1, n2], [Port("e", (0, 0, 0.005 * LAM)), Port("n", c_n, direction=-1, wire="n-north-half")], frequency_hz=F_HZ
+        )
+    )
     np.testing.assert_allclose(split.gains_dbic(0.0, 90.0, voltages), (r_up, l_up), atol=1e-9)
     # the plain reversal (direction +1) flips the north current: LHCP up instead
-    flipped = solve(WireModel([e, n_rev], [Port("e", (0, 0, 0.005 * LAM)), Port("n", (0, 0, -0.005 * LAM))],
-                              frequency_hz=F_HZ))
+    flipped = solve(WireModel([e, n_rev], [Port("e", (0, 0, 0.005 * LAM)), Port("n", (0, 0, -0.005 * LAM))], frequency_hz=F_HZ))
     r_f, l_f = flipped.gains_dbic(0.0, 90.0, voltages)
     assert l_f - r_f > 20.0
     # partial gains add to the total gain
@@ -391,8 +404,9 @@ def test_one_wavelength_square_loop_resistance():
     # a closed polyline (the last point repeats the first: joined into one loop).
     s = LAM / 4
     pts = np.array([[-s / 2, 0, 0], [0, 0, 0], [s / 2, 0, 0], [s / 2, 0, s], [-s / 2, 0, s], [-s / 2, 0, 0]])
-    sol = solve(WireModel([Wire(pts, LAM / 1000, "pec", "loop")], [Port("feed", (0, 0, 0))], frequency_hz=F_HZ,
-                          segments_per_wavelength=60))
+    sol = solve(
+        WireModel([Wire(pts, LAM / 1000, "pec", "loop")], [Port("feed", (0, 0, 0))], frequency_hz=F_HZ, segments_per_wavelength=60)
+    )
     assert 80.0 < sol.input_impedance()[0].real < 140.0
     assert sol.segmentation.n_basis == sol.segmentation.n_segments  # closed loop: no free ends
 
@@ -404,8 +418,9 @@ def test_finite_wire_reflector_works_as_wires():
     h = 0.25 * LAM
     wires = [straight_dipole(LAM / 2, LAM / 1000, 30, centre=(0, 0, h), axis=(1, 0, 0), name="dipole")]
     for k, y in enumerate(np.arange(-0.5, 0.5001, 0.1) * LAM):
-        wires.append(Wire(np.array([[-0.6 * LAM, y, 0.0], [0.6 * LAM, y, 0.0]]), LAM / 1000, "pec", f"rod{k}",
-                          segments_per_edge=24))
+        wires.append(
+            Wire(np.array([[-0.6 * LAM, y, 0.0], [0.6 * LAM, y, 0.0]]), LAM / 1000, "pec", f"rod{k}", segments_per_edge=24)
+        )
     sol = solve(WireModel(wires, [Port("feed", (0, 0, h), wire="dipole")], frequency_hz=F_HZ))
     up, down = sol.radiation_intensity(0.0, 90.0), sol.radiation_intensity(0.0, -90.0)
     assert up > 10.0 * down > 0.0

@@ -12,9 +12,9 @@ import pytest
 from planner.errors import UserError
 from planner.scenario import load_scenario
 from planner.study import Study
+from tests.conftest import DEMO, ROOT
+from tests.conftest import run_planner as run
 from tests.orbit_factory import make_tle, write_three_line
-from tests.conftest import DEMO, ROOT, run_planner as run
-
 
 # Two more invented club sites: one in the southern hemisphere, one far north.
 NETWORK = """
@@ -36,8 +36,6 @@ altitude_m = 300
 
 def scenario_text(days=0.5):
     return DEMO.read_text().replace('"../', f'"{ROOT}/').replace("days = 7", f"days = {days}")
-
-
 
 
 @pytest.fixture(scope="module")
@@ -71,15 +69,27 @@ def test_week_csv_has_a_row_per_station_candidate_and_satellite(network_scenario
 
 
 def test_compare_json_per_station_and_station_filter(network_scenario):
-    result = run("compare", network_scenario, "--format", "json", "--quiet", "--candidate", "turnstile-close",
-                 "--candidate", "turnstile-far")
+    result = run(
+        "compare", network_scenario, "--format", "json", "--quiet", "--candidate", "turnstile-close", "--candidate", "turnstile-far"
+    )
     assert result.returncode == 0, result.stderr
     document = json.loads(result.stdout)
     assert [s["station"] for s in document["stations"]][0] == "Cobbleford Fell Radio Society"
     for entry in document["stations"]:
         assert entry["recommended"] in ("turnstile-close", "turnstile-far") and entry["explanation"]
-    one = json.loads(run("compare", network_scenario, "--format", "json", "--quiet", "--station", "Northern partner site",
-                         "--candidate", "turnstile-close").stdout)
+    one = json.loads(
+        run(
+            "compare",
+            network_scenario,
+            "--format",
+            "json",
+            "--quiet",
+            "--station",
+            "Northern partner site",
+            "--candidate",
+            "turnstile-close",
+        ).stdout
+    )
     assert "stations" not in one and one["recommended"] == "turnstile-close"  # a single station keeps the contract
     bad = run("passes", network_scenario, "--station", "Nowhere")
     assert bad.returncode == 2 and "Nowhere" in bad.stderr and "Traceback" not in bad.stderr
@@ -98,20 +108,32 @@ def catalog_scenario(tmp_path_factory):
     rng = np.random.default_rng(11)
     entries = []
     for k in range(120):  # an invented catalog: mixed LEO heights and inclinations
-        orbit = dict(norad_id=80000 + k, height_km=float(rng.uniform(400, 1100)),
-                     inclination_deg=float(rng.choice([0.0, 20.0, 51.6, 82.0, 97.6])),
-                     raan_deg=float(rng.uniform(0, 360)), mean_anomaly_deg=float(rng.uniform(0, 360)))
+        orbit = dict(
+            norad_id=80000 + k,
+            height_km=float(rng.uniform(400, 1100)),
+            inclination_deg=float(rng.choice([0.0, 20.0, 51.6, 82.0, 97.6])),
+            raan_deg=float(rng.uniform(0, 360)),
+            mean_anomaly_deg=float(rng.uniform(0, 360)),
+        )
         entries.append((f"CAT-{k:03d}", make_tle(**orbit)))
     write_three_line(folder / "catalog.tle", entries)
     text = scenario_text(days=1)
-    text = text[: text.index("[[satellite]]")] + f"""
+    text = (
+        text[: text.index("[[satellite]]")]
+        + f"""
 [catalog]
-elements = "{folder / 'catalog.tle'}"
+elements = "{folder / "catalog.tle"}"
 downlink_mhz = 436.0
 tx_power_w = 1.0
 modulation = "gmsk"
 data_rate_bps = 9600
-""" + text[text.index("# ---------------------------------------------------------------------------------\n# The station's receive chain"):]
+"""
+        + text[
+            text.index(
+                "# ---------------------------------------------------------------------------------\n# The station's receive chain"
+            ) :
+        ]
+    )
     path = folder / "catalog.toml"
     path.write_text(text)
     return path

@@ -14,8 +14,8 @@ import pytest
 import scipy.constants
 
 from planner.constants import BOLTZMANN_DBW_PER_K_HZ
-from planner.link import noise
 from planner.errors import PlannerWarning, UserError
+from planner.link import noise
 
 MHZ = 1e6
 FLOOR_DBIC = -60.0  # "no field" floor of the pattern tables (planner.antenna GAIN_FLOOR_DBIC)
@@ -213,12 +213,8 @@ def test_friis_worked_example():
     t1 = noise.noise_figure_to_temperature_k(0.5)
     t3 = noise.noise_figure_to_temperature_k(6.0)
     t_cable = (10**0.3 - 1) * 290
-    assert noise.cascade_noise_temperature_k([(20.0, t1), (-3.0, t_cable), (0.0, t3)]) == pytest.approx(
-        LNA_FIRST_K, abs=0.01
-    )
-    assert noise.cascade_noise_temperature_k([(-3.0, t_cable), (20.0, t1), (0.0, t3)]) == pytest.approx(
-        LNA_AFTER_CABLE_K, abs=0.01
-    )
+    assert noise.cascade_noise_temperature_k([(20.0, t1), (-3.0, t_cable), (0.0, t3)]) == pytest.approx(LNA_FIRST_K, abs=0.01)
+    assert noise.cascade_noise_temperature_k([(-3.0, t_cable), (20.0, t1), (0.0, t3)]) == pytest.approx(LNA_AFTER_CABLE_K, abs=0.01)
     assert noise.cascade_contributions_k([(20.0, t1), (-3.0, t_cable), (0.0, t3)]) == pytest.approx(
         [35.385, 2.886, 17.249], abs=0.001
     )
@@ -249,9 +245,7 @@ def test_receive_chain_without_lna():
     assert chain.system_noise_temperature_k == pytest.approx(50.0 + 169.62 + 1370.17, abs=0.05)
     assert list(chain.breakdown) == ["antenna", "feedline", "receiver"]
     with pytest.raises(UserError):
-        noise.receive_chain(
-            50.0, feedline_loss_db=2.0, lna_noise_figure_db=0.5, lna_gain_db=None, receiver_noise_figure_db=6.0
-        )
+        noise.receive_chain(50.0, feedline_loss_db=2.0, lna_noise_figure_db=0.5, lna_gain_db=None, receiver_noise_figure_db=6.0)
 
 
 # --- the clear atmosphere's own emission (ITU-R P.372) --------------------------------------
@@ -272,7 +266,9 @@ def test_sky_brightness_is_p372_clear_air_by_hand(frequency_hz, elevation_deg):
     # 2.725 K (Fixsen 2009, ApJ 707, 916), not taken from the planner's own galactic function.
     from itur.models import itu676
 
-    loss_db = float(itu676.gaseous_attenuation_slant_path(frequency_hz / 1e9, elevation_deg, 7.5, 1013.25, 288.15, mode="exact").value)
+    loss_db = float(
+        itu676.gaseous_attenuation_slant_path(frequency_hz / 1e9, elevation_deg, 7.5, 1013.25, 288.15, mode="exact").value
+    )
     tau = 10 ** (-loss_db / 10)
     t_ext = 290.0 * 10 ** ((52.0 - 23.0 * math.log10(frequency_hz / 1e6)) / 10) + 2.725
     expected = t_ext * tau + P372_TMR_SEA_LEVEL_K * (1 - tau)
@@ -349,8 +345,11 @@ def test_mismatched_lossless_antenna_delivers_k_290_b_m():
         gamma = (vswr - 1) / (vswr + 1)
         m = 1 - gamma**2
         chain = noise.receive_chain(
-            t_a, mismatch_loss_db=float(mismatch_loss_db(vswr)), feedline_loss_db=0.0,
-            lna_noise_figure_db=None, receiver_noise_figure_db=0.0,
+            t_a,
+            mismatch_loss_db=float(mismatch_loss_db(vswr)),
+            feedline_loss_db=0.0,
+            lna_noise_figure_db=None,
+            receiver_noise_figure_db=0.0,
         )
         delivered_k = chain.system_noise_temperature_k * 10 ** (chain.gain_to_receiver_db / 10)
         assert delivered_k == pytest.approx(290.0 * m, abs=1e-3)
@@ -372,7 +371,7 @@ def test_pre_lna_loss_sits_before_the_lna():
     #   T = (L - 1) 290 + L * 55.52 = 35.385 + 62.295 = 97.68 K, against 55.52 + 0.5 dB more after the LNA
     #   (about 55.8 K): charged before the LNA it costs 42 K, not 0.3 K.
     common = dict(feedline_loss_db=3.0, lna_noise_figure_db=0.5, lna_gain_db=20.0, receiver_noise_figure_db=6.0)
-    loss = 10 ** 0.05
+    loss = 10**0.05
     chain = noise.receive_chain(0.0, pre_lna_loss_db=0.5, **common)
     assert chain.system_noise_temperature_k == pytest.approx((loss - 1) * 290 + loss * LNA_FIRST_K, abs=0.02)
     assert chain.breakdown["pre_lna"] == pytest.approx((loss - 1) * 290)

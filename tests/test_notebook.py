@@ -6,6 +6,7 @@ import os
 
 import nbformat
 from nbclient import NotebookClient
+
 from tests.conftest import ROOT
 
 NOTEBOOK = ROOT / "notebooks" / "station-choice.ipynb"

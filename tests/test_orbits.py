@@ -22,7 +22,7 @@ import json
 import math
 import string
 import warnings
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 import numpy as np
@@ -32,16 +32,16 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from sgp4.api import Satrec, jday
 
-from planner.errors import PlannerWarning, UserError
 from planner.elements import (
     ElementSet,
-    control_character,
     check_element_age,
+    control_character,
     element_age_days,
     read_elements,
     select_element_set,
     tle_checksum,
 )
+from planner.errors import PlannerWarning, UserError
 
 REPO = Path(__file__).resolve().parent.parent
 SAMPLES = REPO / "sample_tle"
@@ -53,7 +53,7 @@ EXPECTED = [
     (99904, "CALDERWISP"),
     (99905, "MERROWFALL"),
 ]
-EPOCH = datetime(2027, 1, 3, 12, 0, 0, tzinfo=timezone.utc)
+EPOCH = datetime(2027, 1, 3, 12, 0, 0, tzinfo=UTC)
 SGP4_VER = Path(sgp4.__file__).resolve().parent / "SGP4-VER.TLE"
 
 
@@ -131,8 +131,19 @@ def test_sgp4_verification_entries_read_like_twoline2rv(tmp_path):
         (element_set,) = read_elements(path)
         reference = Satrec.twoline2rv(line1, line2)
         assert element_set.norad_id == reference.satnum
-        for attribute in ("inclo", "nodeo", "ecco", "argpo", "mo", "no_kozai", "bstar",
-                          "jdsatepoch", "jdsatepochF", "ndot", "nddot"):
+        for attribute in (
+            "inclo",
+            "nodeo",
+            "ecco",
+            "argpo",
+            "mo",
+            "no_kozai",
+            "bstar",
+            "jdsatepoch",
+            "jdsatepochF",
+            "ndot",
+            "nddot",
+        ):
             assert getattr(element_set.satrec, attribute) == getattr(reference, attribute)
         assert element_set.satrec.operationmode == "i"
         accepted += 1
@@ -159,8 +170,7 @@ def test_tle_satrec_is_the_one_twoline2rv_builds():
     lines = demo_lines()
     for es, index in zip(read_elements(SAMPLES / "demo.tle"), range(0, len(lines), 3)):
         reference = Satrec.twoline2rv(lines[index + 1], lines[index + 2])
-        for attribute in ("satnum", "inclo", "nodeo", "ecco", "argpo", "mo", "no_kozai",
-                          "bstar", "jdsatepoch", "jdsatepochF"):
+        for attribute in ("satnum", "inclo", "nodeo", "ecco", "argpo", "mo", "no_kozai", "bstar", "jdsatepoch", "jdsatepochF"):
             assert getattr(es.satrec, attribute) == getattr(reference, attribute)
         assert es.source == f"{SAMPLES / 'demo.tle'}:{index + 1}"
 
@@ -300,8 +310,7 @@ def test_alpha5_catalog_number(tmp_path):
 
 @pytest.mark.parametrize(
     "epoch_text",
-    ["2027-01-03T12:00:00.000000", "2027-01-03T12:00:00", "2027-01-03T12:00:00Z",
-     "2027-01-03T12:00:00.000Z", "2027-003T12:00:00"],
+    ["2027-01-03T12:00:00.000000", "2027-01-03T12:00:00", "2027-01-03T12:00:00Z", "2027-01-03T12:00:00.000Z", "2027-003T12:00:00"],
 )
 def test_omm_epoch_forms(tmp_path, epoch_text):
     entries = json.loads((SAMPLES / "demo_omm.json").read_text())
@@ -581,16 +590,16 @@ def _mutate(text: str, edits) -> str:
         if kind in ("drop_line", "repeat_line"):
             lines = text.split("\n")
             index = position % len(lines)
-            lines[index:index + 1] = [] if kind == "drop_line" else [lines[index]] * 2
+            lines[index : index + 1] = [] if kind == "drop_line" else [lines[index]] * 2
             text = "\n".join(lines)
             continue
         index = position % (len(text) + 1)
         if kind == "replace":
-            text = text[:index] + char + text[index + 1:]
+            text = text[:index] + char + text[index + 1 :]
         elif kind == "insert":
             text = text[:index] + char + text[index:]
         else:
-            text = text[:index] + text[index + 1:]
+            text = text[:index] + text[index + 1 :]
     return text
 
 
@@ -701,11 +710,11 @@ def _tle_with_epoch(year: int, day_text: str) -> str:
     [
         # TLE epoch year convention (CelesTrak/NORAD two-line element format documentation):
         # 57-99 are 1957-1999, 00-56 are 2000-2056.
-        (56, "001.00000000", datetime(2056, 1, 1, tzinfo=timezone.utc)),
-        (57, "001.00000000", datetime(1957, 1, 1, tzinfo=timezone.utc)),
-        (0, "001.00000000", datetime(2000, 1, 1, tzinfo=timezone.utc)),
+        (56, "001.00000000", datetime(2056, 1, 1, tzinfo=UTC)),
+        (57, "001.00000000", datetime(1957, 1, 1, tzinfo=UTC)),
+        (0, "001.00000000", datetime(2000, 1, 1, tzinfo=UTC)),
         # 2028 is a leap year (Gregorian rule: divisible by 4, not a century), day 366 exists.
-        (28, "366.50000000", datetime(2028, 12, 31, 12, tzinfo=timezone.utc)),
+        (28, "366.50000000", datetime(2028, 12, 31, 12, tzinfo=UTC)),
     ],
 )
 def test_tle_epoch_edges_are_accepted(tmp_path, two_digit_year, day_text, expected):
@@ -721,8 +730,13 @@ def test_tle_epoch_day_outside_its_year_is_refused(tmp_path, two_digit_year, day
 
 @pytest.mark.parametrize(
     "epoch_text",
-    ["0001-01-01T00:00:00", "9999-12-31T23:59:59", "1956-12-31T23:59:59", "2101-01-01T00:00:00",
-     "2100-12-31T23:59:59.9999999"],  # the last rounds to the microsecond into 2101
+    [
+        "0001-01-01T00:00:00",
+        "9999-12-31T23:59:59",
+        "1956-12-31T23:59:59",
+        "2101-01-01T00:00:00",
+        "2100-12-31T23:59:59.9999999",
+    ],  # the last rounds to the microsecond into 2101
 )
 def test_omm_epoch_outside_1957_to_2100_is_refused(tmp_path, epoch_text):
     # 1957: the first artificial satellite; 2100: past any element set's useful life
@@ -742,8 +756,14 @@ def test_omm_epoch_edges_are_accepted(tmp_path, epoch_text):
 # a text-direction override (U+202E): control characters of ECMA-48 / ISO 6429 (C0 0x00-0x1f,
 # C1 0x80-0x9f; DEL 0x7f) and a Unicode format character, all non-printable for Python's
 # str.isprintable (Python docs).
-CONTROL_CHARACTERS = [("\x1b", "\\x1b"), ("\x07", "\\x07"), ("\x7f", "\\x7f"), ("\x9b", "\\x9b"),
-                      ("\x1f", "\\x1f"), ("\u202e", "\\u202e")]
+CONTROL_CHARACTERS = [
+    ("\x1b", "\\x1b"),
+    ("\x07", "\\x07"),
+    ("\x7f", "\\x7f"),
+    ("\x9b", "\\x9b"),
+    ("\x1f", "\\x1f"),
+    ("\u202e", "\\u202e"),
+]
 
 
 @pytest.mark.parametrize(("char", "escaped"), CONTROL_CHARACTERS)

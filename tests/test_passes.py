@@ -5,7 +5,7 @@ Sources: docs/references.md (full citations; values not yet checked against the 
 
 from __future__ import annotations
 
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta
 from math import cos, radians, sin, sqrt
 
 import numpy as np
@@ -17,7 +17,7 @@ from planner.passes import Target, predict_passes
 from planner.passes.station import HorizonMask, Station
 from tests.orbit_factory import make_tle, write_three_line
 
-START = datetime(2027, 1, 4, tzinfo=timezone.utc)
+START = datetime(2027, 1, 4, tzinfo=UTC)
 
 # Invented orbits spanning the kinds a ground station tracks.
 ORBITS = {

@@ -7,7 +7,7 @@ Sources: docs/references.md (full citations; values not yet checked against the 
 from __future__ import annotations
 
 import warnings
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta
 
 import numpy as np
 import pytest
@@ -15,8 +15,8 @@ from sgp4.api import WGS72, Satrec
 from skyfield.api import EarthSatellite, load, wgs84
 
 from planner import passes as engine
-from planner.errors import PlannerWarning
 from planner.elements import ElementSet, read_elements
+from planner.errors import PlannerWarning
 from planner.passes import Observer, Target, predict_passes
 from planner.passes.batch import _plan_chunks
 from planner.passes.chunk import _Chunk, _ChunkJob, _recipe
@@ -25,7 +25,7 @@ from planner.passes.search import _EXTREME_SEARCH_DEG, _hermite, _perigee_period
 from planner.passes.station import HorizonMask, Station
 from tests.orbit_factory import EARTH_RADIUS_KM, make_tle, write_three_line
 
-START = datetime(2027, 1, 4, tzinfo=timezone.utc)
+START = datetime(2027, 1, 4, tzinfo=UTC)
 SITE = Station("mid-latitude", 47.37, 8.54, 410.0)
 
 
@@ -35,20 +35,30 @@ def varied_orbits(count: int, seed: int = 11, first_id: int = 80000):
     rng = np.random.default_rng(seed)
     entries = []
     for k in range(count):
-        orbit = dict(raan_deg=float(rng.uniform(0, 360)), mean_anomaly_deg=float(rng.uniform(0, 360)),
-                     argp_deg=float(rng.uniform(0, 360)))
+        orbit = dict(
+            raan_deg=float(rng.uniform(0, 360)), mean_anomaly_deg=float(rng.uniform(0, 360)), argp_deg=float(rng.uniform(0, 360))
+        )
         kind = k % 3
         if kind == 0:
-            orbit.update(height_km=float(rng.uniform(350, 1200)), inclination_deg=float(rng.uniform(0, 100)),
-                         eccentricity=float(rng.uniform(1e-4, 0.01)))
+            orbit.update(
+                height_km=float(rng.uniform(350, 1200)),
+                inclination_deg=float(rng.uniform(0, 100)),
+                eccentricity=float(rng.uniform(1e-4, 0.01)),
+            )
         elif kind == 1:
             e = float(rng.uniform(0.02, 0.2))
             perigee_km = float(rng.uniform(300, 800))
-            orbit.update(height_km=(EARTH_RADIUS_KM + perigee_km) / (1 - e) - EARTH_RADIUS_KM,
-                         inclination_deg=float(rng.uniform(0, 110)), eccentricity=e)
+            orbit.update(
+                height_km=(EARTH_RADIUS_KM + perigee_km) / (1 - e) - EARTH_RADIUS_KM,
+                inclination_deg=float(rng.uniform(0, 110)),
+                eccentricity=e,
+            )
         else:
-            orbit.update(height_km=float(rng.uniform(350, 1000)), inclination_deg=float(rng.uniform(95, 150)),
-                         eccentricity=float(rng.uniform(1e-4, 0.005)))
+            orbit.update(
+                height_km=float(rng.uniform(350, 1000)),
+                inclination_deg=float(rng.uniform(95, 150)),
+                eccentricity=float(rng.uniform(1e-4, 0.005)),
+            )
         entries.append((f"VARIED-{k:03d}", make_tle(first_id + k, **orbit)))
     return entries
 
@@ -78,8 +88,8 @@ def skyfield_reference(element_set, station, start, end):
     times, events = satellite.find_events(site, ts.from_datetime(start), ts.from_datetime(end), altitude_degrees=0.0)
     if not len(events):
         return []
-    around_peak = np.arange(-20, 21) * 0.1                   # s: +-2 s every 100 ms
-    around_edge = np.arange(-20, 21) * 0.05                  # s: +-1 s every 50 ms
+    around_peak = np.arange(-20, 21) * 0.1  # s: +-2 s every 100 ms
+    around_edge = np.arange(-20, 21) * 0.05  # s: +-1 s every 50 ms
     offsets = [around_peak if event == 1 else around_edge for event in events]
     fine_tt = np.concatenate([t + offset / 86400.0 for t, offset in zip(times.tt, offsets)])
     flat = (satellite - site).at(ts.tt_jd(fine_tt)).altaz()[0].degrees
@@ -115,8 +125,10 @@ def skyfield_reference(element_set, station, start, end):
         elif event == 1 and rise is not None:
             best = max(best, peak_altitude[k])
         elif event == 2 and rise is not None:
-            exact = [None if refined[j] is None else when.utc_datetime() + timedelta(seconds=float(refined[j]))
-                     for j, when in ((rise_k, rise), (k, t))]
+            exact = [
+                None if refined[j] is None else when.utc_datetime() + timedelta(seconds=float(refined[j]))
+                for j, when in ((rise_k, rise), (k, t))
+            ]
             result.append((rise.utc_datetime(), t.utc_datetime(), best, *exact))
             rise = None
     return result
@@ -219,9 +231,20 @@ def _same_passes(a, b):
     """Field-by-field identity of two pass lists (arrays bit for bit)."""
     assert len(a) == len(b)
     for p, q in zip(a, b):
-        for name in ("satellite", "norad_id", "aos_utc", "tca_utc", "los_utc", "max_elevation_deg",
-                     "aos_azimuth_deg", "tca_azimuth_deg", "los_azimuth_deg", "min_range_km",
-                     "aos_clipped", "los_clipped"):
+        for name in (
+            "satellite",
+            "norad_id",
+            "aos_utc",
+            "tca_utc",
+            "los_utc",
+            "max_elevation_deg",
+            "aos_azimuth_deg",
+            "tca_azimuth_deg",
+            "los_azimuth_deg",
+            "min_range_km",
+            "aos_clipped",
+            "los_clipped",
+        ):
             assert getattr(p, name) == getattr(q, name), name
         for name in ("time_s", "azimuth_deg", "elevation_deg", "range_km", "range_rate_km_s"):
             assert np.array_equal(getattr(p.track, name), getattr(q.track, name), equal_nan=True), name
@@ -278,7 +301,7 @@ def test_bad_and_decaying_satellites_warn_and_spare_the_others(catalog, tmp_path
     assert "SINKING (99991): SGP4 fails from 2027-01-04T" in messages[1]
     _same_passes(alone, [p for p in mixed if p.norad_id not in (99990, 99991)])
     # The decaying satellite's passes (if any) end before SGP4 gives up.
-    failed_at = datetime.strptime(messages[1].split("fails from ")[1][:20], "%Y-%m-%dT%H:%M:%SZ").replace(tzinfo=timezone.utc)
+    failed_at = datetime.strptime(messages[1].split("fails from ")[1][:20], "%Y-%m-%dT%H:%M:%SZ").replace(tzinfo=UTC)
     assert all(p.los_utc <= failed_at for p in mixed if p.norad_id == 99991)
 
 
@@ -292,8 +315,7 @@ def test_grid_filter_keeps_every_sample_near_the_mask(catalog):
     duration_s = 6 * 3600.0
     clock = _Clock.starting(START, duration_s)
     members = np.arange(len(element_sets))
-    job = _ChunkJob(members, tuple(_recipe(e.satrec) for e in element_sets), _Site.of(station),
-                           clock, duration_s, 45.0, 10.0)
+    job = _ChunkJob(members, tuple(_recipe(e.satrec) for e in element_sets), _Site.of(station), clock, duration_s, 45.0, 10.0)
     chunk = _Chunk(job)
     keys, values = chunk.grid_clearance()
     kept = dict(zip(keys.tolist(), values.tolist()))
@@ -318,7 +340,7 @@ def test_chunks_stay_under_the_memory_budget(catalog):
     # Requirement: peak memory bounded whatever the catalog size.  Every chunk's
     # SGP4 output (r, v float64 and the error byte per satellite and grid time) stays
     # under 150 MB, and every chunk shares one grid step.
-    satrecs = [e.satrec for e in catalog] * 20          # 6000 satellites
+    satrecs = [e.satrec for e in catalog] * 20  # 6000 satellites
     duration_s = 30 * 86400.0
     plan = _plan_chunks(satrecs, duration_s, workers=2)
     assert sum(len(members) for _, members in plan) == len(satrecs)

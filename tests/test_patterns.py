@@ -103,8 +103,18 @@ def test_dotted_builder_names_of_older_headers_are_read_as_aliases():
     assert R.builder_template("planner.synth.tables.crossed_loops_table") == "crossed-loops"
 
 
-@pytest.mark.parametrize("builder", ["numpy", "os.system", "planner.cli.main", "planner.antenna.load_pattern",
-                                     "planner.antenna.synth.tables.build_pattern_table", "", "x" * 5000])
+@pytest.mark.parametrize(
+    "builder",
+    [
+        "numpy",
+        "os.system",
+        "planner.cli.main",
+        "planner.antenna.load_pattern",
+        "planner.antenna.synth.tables.build_pattern_table",
+        "",
+        "x" * 5000,
+    ],
+)
 def test_a_header_naming_anything_else_is_refused_in_one_line(builder):
     # Only the project's template names (and their old dotted aliases) may be called from a file.
     with pytest.raises(UserError, match="is not one of planner's templates; allowed: image-turnstile") as caught:
@@ -220,8 +230,8 @@ def test_zenith_gain_matches_induced_emf_closed_form(spacing, shipped):
     # multiplied by |2 sin(k h)|. The crossed dipole does not couple to the other dipole or its
     # image (orthogonal). So D_zenith = D0 * 4 sin^2(k h) / (1 - R12(2h)/R11), D0 = 4/Cin(2 pi).
     # Independent of the numerical hemisphere integration used by the generator.
-    expected = DIPOLE_DIRECTIVITY * 4 * math.sin(2 * math.pi * spacing) ** 2 / (
-        1 - _mutual_resistance_side_by_side(2 * spacing) / CIN_2PI
+    expected = (
+        DIPOLE_DIRECTIVITY * 4 * math.sin(2 * math.pi * spacing) ** 2 / (1 - _mutual_resistance_side_by_side(2 * spacing) / CIN_2PI)
     )
     table = shipped[spacing]
     rhcp, lhcp = table.gains_dbic(np.arange(0, 360, 10), 90.0)
@@ -393,8 +403,15 @@ def test_axial_ratio_agrees_with_ellipticity_angle(gain_r, fraction):
 
 
 def _grid_table(elevations, azimuths, rhcp, lhcp):
-    return P.PatternTable(None, 436e6, {"frequency_mhz": "436"}, np.array(elevations, float),
-                          None if azimuths is None else np.array(azimuths, float), np.array(rhcp, float), np.array(lhcp, float))
+    return P.PatternTable(
+        None,
+        436e6,
+        {"frequency_mhz": "436"},
+        np.array(elevations, float),
+        None if azimuths is None else np.array(azimuths, float),
+        np.array(rhcp, float),
+        np.array(lhcp, float),
+    )
 
 
 def test_interpolation_exact_on_grid_linear_between_and_wraps():
@@ -504,7 +521,12 @@ BAD_CASES = [
     ("bad vswr", _with(3, "# feed_vswr = 0.5"), 3, "at least 1"),
     ("bad impedance", _with(4, "# feed_impedance_ohm = fifty"), 4, "complex"),
     ("bad efficiency", _with(4, "# radiation_efficiency = 1.5"), 4, "(0, 1]"),
-    ("unknown column", _with(5, "elevation_deg,azimuth_deg,gain_rhcp_dbic,gain_lhcp_dbic,phase_deg"), 5, "unknown column 'phase_deg'"),
+    (
+        "unknown column",
+        _with(5, "elevation_deg,azimuth_deg,gain_rhcp_dbic,gain_lhcp_dbic,phase_deg"),
+        5,
+        "unknown column 'phase_deg'",
+    ),
     ("missing column", _with(5, "elevation_deg,azimuth_deg,gain_rhcp_dbic"), 5, "missing column 'gain_lhcp_dbic'"),
     ("repeated column", _with(5, "elevation_deg,azimuth_deg,gain_rhcp_dbic,gain_rhcp_dbic"), 5, "twice"),
     ("data before column row", _with(5, None), 5, "unknown column '-90'"),
@@ -523,7 +545,12 @@ BAD_CASES = [
     ("no data rows", "\n".join(GOOD_LINES[:5]), 5, "no data rows"),
     ("no column row", "\n".join(GOOD_LINES[:4]), 4, "no column row"),
     ("header after column row", _with(8, "# frequency_mhz = 1"), 8, "after the column row"),
-    ("symmetric duplicate", "# frequency_mhz = 1\nelevation_deg,gain_rhcp_dbic,gain_lhcp_dbic\n-90,0,0\n90,0,0\n90,1,1\n", 5, "duplicate row for elevation 90 deg (first on line 4)"),
+    (
+        "symmetric duplicate",
+        "# frequency_mhz = 1\nelevation_deg,gain_rhcp_dbic,gain_lhcp_dbic\n-90,0,0\n90,0,0\n90,1,1\n",
+        5,
+        "duplicate row for elevation 90 deg (first on line 4)",
+    ),
 ]
 
 
@@ -576,7 +603,7 @@ def test_sphere_mean_gain_tolerance_edges():
     # Theory, ch. 2, gain and antenna efficiency). Refused beyond the tolerance of 1.15 = 0.607 dB (planner.antenna).
     # (the LHCP column at the -60 dBic floor adds 1e-6)
     assert P.sphere_mean_gain(P.parse_pattern(_uniform_table(0.0))) == pytest.approx(1.0 + 1e-6, rel=1e-9)
-    assert P.sphere_mean_gain(P.parse_pattern(_uniform_table(0.60))) == pytest.approx(10 ** 0.06 + 1e-6, rel=1e-9)
+    assert P.sphere_mean_gain(P.parse_pattern(_uniform_table(0.60))) == pytest.approx(10**0.06 + 1e-6, rel=1e-9)
     with pytest.raises(UserError, match=r"<pattern>:3: total gain averages 1.15 over the sphere.*allowed up to 1.15"):
         P.parse_pattern(_uniform_table(0.61))
 
@@ -633,7 +660,7 @@ def _mutated_tables(draw):
         k = draw(st.integers(0, len(lines) - 1))
         if kind == "char" and lines[k]:
             pos = draw(st.integers(0, len(lines[k]) - 1))
-            lines[k] = lines[k][:pos] + draw(st.sampled_from(_ALPHABET)) + lines[k][pos + 1:]
+            lines[k] = lines[k][:pos] + draw(st.sampled_from(_ALPHABET)) + lines[k][pos + 1 :]
         elif kind == "insert":
             pos = draw(st.integers(0, len(lines[k])))
             lines[k] = lines[k][:pos] + draw(st.text(_ALPHABET, max_size=6)) + lines[k][pos:]

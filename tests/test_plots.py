@@ -28,9 +28,9 @@ import pytest
 from matplotlib.colors import to_rgb
 from matplotlib.figure import Figure
 
-from planner.output import plots
-from planner.errors import UserError
 from planner.antenna import turnstile_over_reflector
+from planner.errors import UserError
+from planner.output import plots
 
 REPO = Path(__file__).resolve().parents[1]
 UNIT_RE = re.compile(r"[(\[]\s*(deg|dB|dBic|s|min/day)\s*[)\]]")
@@ -42,8 +42,9 @@ UNIT_RE = re.compile(r"[(\[]\s*(deg|dB|dBic|s|min/day)\s*[)\]]")
 EARTH_RADIUS_KM = 6371.0  # mean Earth radius (IUGG), enough for synthetic tracks
 
 
-def synthetic_pass(closest_angle_deg: float, heading_deg: float, *, altitude_km: float = 550.0,
-                   step_s: float = 10.0, t0_s: float = 0.0) -> pd.DataFrame:
+def synthetic_pass(
+    closest_angle_deg: float, heading_deg: float, *, altitude_km: float = 550.0, step_s: float = 10.0, t0_s: float = 0.0
+) -> pd.DataFrame:
     """az/el/range of a circular orbit passing over a station, from plain vector geometry.
 
     ENU-like frame at the Earth's centre (x east, y north, z up through the station).
@@ -64,8 +65,7 @@ def synthetic_pass(closest_angle_deg: float, heading_deg: float, *, altitude_km:
     el = np.degrees(np.arcsin(rel[:, 2] / rng))
     az = np.mod(np.degrees(np.arctan2(rel[:, 0], rel[:, 1])), 360.0)
     up = el >= 0.0
-    return pd.DataFrame({"time_s": t[up] - t[up][0] + t0_s, "azimuth_deg": az[up], "elevation_deg": el[up],
-                         "range_km": rng[up]})
+    return pd.DataFrame({"time_s": t[up] - t[up][0] + t0_s, "azimuth_deg": az[up], "elevation_deg": el[up], "range_km": rng[up]})
 
 
 def margins_for(track: pd.DataFrame, table, *, budget_db: float) -> np.ndarray:
@@ -97,8 +97,16 @@ def make_samples(tables) -> pd.DataFrame:
             dt = np.gradient(track["time_s"].to_numpy())
             for name, table in tables.items():
                 margin = margins_for(track, table, budget_db=9.0 - 2 * sat_i)
-                rows.append(track.assign(candidate=name, satellite=satellite, pass_number=number, dt_s=dt,
-                                         margin_db=margin, margin_at_fade_db=margin - 1.5))
+                rows.append(
+                    track.assign(
+                        candidate=name,
+                        satellite=satellite,
+                        pass_number=number,
+                        dt_s=dt,
+                        margin_db=margin,
+                        margin_at_fade_db=margin - 1.5,
+                    )
+                )
     return pd.concat(rows, ignore_index=True)
 
 
@@ -210,8 +218,14 @@ def test_sky_chart_orientation_and_ring_labels(samples):
 def test_sky_chart_places_a_sample_where_its_azimuth_and_elevation_say(samples):
     """A sample due east at 30 deg elevation must be drawn right of the centre, 60/90 of the way
     to the edge (north up, east right when looking up with azimuth clockwise on the page)."""
-    frame = pd.DataFrame({"azimuth_deg": [89.0, 90.0, 91.0], "elevation_deg": [30.0, 30.0, 30.0],
-                          "margin_db": [5.0, 5.0, 5.0], "time_s": [0.0, 10.0, 20.0]})
+    frame = pd.DataFrame(
+        {
+            "azimuth_deg": [89.0, 90.0, 91.0],
+            "elevation_deg": [30.0, 30.0, 30.0],
+            "margin_db": [5.0, 5.0, 5.0],
+            "time_s": [0.0, 10.0, 20.0],
+        }
+    )
     fig = plots.sky_chart(frame, title="east", min_margin_db=3.0)
     ax = next(a for a in fig.axes if a.name == "polar")
     fig.canvas.draw()
@@ -239,9 +253,15 @@ def test_sky_chart_colour_bar_marks_threshold(samples):
 def test_sky_chart_usable_segments_thick_and_north_crossing_short(samples):
     """Segments at or above the threshold are drawn thicker than those below; a track crossing
     north (359 -> 1 deg) is drawn the short way round, not across the whole sky."""
-    frame = pd.DataFrame({"azimuth_deg": [356.0, 358.0, 359.5, 1.0, 3.0], "elevation_deg": [20.0, 22, 24, 26, 28],
-                          "margin_db": [0.0, 1.0, 5.0, 6.0, 7.0], "time_s": [0.0, 10, 20, 30, 40],
-                          "pass_number": [1, 1, 1, 1, 1]})
+    frame = pd.DataFrame(
+        {
+            "azimuth_deg": [356.0, 358.0, 359.5, 1.0, 3.0],
+            "elevation_deg": [20.0, 22, 24, 26, 28],
+            "margin_db": [0.0, 1.0, 5.0, 6.0, 7.0],
+            "time_s": [0.0, 10, 20, 30, 40],
+            "pass_number": [1, 1, 1, 1, 1],
+        }
+    )
     fig = plots.sky_chart(frame, title="north", min_margin_db=3.0)
     ax = next(a for a in fig.axes if a.name == "polar")
     lc = next(c for c in ax.collections if len(c.get_segments()) == 4)
@@ -319,16 +339,18 @@ def test_margin_by_band(samples):
     assert any(np.isclose(l.get_ydata()[0], np.median(first["margin_db"])) for l in medians)
 
 
-@pytest.mark.parametrize("make", [
-    lambda: plots.sky_chart(pd.DataFrame(), title="empty", min_margin_db=3.0),
-    lambda: plots.sky_chart(pd.DataFrame(columns=["azimuth_deg", "elevation_deg", "margin_db"]), title="e",
-                            min_margin_db=3.0),
-    lambda: plots.elevation_cuts({}),
-    lambda: plots.pass_margins({}, title="empty", min_margin_db=3.0),
-    lambda: plots.pass_margins({"a": pd.DataFrame(columns=["time_s", "margin_db"])}, title="e", min_margin_db=3.0),
-    lambda: plots.usable_minutes_bars(pd.DataFrame()),
-    lambda: plots.margin_by_band(pd.DataFrame()),
-])
+@pytest.mark.parametrize(
+    "make",
+    [
+        lambda: plots.sky_chart(pd.DataFrame(), title="empty", min_margin_db=3.0),
+        lambda: plots.sky_chart(pd.DataFrame(columns=["azimuth_deg", "elevation_deg", "margin_db"]), title="e", min_margin_db=3.0),
+        lambda: plots.elevation_cuts({}),
+        lambda: plots.pass_margins({}, title="empty", min_margin_db=3.0),
+        lambda: plots.pass_margins({"a": pd.DataFrame(columns=["time_s", "margin_db"])}, title="e", min_margin_db=3.0),
+        lambda: plots.usable_minutes_bars(pd.DataFrame()),
+        lambda: plots.margin_by_band(pd.DataFrame()),
+    ],
+)
 def test_empty_input_gives_a_no_data_figure(make, tmp_path):
     fig = make()
     assert isinstance(fig, Figure)
@@ -410,15 +432,9 @@ def test_no_pyplot_state_is_touched(samples):
 # Machado, Oliveira & Fernandes 2009, severity 1.0, linear RGB (values from memory, confirmed
 # against published copies of the paper's table).
 MACHADO_2009 = {
-    "protanopia": np.array([[0.152286, 1.052583, -0.204868],
-                            [0.114503, 0.786281, 0.099216],
-                            [-0.003882, -0.048116, 1.051998]]),
-    "deuteranopia": np.array([[0.367322, 0.860646, -0.227968],
-                              [0.280085, 0.672501, 0.047413],
-                              [-0.011820, 0.042940, 0.968881]]),
-    "tritanopia": np.array([[1.255528, -0.076749, -0.178779],
-                            [-0.078411, 0.930809, 0.147602],
-                            [0.004733, 0.691367, 0.303900]]),
+    "protanopia": np.array([[0.152286, 1.052583, -0.204868], [0.114503, 0.786281, 0.099216], [-0.003882, -0.048116, 1.051998]]),
+    "deuteranopia": np.array([[0.367322, 0.860646, -0.227968], [0.280085, 0.672501, 0.047413], [-0.011820, 0.042940, 0.968881]]),
+    "tritanopia": np.array([[1.255528, -0.076749, -0.178779], [-0.078411, 0.930809, 0.147602], [0.004733, 0.691367, 0.303900]]),
 }
 SIMULATIONS = {"normal vision": np.eye(3), **MACHADO_2009}
 
@@ -430,9 +446,7 @@ def srgb_to_linear(c: np.ndarray) -> np.ndarray:
 
 
 # IEC 61966-2-1: linear sRGB -> CIE XYZ (D65)
-SRGB_TO_XYZ = np.array([[0.4124, 0.3576, 0.1805],
-                        [0.2126, 0.7152, 0.0722],
-                        [0.0193, 0.1192, 0.9505]])
+SRGB_TO_XYZ = np.array([[0.4124, 0.3576, 0.1805], [0.2126, 0.7152, 0.0722], [0.0193, 0.1192, 0.9505]])
 D65_WHITE = np.array([0.95047, 1.0, 1.08883])  # CIE 15, 2 deg observer
 
 

@@ -13,13 +13,13 @@ from datetime import timedelta
 import pytest
 from icalendar import Calendar
 
-from planner.output.export import calendar_ics
 from planner.decision.forecast import forecast
 from planner.decision.recommend import _band_minutes, recommend
+from planner.output.export import calendar_ics
 from planner.scenario import load_scenario
 from planner.study import Study
-from tests.conftest import DEMO, ROOT, run_planner as run
-
+from tests.conftest import DEMO, ROOT
+from tests.conftest import run_planner as run
 
 
 def short_scenario(tmp_path, days=1.5, extra_candidates="", replace=()):
@@ -31,8 +31,6 @@ def short_scenario(tmp_path, days=1.5, extra_candidates="", replace=()):
     path = tmp_path / "short.toml"
     path.write_text(text + extra_candidates)
     return path
-
-
 
 
 @pytest.fixture(scope="module")
@@ -61,8 +59,12 @@ def test_a_dominant_candidate_is_recommended(tmp_path):
     path = short_scenario(
         tmp_path,
         extra_candidates=DOMINATED.format(root=ROOT),
-        replace=[('feedline = [{ cable = "RG-213", length_m = 20.0 }]\nconnectors = 4\n\n[[candidate]]\n# The same turnstile',
-                  'feedline = [{ cable = "RG-213", length_m = 2.0 }]\nconnectors = 2\n\n[[candidate]]\n# The same turnstile')],
+        replace=[
+            (
+                'feedline = [{ cable = "RG-213", length_m = 20.0 }]\nconnectors = 4\n\n[[candidate]]\n# The same turnstile',
+                'feedline = [{ cable = "RG-213", length_m = 2.0 }]\nconnectors = 2\n\n[[candidate]]\n# The same turnstile',
+            )
+        ],
     )
     study = Study.from_scenario(load_scenario(path))
     result = forecast(study, ["turnstile-close", "close-on-thin-cable"])
@@ -159,7 +161,7 @@ def test_report_folder_holds_tables_figures_and_summary(demo_short, tmp_path):
 
 def test_compare_needs_candidates(tmp_path):
     text = DEMO.read_text().replace('"../', f'"{ROOT}/')
-    text = text[: text.index("[[candidate]]")] + text[text.index("[criteria]"):]
+    text = text[: text.index("[[candidate]]")] + text[text.index("[criteria]") :]
     path = tmp_path / "nocand.toml"
     path.write_text(text)
     result = run("compare", path, "--quiet")

@@ -20,12 +20,11 @@ from __future__ import annotations
 
 import math
 import os
+import shutil
 import subprocess
 import sys
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
-
-import shutil
 
 import pytest
 from hypothesis import HealthCheck, given, settings
@@ -61,8 +60,8 @@ DEMO_SATELLITES = {
 
 def _tle_lines(norad_id: int, index: int) -> tuple[str, str]:
     """An invented sun-synchronous-like LEO orbit, written by sgp4's own exporter."""
-    epoch = datetime(2027, 1, 3, 12, tzinfo=timezone.utc)
-    epoch_days = (epoch - datetime(1949, 12, 31, tzinfo=timezone.utc)).total_seconds() / 86400.0
+    epoch = datetime(2027, 1, 3, 12, tzinfo=UTC)
+    epoch_days = (epoch - datetime(1949, 12, 31, tzinfo=UTC)).total_seconds() / 86400.0
     sat = Satrec()
     sat.sgp4init(
         WGS72,
@@ -138,7 +137,7 @@ def _check_demo(scenario: Scenario, elements: Path, scenario_path: Path) -> None
     assert station.noise_environment == "rural"
 
     window = scenario.window
-    assert window.start_utc == datetime(2027, 1, 4, tzinfo=timezone.utc)
+    assert window.start_utc == datetime(2027, 1, 4, tzinfo=UTC)
     assert window.start_utc.utcoffset() == timedelta(0)
     assert window.end_utc - window.start_utc == timedelta(days=7)
     assert window.step_s == 10.0
@@ -195,10 +194,10 @@ def test_ints_accepted_where_floats_are_expected(tree: Path) -> None:
 def test_offset_and_quoted_start_times_are_converted_to_utc(tree: Path) -> None:
     # TOML v1.0.0 offset date-time (RFC 3339): 01:00+01:00 is 00:00Z.
     path = _variant(tree, "start_utc = 2027-01-04T00:00:00Z", "start_utc = 2027-01-04T01:00:00+01:00")
-    assert load_scenario(path).window.start_utc == datetime(2027, 1, 4, tzinfo=timezone.utc)
+    assert load_scenario(path).window.start_utc == datetime(2027, 1, 4, tzinfo=UTC)
     path = _variant(tree, "start_utc = 2027-01-04T00:00:00Z", 'start_utc = "2027-01-03T19:00:00-05:00"')
     start = load_scenario(path).window.start_utc
-    assert start == datetime(2027, 1, 4, tzinfo=timezone.utc) and start.tzinfo == timezone.utc
+    assert start == datetime(2027, 1, 4, tzinfo=UTC) and start.tzinfo == UTC
 
 
 def test_horizon_mask_flat_or_sorted(tree: Path) -> None:
@@ -215,7 +214,7 @@ def test_horizon_mask_flat_or_sorted(tree: Path) -> None:
 def test_defaults_and_end_of_window() -> None:
     window = WindowConfig(start_utc="2027-01-04T00:00:00Z")
     assert (window.days, window.step_s) == (7.0, 10.0)
-    assert window.end_utc == datetime(2027, 1, 11, tzinfo=timezone.utc)
+    assert window.end_utc == datetime(2027, 1, 11, tzinfo=UTC)
     assert StationConfig(name="X", latitude_deg=0, longitude_deg=0).horizon_mask == 0.0
 
 
@@ -405,19 +404,19 @@ BAD_CASES = [
     ),
     pytest.param(
         'name = "Cobbleford Fell Radio Society"\n',
-        '',
+        "",
         ["station.name: missing required key"],
         id="missing required key",
     ),
     pytest.param(
         DEMO_TEXT[DEMO_TEXT.index("[window]") : DEMO_TEXT.index("# ----")],
-        '',
+        "",
         ["window: missing required table", "start_utc"],
         id="missing required table",
     ),
     pytest.param(
-        'downlink_mhz = 437.275\n',
-        '',
+        "downlink_mhz = 437.275\n",
+        "",
         ["satellite #3 (OSTRAVEL-2).downlink_mhz: missing required key", "1 to 50000"],
         id="missing satellite key",
     ),
@@ -473,7 +472,7 @@ BAD_CASES = [
     pytest.param(
         'name = "TARNBECK"',
         'name = "TARN\\nBECK"',
-        ['satellite #2 (TARN\\nBECK).name', "holds the control character \\n at character 5"],
+        ["satellite #2 (TARN\\nBECK).name", "holds the control character \\n at character 5"],
         id="name with a newline",
     ),
     # Losses between the antenna and the LNA (candidate keys, defaults in [receiver]).
@@ -613,9 +612,47 @@ def test_scenario_built_in_code_has_no_source_path(tree: Path) -> None:
 # ------------------------------------------------------------------ property test
 
 TOKENS = [
-    "=", '"', "'", "[", "]", "[[", "]]", "{", "}", ",", ".", "-", "+", "#", "\n", " ", "\t", "0", "1", "9",
-    "1e999", "-1e999", "nan", "inf", "true", "false", "T", "Z", ":", "_", "\\", "\u00e9", "\x00", "\u2028",
-    "satellite", "station", "window", "latitude_deg", "name", "2027-01-04", "00:00:00",
+    "=",
+    '"',
+    "'",
+    "[",
+    "]",
+    "[[",
+    "]]",
+    "{",
+    "}",
+    ",",
+    ".",
+    "-",
+    "+",
+    "#",
+    "\n",
+    " ",
+    "\t",
+    "0",
+    "1",
+    "9",
+    "1e999",
+    "-1e999",
+    "nan",
+    "inf",
+    "true",
+    "false",
+    "T",
+    "Z",
+    ":",
+    "_",
+    "\\",
+    "\u00e9",
+    "\x00",
+    "\u2028",
+    "satellite",
+    "station",
+    "window",
+    "latitude_deg",
+    "name",
+    "2027-01-04",
+    "00:00:00",
 ]
 
 _datetimes = st.datetimes(min_value=datetime(1, 1, 2), max_value=datetime(9999, 12, 30))
@@ -692,7 +729,9 @@ def test_pre_lna_cable_is_checked_like_the_feedline(tree: Path) -> None:
     # when the study is made (every candidate is resolved before any computation).
     from planner.study import Study
 
-    path = _variant(tree, 'name = "turnstile-close"\n', 'name = "turnstile-close"\npre_lna_feedline = [{ cable = "RG-999", length_m = 1 }]\n')
+    path = _variant(
+        tree, 'name = "turnstile-close"\n', 'name = "turnstile-close"\npre_lna_feedline = [{ cable = "RG-999", length_m = 1 }]\n'
+    )
     scenario = load_scenario(path)
     with pytest.raises(UserError) as info:
         Study.from_scenario(scenario)
@@ -704,13 +743,19 @@ def test_pre_lna_cable_is_checked_like_the_feedline(tree: Path) -> None:
 
 # ------------------------------------------------------------------ ranges of every value
 
+
 # Python's int() refuses more than 4300 digits (Python docs, "Integer string conversion length
 # limitation"), and tomllib reads TOML integers with int(): 5000 digits must still give one line
 # naming the line and key, without repeating the number.
 @pytest.mark.parametrize(
     ("old", "key"),
-    [("days = 7", "days"), ("latitude_deg = 52.137", "latitude_deg"), ("norad_id = 99903", "norad_id"),
-     ("connectors = 3", "connectors"), ("[40, 8]", "horizon_mask")],
+    [
+        ("days = 7", "days"),
+        ("latitude_deg = 52.137", "latitude_deg"),
+        ("norad_id = 99903", "norad_id"),
+        ("connectors = 3", "connectors"),
+        ("[40, 8]", "horizon_mask"),
+    ],
 )
 def test_integers_of_thousands_of_digits_name_line_and_key(tree: Path, old: str, key: str) -> None:
     huge = "9" * 5000
@@ -739,8 +784,12 @@ def test_integers_just_under_the_conversion_limit_are_out_of_range_in_short(tree
         ("9999-12-31T23:59:59Z", "7", "window.start_utc: 9999-12-31T23:59:59+00:00 is out of range", "1957 to 2100"),
         ("9999-12-31T23:59:59-23:59", "7", "window.start_utc: 9999-12-31T23:59:59-23:59 is out of range", "1957 to 2100"),
         ("1956-12-31T23:59:59Z", "7", "window.start_utc: 1956-12-31T23:59:59+00:00 is out of range", "1957 to 2100"),
-        ("2100-12-31T00:00:00Z", "7", "window.days: the window from 2100-12-31T00:00:00+00:00 for 7 days ends in 2101",
-         "a window that ends by the end of 2100"),
+        (
+            "2100-12-31T00:00:00Z",
+            "7",
+            "window.days: the window from 2100-12-31T00:00:00+00:00 for 7 days ends in 2101",
+            "a window that ends by the end of 2100",
+        ),
         # timedelta holds at most 999999999 days (Python docs, datetime.timedelta), so these would
         # overflow start + days; the 31-day limit refuses them first.
         ("2027-01-04T00:00:00Z", "1e300", "window.days: 1e+300 is out of range", "more than 0, up to 31"),
@@ -763,7 +812,7 @@ def test_window_edges_inside_the_years_are_accepted(tree: Path, start: str, days
     path.write_text(text, encoding="utf-8")
     window = load_scenario(path).window
     assert window.start_utc == datetime.fromisoformat(start.replace("Z", "+00:00"))
-    assert window.end_utc <= datetime(2101, 1, 1, tzinfo=timezone.utc)
+    assert window.end_utc <= datetime(2101, 1, 1, tzinfo=UTC)
 
 
 def test_nine_digit_catalog_number_is_accepted(tree: Path) -> None:
@@ -774,16 +823,19 @@ def test_nine_digit_catalog_number_is_accepted(tree: Path) -> None:
 # ESC, BEL, DEL, a C1 CSI and a text-direction override, written as TOML \u escapes (TOML v1.0.0,
 # basic strings): control characters of ECMA-48 / ISO 6429 (C0, C1, DEL) and a Unicode format
 # character, none printable for Python's str.isprintable (Python docs).
-_CONTROLS = [("\\u001b", "\\x1b"), ("\\u0007", "\\x07"), ("\\u007f", "\\x7f"), ("\\u009b", "\\x9b"),
-             ("\\u202e", "\\u202e")]
+_CONTROLS = [("\\u001b", "\\x1b"), ("\\u0007", "\\x07"), ("\\u007f", "\\x7f"), ("\\u009b", "\\x9b"), ("\\u202e", "\\u202e")]
 _CABLE = '\n[[cable]]\nname = "{name}"\nloss_db_per_100m = [[100, 5.0]]\n'
 
 
 @pytest.mark.parametrize(("toml_escape", "shown"), _CONTROLS)
 @pytest.mark.parametrize(
     ("old", "where"),
-    [('name = "Cobbleford Fell Radio Society"', "station.name"), ('name = "TARNBECK"', "satellite #2"),
-     ('name = "turnstile-far"', "candidate #2"), (None, "cable #1")],
+    [
+        ('name = "Cobbleford Fell Radio Society"', "station.name"),
+        ('name = "TARNBECK"', "satellite #2"),
+        ('name = "turnstile-far"', "candidate #2"),
+        (None, "cable #1"),
+    ],
 )
 def test_names_with_control_characters_are_refused(tree: Path, old, where: str, toml_escape: str, shown: str) -> None:
     name = f"BAD{toml_escape}[2JNAME"
@@ -808,6 +860,7 @@ def test_loading_a_scenario_needs_neither_numpy_nor_the_element_or_antenna_reade
         "print(sorted(m for m in sys.modules if m.split('.')[0] in ('numpy', 'scipy', 'sgp4') "
         "or m.startswith(('planner.elements', 'planner.antenna', 'planner.link'))))"
     )
-    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True,
-                          env={**os.environ, "PYTHONPATH": str(REPO)})
+    done = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True, env={**os.environ, "PYTHONPATH": str(REPO)}
+    )
     assert done.stdout.strip() == "[]", done.stdout

@@ -13,15 +13,14 @@ import numpy as np
 import pytest
 from scipy.constants import c
 
-from planner.errors import UserError
-from planner.decision.forecast import forecast
 from planner.antenna import load_pattern, turnstile_over_reflector, write_pattern
+from planner.decision.forecast import forecast
 from planner.decision.recommend import score_candidates
+from planner.decision.sweep import parse_spacing_range, rebuild_at_spacing, sweep_reflector
+from planner.errors import UserError
 from planner.scenario import load_scenario
 from planner.study import Study
-from planner.decision.sweep import parse_spacing_range, rebuild_at_spacing, sweep_reflector
 from tests.conftest import DEMO, ROOT
-
 
 
 def short_demo(tmp_path, days=1.0):
@@ -81,9 +80,25 @@ def test_sweep_needs_a_rebuildable_pattern(tmp_path):
 
 def test_sweep_command_names_the_best_spacing(tmp_path):
     result = subprocess.run(
-        [sys.executable, "-m", "planner", "sweep", str(short_demo(tmp_path)), "--candidate", "turnstile-close",
-         "--reflector-spacing", "0.2:0.8:0.3", "--figure", str(tmp_path / "sweep"), "--format", "json", "--quiet"],
-        capture_output=True, text=True, cwd=ROOT,
+        [
+            sys.executable,
+            "-m",
+            "planner",
+            "sweep",
+            str(short_demo(tmp_path)),
+            "--candidate",
+            "turnstile-close",
+            "--reflector-spacing",
+            "0.2:0.8:0.3",
+            "--figure",
+            str(tmp_path / "sweep"),
+            "--format",
+            "json",
+            "--quiet",
+        ],
+        capture_output=True,
+        text=True,
+        cwd=ROOT,
     )
     assert result.returncode == 0, result.stderr
     document = json.loads(result.stdout)

@@ -19,7 +19,6 @@ import numpy as np
 import pytest
 from scipy.constants import c as C_M_S  # reference value of the speed of light (exact, SI)
 
-from planner.errors import UserError
 from planner.antenna.synth import templates
 from planner.antenna.synth.feed import ideal_quadrature, phasing_line
 from planner.antenna.synth.templates import (
@@ -30,6 +29,7 @@ from planner.antenna.synth.templates import (
     superellipse_polygon,
     turnstile,
 )
+from planner.errors import UserError
 
 F_HZ = 436e6
 LAMBDA_M = C_M_S / F_HZ
@@ -399,8 +399,19 @@ def test_crossed_loops_over_pec_table_has_the_header_and_loads_back(tmp_path):
 
     values = {"reflector": "pec", "spacing_wavelengths": 0.3, "elevation_step_deg": 2, "azimuth_step_deg": 30}
     table = build_template_table("crossed-loops", values, command="planner pattern build crossed-loops --reflector pec")
-    for key in ("frequency_mhz", "model", "generated_by", "parameters", "geometry", "solver",
-                "feed_impedance_ohm", "feed_vswr", "radiation_efficiency", "builder", "gain_reference"):
+    for key in (
+        "frequency_mhz",
+        "model",
+        "generated_by",
+        "parameters",
+        "geometry",
+        "solver",
+        "feed_impedance_ohm",
+        "feed_vswr",
+        "radiation_efficiency",
+        "builder",
+        "gain_reference",
+    ):
         assert key in table.header, key
     assert table.header["generated_by"] == "planner pattern build crossed-loops --reflector pec"
     assert "thin-wire method of moments" in table.header["model"]
@@ -426,9 +437,17 @@ def test_crossed_loops_over_pec_table_has_the_header_and_loads_back(tmp_path):
     model = crossed_loops(F_HZ, reflector="pec", spacing_wavelengths=0.3)
     solution = mom.solve(model)
     feed = feed_model(solution, {"feed": "quadrature", "sense": "rhcp"}, F_HZ)
-    direct = build_pattern_table(model, solution, feed, frequency_hz=F_HZ, template="crossed-loops",
-                                 parameters={"reflector": "pec"}, command="test",
-                                 elevation_step_deg=2, azimuth_step_deg=30)
+    direct = build_pattern_table(
+        model,
+        solution,
+        feed,
+        frequency_hz=F_HZ,
+        template="crossed-loops",
+        parameters={"reflector": "pec"},
+        command="test",
+        elevation_step_deg=2,
+        azimuth_step_deg=30,
+    )
     assert np.allclose(direct.gain_rhcp_dbic, table.gain_rhcp_dbic, atol=1e-9)
 
 
@@ -438,8 +457,9 @@ def test_table_rebuilds_from_its_own_header():
     from planner.antenna.registry import rebuild_pattern
     from planner.antenna.synth.tables import build_template_table
 
-    table = build_template_table("turnstile", {"reflector": "rods", "feed": "line", "velocity_factor": 0.8,
-                                               "elevation_step_deg": 5, "azimuth_step_deg": 45})
+    table = build_template_table(
+        "turnstile", {"reflector": "rods", "feed": "line", "velocity_factor": 0.8, "elevation_step_deg": 5, "azimuth_step_deg": 45}
+    )
     assert table.header["builder"] == "turnstile"
     params = dict(item.strip().split("=") for item in table.header["parameters"].split(";"))
     again = rebuild_pattern(table.header["builder"], params)
@@ -452,8 +472,9 @@ def test_table_rebuilds_from_its_own_header():
 def test_wire_reflector_leaks_below_the_horizon():
     from planner.antenna.synth.tables import build_template_table
 
-    table = build_template_table("turnstile", {"reflector": "rods", "reflector_size_wavelengths": 0.6,
-                                               "elevation_step_deg": 10, "azimuth_step_deg": 90})
+    table = build_template_table(
+        "turnstile", {"reflector": "rods", "reflector_size_wavelengths": 0.6, "elevation_step_deg": 10, "azimuth_step_deg": 90}
+    )
     below = table.elevation_deg < 0
     total = 10 * np.log10(10 ** (table.gain_rhcp_dbic / 10) + 10 ** (table.gain_lhcp_dbic / 10))
     assert np.all(total[below] > -40.0)  # a finite screen lets field through (not the floor)

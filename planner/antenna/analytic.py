@@ -22,8 +22,8 @@ solver, planner.antenna.synth.
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Sequence
 
 import numpy as np
 
@@ -56,7 +56,7 @@ class HalfWaveDipole:
     current: complex = 1.0
     center_wavelengths: tuple[float, float, float] = (0.0, 0.0, 0.0)
 
-    def image(self) -> "HalfWaveDipole":
+    def image(self) -> HalfWaveDipole:
         """Image in the plane z = 0 of a perfect conductor: horizontal current reversed, vertical
         kept, position mirrored (Balanis, Antenna Theory, sec. 4.7)."""
         ax, ay, az = self.axis_enu
@@ -129,7 +129,9 @@ def circular_components(field_enu: np.ndarray, azimuth_deg, elevation_deg) -> tu
     return (e_theta + 1j * e_phi) / math.sqrt(2.0), (e_theta - 1j * e_phi) / math.sqrt(2.0)
 
 
-def radiated_power(dipoles: Sequence[HalfWaveDipole], *, pec_ground: bool = False, n_mu: int | None = None, n_azimuth: int = 144) -> float:
+def radiated_power(
+    dipoles: Sequence[HalfWaveDipole], *, pec_ground: bool = False, n_mu: int | None = None, n_azimuth: int = 144
+) -> float:
     """Integral of |E|^2 over the sphere (upper hemisphere over ground), in the units of ``far_field``.
 
     dOmega = d(sin E) d(azimuth): Gauss-Legendre in sin E, periodic trapezoid in azimuth (both
@@ -151,10 +153,14 @@ def radiated_power(dipoles: Sequence[HalfWaveDipole], *, pec_ground: bool = Fals
     return float(np.sum(w_mu[:, None] * intensity) * (2.0 * np.pi / n_azimuth))
 
 
-def partial_directivities(dipoles: Sequence[HalfWaveDipole], azimuth_deg, elevation_deg, *, pec_ground: bool = False) -> tuple[np.ndarray, np.ndarray]:
+def partial_directivities(
+    dipoles: Sequence[HalfWaveDipole], azimuth_deg, elevation_deg, *, pec_ground: bool = False
+) -> tuple[np.ndarray, np.ndarray]:
     """Linear RHCP and LHCP partial directivities 4 pi |E_R|^2 / P, 4 pi |E_L|^2 / P."""
     power = radiated_power(dipoles, pec_ground=pec_ground)
-    e_r, e_l = circular_components(far_field(dipoles, azimuth_deg, elevation_deg, pec_ground=pec_ground), azimuth_deg, elevation_deg)
+    e_r, e_l = circular_components(
+        far_field(dipoles, azimuth_deg, elevation_deg, pec_ground=pec_ground), azimuth_deg, elevation_deg
+    )
     return 4.0 * np.pi * np.abs(e_r) ** 2 / power, 4.0 * np.pi * np.abs(e_l) ** 2 / power
 
 
@@ -177,8 +183,10 @@ def angle_count(step_deg: float, span_deg: float, name: str, closed: bool) -> in
     step = positive_number(name, step_deg, "a positive number of degrees")
     ratio = span_deg / step
     if not math.isfinite(ratio):
-        raise UserError(f"{name}={step:g} asks for more grid angles than can be counted; "
-                        f"use a step that divides {span_deg:g} deg, such as 1, 2, 5 or 10")
+        raise UserError(
+            f"{name}={step:g} asks for more grid angles than can be counted; "
+            f"use a step that divides {span_deg:g} deg, such as 1, 2, 5 or 10"
+        )
     count = round(ratio)
     if count < 1 or abs(count * step - span_deg) > 1e-9 * span_deg:
         raise UserError(f"{name}: {step:g} deg does not divide {span_deg:g} deg evenly; pick a divisor such as 1, 2, 5 or 10")
@@ -205,16 +213,27 @@ def check_pattern_grid(elevation_step_deg: float, n_elevation: int, azimuth_step
         asked = f"elevation_step_deg={elevation_step_deg:g} asks for {n_elevation:,} elevations"
         hint = f"use elevation_step_deg of at least {finest_step_deg(180.0, True, 1):g} deg"
     else:
-        asked = (f"elevation_step_deg={elevation_step_deg:g} and azimuth_step_deg={azimuth_step_deg:g} ask for a "
-                 f"{n_elevation:,} x {n_azimuth:,} grid")
+        asked = (
+            f"elevation_step_deg={elevation_step_deg:g} and azimuth_step_deg={azimuth_step_deg:g} ask for a "
+            f"{n_elevation:,} x {n_azimuth:,} grid"
+        )
         if n_elevation >= n_azimuth / 2:  # the elevation step is the finer one: say what it should be
-            hint = (f"at azimuth_step_deg={azimuth_step_deg:g} use elevation_step_deg of at least "
-                    f"{finest_step_deg(180.0, True, n_azimuth):g} deg")
+            hint = (
+                f"at azimuth_step_deg={azimuth_step_deg:g} use elevation_step_deg of at least "
+                f"{finest_step_deg(180.0, True, n_azimuth):g} deg"
+            )
         else:
-            hint = (f"at elevation_step_deg={elevation_step_deg:g} use azimuth_step_deg of at least "
-                    f"{finest_step_deg(360.0, False, n_elevation):g} deg")
-    check_allocation(f"{asked}, a table of {n_elevation * n_azimuth:,} points", n_elevation * n_azimuth,
-                     PATTERN_BYTES_PER_POINT, MEMORY_LIMIT_BYTES, hint)
+            hint = (
+                f"at elevation_step_deg={elevation_step_deg:g} use azimuth_step_deg of at least "
+                f"{finest_step_deg(360.0, False, n_elevation):g} deg"
+            )
+    check_allocation(
+        f"{asked}, a table of {n_elevation * n_azimuth:,} points",
+        n_elevation * n_azimuth,
+        PATTERN_BYTES_PER_POINT,
+        MEMORY_LIMIT_BYTES,
+        hint,
+    )
 
 
 def pattern_grid(elevation_step_deg: float, azimuth_step_deg: float | None) -> tuple[np.ndarray, np.ndarray | None]:
@@ -252,8 +271,10 @@ def turnstile_over_reflector(
         raise UserError(f"spacing_wavelengths: must be a number in (0, 20] wavelengths, got {spacing_wavelengths!r}")
     frequency_hz = check_frequency(frequency_hz)
     if spacing_wavelengths > 5:
-        warn(f"spacing_wavelengths {spacing_wavelengths:g}: the lobes narrow to a few degrees near the horizon; "
-             "a 1 deg elevation grid no longer resolves them")
+        warn(
+            f"spacing_wavelengths {spacing_wavelengths:g}: the lobes narrow to a few degrees near the horizon; "
+            "a 1 deg elevation grid no longer resolves them"
+        )
     elevation, azimuth = pattern_grid(elevation_step_deg, azimuth_step_deg)
     d_r, d_l = partial_directivities(crossed_dipoles(spacing_wavelengths), azimuth[None, :], elevation[:, None], pec_ground=True)
     spacing_m = spacing_wavelengths * SPEED_OF_LIGHT_M_S / frequency_hz

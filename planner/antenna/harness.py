@@ -46,7 +46,9 @@ from typing import Any
 
 import numpy as np
 
-from planner.errors import UserError, positive_number as _positive
+from planner.antenna.table import axial_ratio_db_from_circular
+from planner.errors import UserError
+from planner.errors import positive_number as _positive
 from planner.link.feedline import (
     SPEED_OF_LIGHT_M_S,
     line_input_impedance,
@@ -56,7 +58,6 @@ from planner.link.feedline import (
     vswr_from_impedance,
     wavelength_in_line_m,
 )
-from planner.antenna.table import axial_ratio_db_from_circular
 from planner.link.polarization import MAX_LOSS_DB, MIN_EFFICIENCY
 
 __all__ = [

@@ -9,8 +9,9 @@ templates; the solver never imports it, and neither does the package front door.
 from __future__ import annotations
 
 import inspect
+from collections.abc import Callable
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 from planner.antenna.analytic import DEMO_FREQUENCY_HZ, isotropic_rhcp, turnstile_over_reflector
 from planner.antenna.synth.tables import build_template_table

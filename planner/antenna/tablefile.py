@@ -139,8 +139,7 @@ def _header_values(header: dict[str, str], header_lines: dict[str, int], source:
     """Check the known header keys; return the typed values."""
     if "frequency_mhz" not in header:
         raise UserError(
-            f"{source}:{fallback_line}: missing header line '# frequency_mhz = <MHz>' "
-            "(required, before the column row)"
+            f"{source}:{fallback_line}: missing header line '# frequency_mhz = <MHz>' (required, before the column row)"
         )
     values: dict[str, Any] = {}
     where = f"{source}:{header_lines['frequency_mhz']}"
@@ -199,8 +198,13 @@ def _check_row_count(text: str, source: str) -> None:
     splitting it (a count of newlines costs no memory)."""
     lines = text.count("\n") + 1
     most = pattern_points_limit()
-    check_allocation(f"{source}: the table has {lines:,} lines, each a grid point to read", lines, PATTERN_BYTES_PER_POINT,
-                     MEMORY_LIMIT_BYTES, f"a table holds at most {most:,} rows (e.g. 0.5 deg x 0.5 deg: 259,920 rows)")
+    check_allocation(
+        f"{source}: the table has {lines:,} lines, each a grid point to read",
+        lines,
+        PATTERN_BYTES_PER_POINT,
+        MEMORY_LIMIT_BYTES,
+        f"a table holds at most {most:,} rows (e.g. 0.5 deg x 0.5 deg: 259,920 rows)",
+    )
 
 
 def parse_pattern(text: str, *, source: str = "<pattern>", path: Path | None = None) -> PatternTable:
@@ -230,7 +234,9 @@ def parse_pattern(text: str, *, source: str = "<pattern>", path: Path | None = N
                         "header lines come before the column row"
                     )
                 if key in header:
-                    raise UserError(f"{source}:{lineno}: header key {key!r} repeated (first on line {header_lines[key]}); give it once")
+                    raise UserError(
+                        f"{source}:{lineno}: header key {key!r} repeated (first on line {header_lines[key]}); give it once"
+                    )
                 header[key] = value.strip()
                 header_lines[key] = lineno
             continue  # a free comment
@@ -257,12 +263,16 @@ def parse_pattern(text: str, *, source: str = "<pattern>", path: Path | None = N
             )
         for name in ("gain_rhcp_dbic", "gain_lhcp_dbic"):
             if record[name] > GAIN_CEILING_DBIC:
-                raise UserError(f"{where}: {name} {_clip_text(fields[columns.index(name)])} above {GAIN_CEILING_DBIC:g} dBic; "
-                                f"allowed up to {GAIN_CEILING_DBIC:g} dBic (gains are in dBic)")
+                raise UserError(
+                    f"{where}: {name} {_clip_text(fields[columns.index(name)])} above {GAIN_CEILING_DBIC:g} dBic; "
+                    f"allowed up to {GAIN_CEILING_DBIC:g} dBic (gains are in dBic)"
+                )
         total_dbic = float(linear_to_db(db_to_linear(record["gain_rhcp_dbic"]) + db_to_linear(record["gain_lhcp_dbic"])))
         if round(total_dbic, 3) > GAIN_CEILING_DBIC:  # to the 0.001 dB gains are written with
-            raise UserError(f"{where}: total gain gain_rhcp_dbic + gain_lhcp_dbic is {total_dbic:.2f} dBic; "
-                            f"allowed up to {GAIN_CEILING_DBIC:g} dBic")
+            raise UserError(
+                f"{where}: total gain gain_rhcp_dbic + gain_lhcp_dbic is {total_dbic:.2f} dBic; "
+                f"allowed up to {GAIN_CEILING_DBIC:g} dBic"
+            )
         key = (el + 0.0, az + 0.0)
         if key in seen_rows:
             at = f"elevation {_fmt_deg(el)} deg" + (f", azimuth {_fmt_deg(az)} deg" if "azimuth_deg" in record else "")

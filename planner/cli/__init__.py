@@ -14,9 +14,11 @@ import warnings
 # Importing a command module registers its commands, in the order `planner --help` lists them.
 # isort: off
 from planner.cli import passes, budget, forecast, sweep, pattern, harness  # noqa: F401
+
 # isort: on
 from planner.cli.app import app
 from planner.errors import PlannerWarning, UserError
+
 
 def _warning_printer():
     """A ``warnings.showwarning`` that prints each distinct warning once, as one line on stderr
@@ -24,7 +26,11 @@ def _warning_printer():
     said: set[str] = set()
 
     def show(message, category, filename, lineno, file=None, line=None):
-        text = f"planner: warning: {message}" if issubclass(category, PlannerWarning) else f"planner: warning: {category.__name__}: {message}"
+        text = (
+            f"planner: warning: {message}"
+            if issubclass(category, PlannerWarning)
+            else f"planner: warning: {category.__name__}: {message}"
+        )
         if text not in said:
             said.add(text)
             print(text, file=sys.stderr)
@@ -60,7 +66,6 @@ def main() -> None:
             sys.exit(130)
         raise
     sys.exit(result if isinstance(result, int) else 0)
-
 
 
 if __name__ == "__main__":

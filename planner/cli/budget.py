@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import sys
 from pathlib import Path
-from typing import Optional
 
 import typer
 from rich.table import Table
@@ -29,8 +28,14 @@ def _print_exposure(study, out) -> None:
         print(f"RF exposure near the station antenna, {sat.uplink_mhz:g} MHz uplink to {sat.name}, EIRP {eirp_w:.1f} W:", file=out)
         for row in rows:
             flag = "within" if row.within_limit else "ABOVE"
-            print(f"  {row.distance_m:5.1f} m: {row.power_density_mw_cm2:8.4f} mW/cm^2 ({flag} the general-public limit {row.limit_mw_cm2:.3f})", file=out)
-        print(f"  keep the public at least {min_distance_m(eirp_w, setup.frequency_hz):.1f} m from the antenna (far-field estimate)", file=out)
+            print(
+                f"  {row.distance_m:5.1f} m: {row.power_density_mw_cm2:8.4f} mW/cm^2 ({flag} the general-public limit {row.limit_mw_cm2:.3f})",
+                file=out,
+            )
+        print(
+            f"  keep the public at least {min_distance_m(eirp_w, setup.frequency_hz):.1f} m from the antenna (far-field estimate)",
+            file=out,
+        )
     print(CAUTION, file=out)
 
 
@@ -38,16 +43,18 @@ def _print_exposure(study, out) -> None:
 def budget(
     scenario: Path = typer.Argument(..., help="Scenario TOML file."),
     satellite: str = typer.Option(..., "--satellite", help="Satellite name (or catalog number) from the scenario."),
-    candidate: Optional[str] = typer.Option(None, "--candidate", help="Candidate set-up (required for the downlink)."),
-    pass_number: Optional[int] = typer.Option(None, "--pass", help="Budget at the TCA of the N-th pass (1 = first) in the window."),
-    at: Optional[str] = typer.Option(None, "--at", help="Budget at this time, ISO 8601 UTC."),
-    elevation_deg: Optional[float] = typer.Option(None, "--elevation-deg", help="Budget at this elevation (deg)."),
-    range_km: Optional[float] = typer.Option(None, "--range-km", help="Slant range with --elevation-deg (default: from the orbit height)."),
-    azimuth_deg: Optional[float] = typer.Option(None, "--azimuth-deg", help="Azimuth with --elevation-deg (default 0)."),
+    candidate: str | None = typer.Option(None, "--candidate", help="Candidate set-up (required for the downlink)."),
+    pass_number: int | None = typer.Option(None, "--pass", help="Budget at the TCA of the N-th pass (1 = first) in the window."),
+    at: str | None = typer.Option(None, "--at", help="Budget at this time, ISO 8601 UTC."),
+    elevation_deg: float | None = typer.Option(None, "--elevation-deg", help="Budget at this elevation (deg)."),
+    range_km: float | None = typer.Option(
+        None, "--range-km", help="Slant range with --elevation-deg (default: from the orbit height)."
+    ),
+    azimuth_deg: float | None = typer.Option(None, "--azimuth-deg", help="Azimuth with --elevation-deg (default 0)."),
     direction: str = typer.Option("downlink", "--direction", help="downlink (satellite to station) or uplink."),
-    station: Optional[str] = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station)."),
+    station: str | None = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station)."),
     format: str = typer.Option("table", "--format", help="table or json."),
-    output: Optional[Path] = typer.Option(None, "--output", help="Write JSON to this file (atomically)."),
+    output: Path | None = typer.Option(None, "--output", help="Write JSON to this file (atomically)."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
     force: bool = common.FORCE,
 ) -> None:

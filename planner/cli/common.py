@@ -3,9 +3,8 @@
 from __future__ import annotations
 
 import sys
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from pathlib import Path
-from typing import Optional
 
 import typer
 from rich.console import Console
@@ -16,7 +15,6 @@ FORMATS = ("table", "csv", "json")
 
 # Shared by every command that writes files.
 FORCE = typer.Option(False, "--force", help="Replace output files that already exist (never the run's own input files).")
-
 
 
 def stdout() -> Console:
@@ -31,7 +29,7 @@ def azimuth(value_deg: float) -> str:
     return f"{round(value_deg) % 360:d}"
 
 
-def emit(text: str, output: Optional[Path], rules) -> None:
+def emit(text: str, output: Path | None, rules) -> None:
     """Write machine output to a file atomically (under the run's write rules), or to stdout."""
     from planner.fileio import write_atomically
 
@@ -52,7 +50,7 @@ def write_rules(force: bool, *, scenario=None, inputs: tuple = ()):
     return WriteRules.for_run(files, force=force)
 
 
-def check_outputs(rules, outputs: dict[str, Optional[Path]]) -> None:
+def check_outputs(rules, outputs: dict[str, Path | None]) -> None:
     """Refuse, before any computation, an output file the rules forbid (option name -> path)."""
     for option, path in outputs.items():
         if path is not None:
@@ -69,7 +67,7 @@ def output_folder(option: str, path: Path) -> Path:
     return folder
 
 
-def check_folder_outputs(rules, option: str, folder: Optional[Path], names) -> None:
+def check_folder_outputs(rules, option: str, folder: Path | None, names) -> None:
     """Refuse an output folder that is a file, or that holds files of these names the rules forbid."""
     if folder is None:
         return
@@ -122,10 +120,10 @@ def parse_utc(option: str, text: str) -> datetime:
     except ValueError:
         raise UserError(f"{option}: {shown(text)} is not an ISO 8601 time; {allowed}") from None
     if moment.tzinfo is None:
-        moment = moment.replace(tzinfo=timezone.utc)
+        moment = moment.replace(tzinfo=UTC)
     if not in_supported_years(moment):
         raise UserError(f"{option}: {shown(text)} is out of range; {allowed}")
-    return moment.astimezone(timezone.utc)
+    return moment.astimezone(UTC)
 
 
 def satellite_choice(wanted: str) -> dict:
@@ -136,8 +134,10 @@ def satellite_choice(wanted: str) -> dict:
     if not (digits.isascii() and digits.isdigit()):
         return dict(name=wanted)
     if len(digits.lstrip("0")) > len(str(MAX_OMM_CATALOG_NUMBER)):  # before int(): 4300 digits raise
-        raise UserError(f"--satellite: {shown(digits)} ({len(digits)} digits) is not a catalog number; "
-                        f"allowed 1 to {MAX_OMM_CATALOG_NUMBER}, or a satellite name")
+        raise UserError(
+            f"--satellite: {shown(digits)} ({len(digits)} digits) is not a catalog number; "
+            f"allowed 1 to {MAX_OMM_CATALOG_NUMBER}, or a satellite name"
+        )
     return dict(norad_id=int(digits))
 
 
@@ -145,8 +145,8 @@ def adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step_
     """A study built from options alone: one element file, one site, a flat mask."""
     from planner.elements import check_element_age, read_elements, select_element_set
     from planner.passes import Target
-    from planner.scenario import StationConfig, WindowConfig, validated
     from planner.passes.station import Station
+    from planner.scenario import StationConfig, WindowConfig, validated
     from planner.study import Study
 
     if lat is None or lon is None:
@@ -155,10 +155,20 @@ def adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step_
         StationConfig,
         dict(name="ad-hoc site", latitude_deg=lat, longitude_deg=lon, altitude_m=alt_m, horizon_mask=min_elevation_deg),
         "command line",
-        key_names={"latitude_deg": "--lat", "longitude_deg": "--lon", "altitude_m": "--alt-m", "horizon_mask": "--min-elevation-deg"},
+        key_names={
+            "latitude_deg": "--lat",
+            "longitude_deg": "--lon",
+            "altitude_m": "--alt-m",
+            "horizon_mask": "--min-elevation-deg",
+        },
     )
-    start_utc = parse_utc("--start", start) if start else datetime.now(timezone.utc).replace(second=0, microsecond=0)
-    window = validated(WindowConfig, dict(start_utc=start_utc, days=days, step_s=step_s), "command line", key_names={"days": "--days", "step_s": "--step-s", "start_utc": "--start"})
+    start_utc = parse_utc("--start", start) if start else datetime.now(UTC).replace(second=0, microsecond=0)
+    window = validated(
+        WindowConfig,
+        dict(start_utc=start_utc, days=days, step_s=step_s),
+        "command line",
+        key_names={"days": "--days", "step_s": "--step-s", "start_utc": "--start"},
+    )
     element_sets = read_elements(elements)
     if satellites:
         chosen = []
@@ -166,18 +176,19 @@ def adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step_
             chosen.append(select_element_set(element_sets, source=str(elements), **satellite_choice(wanted)))
         element_sets = chosen
     check_element_age(element_sets, window.start_utc, window.end_utc, allow_stale=allow_stale)
-    return Study.for_targets(Station.from_config(station_config), [Target(e) for e in element_sets],
-                             window.start_utc, window.end_utc, window.step_s)
+    return Study.for_targets(
+        Station.from_config(station_config), [Target(e) for e in element_sets], window.start_utc, window.end_utc, window.step_s
+    )
 
 
-def load_study(scenario: Path, allow_stale: bool, station: Optional[str] = None):
+def load_study(scenario: Path, allow_stale: bool, station: str | None = None):
     from planner.scenario import load_scenario
     from planner.study import Study
 
     return Study.from_scenario(load_scenario(scenario), allow_stale=allow_stale, station=station)
 
 
-def load_studies(scenario: Path, allow_stale: bool, stations: Optional[list[str]]):
+def load_studies(scenario: Path, allow_stale: bool, stations: list[str] | None):
     """One study per station asked for (default: every station of the scenario)."""
     home = load_study(scenario, allow_stale)
     names = stations or home.station_names

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import sys
 from pathlib import Path
-from typing import Optional
 
 import typer
 from rich.console import Console
@@ -28,8 +27,12 @@ def _forecast_with_progress(study, candidates, quiet: bool, *, keep_samples: boo
     if quiet:
         return forecast(study, candidates, keep_samples=keep_samples)
     progress = Progress(
-        TextColumn("budgets"), BarColumn(), TextColumn("{task.completed}/{task.total}"), TimeElapsedColumn(),
-        console=Console(stderr=True), transient=True,
+        TextColumn("budgets"),
+        BarColumn(),
+        TextColumn("{task.completed}/{task.total}"),
+        TimeElapsedColumn(),
+        console=Console(stderr=True),
+        transient=True,
     )
     with progress:
         task = progress.add_task("budgets", total=None)
@@ -53,11 +56,11 @@ def _chosen_candidates(study, candidate):
 @app.command()
 def week(
     scenario: Path = typer.Argument(..., help="Scenario TOML file."),
-    candidate: Optional[list[str]] = typer.Option(None, "--candidate", help="Only this candidate; repeatable."),
+    candidate: list[str] | None = typer.Option(None, "--candidate", help="Only this candidate; repeatable."),
     format: str = typer.Option("table", "--format", help="table, csv or json."),
-    output: Optional[Path] = typer.Option(None, "--output", help="Write to this file (atomically)."),
+    output: Path | None = typer.Option(None, "--output", help="Write to this file (atomically)."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
-    station: Optional[list[str]] = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
+    station: list[str] | None = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
     force: bool = common.FORCE,
 ) -> None:
@@ -87,15 +90,24 @@ def _print_week(study, result) -> None:
     from planner.decision.forecast import band_table
 
     console = common.stdout()
-    table = Table(title=f"{result.days:g}-day forecast at {study.station.name} (usable: margin >= "
-                  f"{study.scenario.criteria.min_margin_db:g} dB for >= {study.scenario.criteria.min_usable_s:g} s)", title_justify="left")
+    table = Table(
+        title=f"{result.days:g}-day forecast at {study.station.name} (usable: margin >= "
+        f"{study.scenario.criteria.min_margin_db:g} dB for >= {study.scenario.criteria.min_usable_s:g} s)",
+        title_justify="left",
+    )
     for heading in ("candidate", "satellite", "passes", "usable", "usable min", "min/day", "Mbit", "Mbit/day", "dropouts"):
         table.add_column(heading, justify="left" if heading in ("candidate", "satellite") else "right")
     for record in result.weekly.to_dict("records"):
         table.add_row(
-            record["candidate"], record["satellite"], str(record["passes"]), str(record["usable_passes"]),
-            f"{record['usable_minutes']:.1f}", f"{record['usable_minutes_per_day']:.1f}",
-            f"{record['data_volume_mbit']:.1f}", f"{record['data_volume_mbit_per_day']:.1f}", str(record["dropouts"]),
+            record["candidate"],
+            record["satellite"],
+            str(record["passes"]),
+            str(record["usable_passes"]),
+            f"{record['usable_minutes']:.1f}",
+            f"{record['usable_minutes_per_day']:.1f}",
+            f"{record['data_volume_mbit']:.1f}",
+            f"{record['data_volume_mbit_per_day']:.1f}",
+            str(record["dropouts"]),
         )
     console.print(table)
     bands = band_table(result.outcomes)
@@ -112,14 +124,14 @@ def _print_week(study, result) -> None:
 @app.command()
 def compare(
     scenario: Path = typer.Argument(..., help="Scenario TOML file."),
-    candidate: Optional[list[str]] = typer.Option(None, "--candidate", help="Only these candidates; repeatable."),
+    candidate: list[str] | None = typer.Option(None, "--candidate", help="Only these candidates; repeatable."),
     format: str = typer.Option("table", "--format", help="table or json."),
-    output: Optional[Path] = typer.Option(None, "--output", help="Write the JSON to this file (atomically)."),
-    calendar: Optional[Path] = typer.Option(None, "--calendar", help="Write the recommended set-up's usable passes as iCalendar."),
-    figures: Optional[Path] = typer.Option(None, "--figures", help="Write the figures (PNG and SVG) into this folder."),
-    report: Optional[Path] = typer.Option(None, "--report", help="Write a report folder: tables, figures, calendar, summary."),
+    output: Path | None = typer.Option(None, "--output", help="Write the JSON to this file (atomically)."),
+    calendar: Path | None = typer.Option(None, "--calendar", help="Write the recommended set-up's usable passes as iCalendar."),
+    figures: Path | None = typer.Option(None, "--figures", help="Write the figures (PNG and SVG) into this folder."),
+    report: Path | None = typer.Option(None, "--report", help="Write a report folder: tables, figures, calendar, summary."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
-    station: Optional[list[str]] = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
+    station: list[str] | None = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
     force: bool = common.FORCE,
 ) -> None:
@@ -141,7 +153,9 @@ def compare(
         # A network writes each station's files apart: a sub-folder, or the station in the file name.
         slug = common.station_slug(study.station.name)
         where = dict(
-            calendar=calendar if not several or calendar is None else calendar.with_name(f"{calendar.stem}-{slug}{calendar.suffix}"),
+            calendar=calendar
+            if not several or calendar is None
+            else calendar.with_name(f"{calendar.stem}-{slug}{calendar.suffix}"),
             figures=figures if not several or figures is None else figures / slug,
             report=report if not several or report is None else report / slug,
         )
@@ -163,9 +177,9 @@ def _check_compare_outputs(rules, study, *, calendar, figures, report) -> None:
 
 
 def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, report):
-    from planner.output.export import calendar_ics, write_figures, write_report
-    from planner.fileio import write_atomically
     from planner.decision.recommend import recommend
+    from planner.fileio import write_atomically
+    from planner.output.export import calendar_ics, write_figures, write_report
 
     result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet)
     decision = recommend(result, study.satellites, study.candidates)
@@ -181,12 +195,27 @@ def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, r
         return decision
     console = common.stdout()
     table = Table(title=f"Candidates at {study.station.name}, one receiver, {result.days:g} days", title_justify="left")
-    for heading in ("rank", "candidate", f"score ({decision.score_unit})", "usable passes", "usable min", "Mbit", "dropouts", "lost to conflicts"):
+    for heading in (
+        "rank",
+        "candidate",
+        f"score ({decision.score_unit})",
+        "usable passes",
+        "usable min",
+        "Mbit",
+        "dropouts",
+        "lost to conflicts",
+    ):
         table.add_column(heading, justify="left" if heading == "candidate" else "right")
     for rank, score in enumerate(decision.ranking, start=1):
         table.add_row(
-            str(rank), score.candidate, f"{score.score:.2f}", str(score.usable_passes), f"{score.usable_minutes:.1f}",
-            f"{score.data_volume_mbit:.1f}", str(score.dropouts), f"{score.lost_to_conflicts:.2f}",
+            str(rank),
+            score.candidate,
+            f"{score.score:.2f}",
+            str(score.usable_passes),
+            f"{score.usable_minutes:.1f}",
+            f"{score.data_volume_mbit:.1f}",
+            str(score.dropouts),
+            f"{score.lost_to_conflicts:.2f}",
         )
     console.print(table)
     console.print(decision.explanation, soft_wrap=False, markup=False)
@@ -199,10 +228,10 @@ def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, r
 def rank(
     scenario: Path = typer.Argument(..., help="Scenario TOML file (its [catalog] and [[satellite]] entries are ranked)."),
     candidate: str = typer.Option(..., "--candidate", help="Candidate set-up to rank the objects with."),
-    station: Optional[str] = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station)."),
+    station: str | None = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station)."),
     top: int = typer.Option(25, "--top", help="How many objects to list (the CSV/JSON has them all)."),
     format: str = typer.Option("table", "--format", help="table, csv or json."),
-    output: Optional[Path] = typer.Option(None, "--output", help="Write to this file (atomically)."),
+    output: Path | None = typer.Option(None, "--output", help="Write to this file (atomically)."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
     force: bool = common.FORCE,
@@ -241,11 +270,21 @@ def rank(
         return
     if output is not None:
         raise UserError("--output: a table is for the terminal; use --format csv or json with --output")
-    table = Table(title=f"{len(rows)} objects ranked by usable time at {study.station.name} with {candidate}, {result.days:g} days",
-                  title_justify="left")
+    table = Table(
+        title=f"{len(rows)} objects ranked by usable time at {study.station.name} with {candidate}, {result.days:g} days",
+        title_justify="left",
+    )
     for heading in ("rank", "satellite", "catalog no.", "passes", "usable", "usable min", "min/day", "Mbit"):
         table.add_column(heading, justify="left" if heading == "satellite" else "right")
     for row in rows[:top]:
-        table.add_row(str(row["rank"]), row["satellite"], str(row["norad_id"]), str(row["passes"]), str(row["usable_passes"]),
-                      f"{row['usable_minutes']:.1f}", f"{row['usable_minutes_per_day']:.1f}", f"{row['data_volume_mbit']:.1f}")
+        table.add_row(
+            str(row["rank"]),
+            row["satellite"],
+            str(row["norad_id"]),
+            str(row["passes"]),
+            str(row["usable_passes"]),
+            f"{row['usable_minutes']:.1f}",
+            f"{row['usable_minutes_per_day']:.1f}",
+            f"{row['data_volume_mbit']:.1f}",
+        )
     common.stdout().print(table)

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import sys
 from pathlib import Path
-from typing import Optional
 
 import numpy as np
 import typer
@@ -17,19 +16,31 @@ from planner.errors import UserError
 
 @app.command()
 def harness(
-    frequency_mhz: Optional[float] = typer.Option(None, "--frequency-mhz", help="Operating frequency, MHz (not with --pattern)."),
+    frequency_mhz: float | None = typer.Option(None, "--frequency-mhz", help="Operating frequency, MHz (not with --pattern)."),
     velocity_factor: float = typer.Option(0.66, "--velocity-factor", help="Velocity factor of the phasing line."),
-    measured_length_m: Optional[float] = typer.Option(None, "--measured-length-m", help="A quarter-wave line as measured (gives the implied velocity factor)."),
-    length_error_m: float = typer.Option(0.0, "--length-error-m", help="How much longer (+) or shorter (-) than a quarter wave the line is cut."),
+    measured_length_m: float | None = typer.Option(
+        None, "--measured-length-m", help="A quarter-wave line as measured (gives the implied velocity factor)."
+    ),
+    length_error_m: float = typer.Option(
+        0.0, "--length-error-m", help="How much longer (+) or shorter (-) than a quarter wave the line is cut."
+    ),
     z0_ohm: float = typer.Option(50.0, "--z0-ohm", help="Line impedance, ohm."),
-    load_ohm: Optional[str] = typer.Option(None, "--load-ohm", help="Load at the far end, e.g. 50 or 100-40j (gives the impedance seen through the line)."),
+    load_ohm: str | None = typer.Option(
+        None, "--load-ohm", help="Load at the far end, e.g. 50 or 100-40j (gives the impedance seen through the line)."
+    ),
     format: str = typer.Option("table", "--format", help="table or json."),
-    pattern: Optional[Path] = typer.Option(None, "--pattern", help="A pattern table built with feed=harness: how cut errors on its phasing line and matching section move the axial ratio, VSWR and margin overhead."),
-    cut_error_mm: float = typer.Option(5.0, "--cut-error-mm", help="With --pattern: the cut error tried, mm (each part is cut this much short, exact and long)."),
+    pattern: Path | None = typer.Option(
+        None,
+        "--pattern",
+        help="A pattern table built with feed=harness: how cut errors on its phasing line and matching section move the axial ratio, VSWR and margin overhead.",
+    ),
+    cut_error_mm: float = typer.Option(
+        5.0, "--cut-error-mm", help="With --pattern: the cut error tried, mm (each part is cut this much short, exact and long)."
+    ),
 ) -> None:
     """Phasing-harness arithmetic: quarter-wave length, implied velocity factor, and what a cutting error costs."""
-    from planner.output.export import to_json
     from planner.antenna.harness import HARNESS_UNITS, harness_report
+    from planner.output.export import to_json
 
     if format not in ("table", "json"):
         raise UserError(f"--format: {format!r} is not a format here; allowed: table, json")
@@ -48,8 +59,14 @@ def harness(
             load = complex(load_ohm.replace(" ", "").replace("i", "j"))
         except ValueError:
             raise UserError(f"--load-ohm: {load_ohm!r} is not an impedance; e.g. 50 or 100-40j") from None
-    report = harness_report(frequency_mhz * 1e6, velocity_factor, measured_length_m=measured_length_m,
-                            length_error_m=length_error_m, z0_ohm=z0_ohm, load_ohm=load)
+    report = harness_report(
+        frequency_mhz * 1e6,
+        velocity_factor,
+        measured_length_m=measured_length_m,
+        length_error_m=length_error_m,
+        z0_ohm=z0_ohm,
+        load_ohm=load,
+    )
     if format == "json":
         clean = {k: ({"re": v.real, "im": v.imag} if isinstance(v, complex) else v) for k, v in report.items()}
         sys.stdout.write(to_json(clean))
@@ -70,10 +87,10 @@ def harness(
 
 def _harness_sensitivity(pattern: Path, cut_error_mm: float, format: str) -> None:
     """``planner harness --pattern FILE``: the table's harness rebuilt and cut wrong."""
-    from planner.output.export import to_json
     from planner.antenna import load_pattern
     from planner.antenna.synth.design import cut_sensitivity
     from planner.antenna.synth.tables import harness_from_header
+    from planner.output.export import to_json
 
     if not (np.isfinite(cut_error_mm) and 0.0 < cut_error_mm <= 50.0):
         raise UserError(f"--cut-error-mm: {cut_error_mm:g} is out of range; allowed more than 0 up to 50")
@@ -83,18 +100,41 @@ def _harness_sensitivity(pattern: Path, cut_error_mm: float, format: str) -> Non
     rows = cut_sensitivity(design, (-error_m, 0.0, error_m))
     sense = design.sense.upper()
     if format == "json":
-        sys.stdout.write(to_json({"pattern": str(pattern), "frequency_mhz": design.frequency_hz / 1e6, "sense": sense,
-                                  "phasing_line": design.phasing.describe(), "matching_section": design.match.describe(),
-                                  "rows": rows}))
+        sys.stdout.write(
+            to_json(
+                {
+                    "pattern": str(pattern),
+                    "frequency_mhz": design.frequency_hz / 1e6,
+                    "sense": sense,
+                    "phasing_line": design.phasing.describe(),
+                    "matching_section": design.match.describe(),
+                    "rows": rows,
+                }
+            )
+        )
         return
     console = common.stdout()
     console.print(f"phasing line: {design.phasing.describe()}", soft_wrap=True)
     console.print(f"matching section: {design.match.describe()}", soft_wrap=True)
     out = Table(title=f"Cut errors at {design.frequency_hz / 1e6:g} MHz, {sense} wave overhead", title_justify="left")
-    for heading in ("part", "error", "zenith axial ratio dB", "feed VSWR", f"{sense} gain change dB",
-                    "mismatch loss change dB", "margin change dB"):
+    for heading in (
+        "part",
+        "error",
+        "zenith axial ratio dB",
+        "feed VSWR",
+        f"{sense} gain change dB",
+        "mismatch loss change dB",
+        "margin change dB",
+    ):
         out.add_column(heading, justify="left" if heading == "part" else "right")
     for r in rows:
-        out.add_row(r["part"], f"{r['error']:+g} {r['error_unit']}", f"{r['axial_ratio_db']:.2f}", f"{r['vswr']:.3f}",
-                    f"{r['gain_change_db']:+.3f}", f"{r['mismatch_change_db']:+.3f}", f"{r['margin_change_db']:+.3f}")
+        out.add_row(
+            r["part"],
+            f"{r['error']:+g} {r['error_unit']}",
+            f"{r['axial_ratio_db']:.2f}",
+            f"{r['vswr']:.3f}",
+            f"{r['gain_change_db']:+.3f}",
+            f"{r['mismatch_change_db']:+.3f}",
+            f"{r['margin_change_db']:+.3f}",
+        )
     console.print(out)

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Optional
 
 import typer
 from rich.table import Table
@@ -23,8 +22,15 @@ def _print_passes_table(study, passes) -> None:
     )
     table = Table(title=title, title_justify="left")
     for heading, justify in (
-        ("satellite", "left"), ("date", "left"), ("AOS", "left"), ("TCA", "left"), ("LOS", "left"),
-        ("min:s", "right"), ("max el", "right"), ("az AOS/TCA/LOS", "right"), ("range km", "right"),
+        ("satellite", "left"),
+        ("date", "left"),
+        ("AOS", "left"),
+        ("TCA", "left"),
+        ("LOS", "left"),
+        ("min:s", "right"),
+        ("max el", "right"),
+        ("az AOS/TCA/LOS", "right"),
+        ("range km", "right"),
         ("clipped", "left"),
     ):
         table.add_column(heading, justify=justify, no_wrap=True)
@@ -34,10 +40,16 @@ def _print_passes_table(study, passes) -> None:
         notes = [n for n, flag in (("start", p.aos_clipped), ("end", p.los_clipped)) if flag]
         aos = iso_utc(p.aos_utc)
         table.add_row(
-            p.satellite, aos[:10], aos[11:19], iso_utc(p.tca_utc)[11:19], iso_utc(p.los_utc)[11:19],
-            f"{minutes}:{seconds:02d}", f"{p.max_elevation_deg:.1f}",
+            p.satellite,
+            aos[:10],
+            aos[11:19],
+            iso_utc(p.tca_utc)[11:19],
+            iso_utc(p.los_utc)[11:19],
+            f"{minutes}:{seconds:02d}",
+            f"{p.max_elevation_deg:.1f}",
             f"{common.azimuth(p.aos_azimuth_deg)}/{common.azimuth(p.tca_azimuth_deg)}/{common.azimuth(p.los_azimuth_deg)}",
-            f"{p.min_range_km:.0f}", "+".join(notes),
+            f"{p.min_range_km:.0f}",
+            "+".join(notes),
         )
     console = common.stdout()
     console.print(table)
@@ -46,19 +58,21 @@ def _print_passes_table(study, passes) -> None:
 
 @app.command()
 def passes(
-    scenario: Optional[Path] = typer.Argument(None, help="Scenario TOML file (omit for the quick-look options)."),
-    elements: Optional[Path] = typer.Option(None, "--elements", help="TLE/3LE/OMM file for a quick look without a scenario."),
-    lat: Optional[float] = typer.Option(None, "--lat", help="Site latitude, deg north (quick look)."),
-    lon: Optional[float] = typer.Option(None, "--lon", help="Site longitude, deg east (quick look)."),
+    scenario: Path | None = typer.Argument(None, help="Scenario TOML file (omit for the quick-look options)."),
+    elements: Path | None = typer.Option(None, "--elements", help="TLE/3LE/OMM file for a quick look without a scenario."),
+    lat: float | None = typer.Option(None, "--lat", help="Site latitude, deg north (quick look)."),
+    lon: float | None = typer.Option(None, "--lon", help="Site longitude, deg east (quick look)."),
     alt_m: float = typer.Option(0.0, "--alt-m", help="Site height above the ellipsoid, m (quick look)."),
-    start: Optional[str] = typer.Option(None, "--start", help="Window start, ISO 8601 UTC (quick look; default now)."),
+    start: str | None = typer.Option(None, "--start", help="Window start, ISO 8601 UTC (quick look; default now)."),
     days: float = typer.Option(1.0, "--days", help="Window length in days (quick look)."),
     min_elevation_deg: float = typer.Option(0.0, "--min-elevation-deg", help="Flat horizon mask, deg (quick look)."),
-    satellite: Optional[list[str]] = typer.Option(None, "--satellite", help="Only this satellite (name or catalog number); repeatable."),
+    satellite: list[str] | None = typer.Option(
+        None, "--satellite", help="Only this satellite (name or catalog number); repeatable."
+    ),
     step_s: float = typer.Option(10.0, "--step-s", help="Track step, s (quick look; a scenario sets its own)."),
-    station: Optional[list[str]] = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
+    station: list[str] | None = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
     format: str = typer.Option("table", "--format", help="table, csv or json."),
-    output: Optional[Path] = typer.Option(None, "--output", help="Write to this file (atomically) instead of stdout."),
+    output: Path | None = typer.Option(None, "--output", help="Write to this file (atomically) instead of stdout."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
     force: bool = common.FORCE,
 ) -> None:
@@ -74,12 +88,18 @@ def passes(
         studies = common.load_studies(scenario, allow_stale, station)
         if satellite:
             names = {t.display_name for t in studies[0].targets}
-            unknown = [s for s in satellite if s not in names and not any(str(t.element_set.norad_id) == s for t in studies[0].targets)]
+            unknown = [
+                s for s in satellite if s not in names and not any(str(t.element_set.norad_id) == s for t in studies[0].targets)
+            ]
             if unknown:
                 shown = sorted(names)[:10]
                 raise UserError(f"{scenario}: --satellite {unknown[0]!r} is not in the scenario; allowed: {', '.join(shown)}")
-            studies = [study.with_targets([t for t in study.targets if t.display_name in satellite or str(t.element_set.norad_id) in satellite])
-                       for study in studies]
+            studies = [
+                study.with_targets(
+                    [t for t in study.targets if t.display_name in satellite or str(t.element_set.norad_id) in satellite]
+                )
+                for study in studies
+            ]
     elif elements is not None:
         studies = [common.adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step_s, satellite, allow_stale)]
     else:

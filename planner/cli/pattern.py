@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import sys
 from pathlib import Path
-from typing import Optional
 
 import numpy as np
 import typer
@@ -27,11 +26,18 @@ def _key_values(items: list[str]) -> dict[str, str]:
 
 @pattern_app.command("build")
 def pattern_build(
-    template: Optional[str] = typer.Argument(None, help="Template (omit to regenerate every shipped table): image-turnstile, isotropic-rhcp (analytic); dipole, turnstile, crossed-loops (wire model, method of moments)."),
-    parameters: Optional[list[str]] = typer.Argument(None, help="KEY=VALUE template parameters, e.g. spacing_wavelengths=0.2 reflector=pec exponent=4."),
-    spacing_wl: Optional[float] = typer.Option(None, "--spacing-wl", help="Feed height above the reflector, wavelengths (spacing_wavelengths=...)."),
-    frequency_mhz: Optional[float] = typer.Option(None, "--frequency-mhz", help="Design frequency, MHz (default 436)."),
-    out: Optional[Path] = typer.Option(None, "--out", help="Output file (one template) or folder (all shipped tables)."),
+    template: str | None = typer.Argument(
+        None,
+        help="Template (omit to regenerate every shipped table): image-turnstile, isotropic-rhcp (analytic); dipole, turnstile, crossed-loops (wire model, method of moments).",
+    ),
+    parameters: list[str] | None = typer.Argument(
+        None, help="KEY=VALUE template parameters, e.g. spacing_wavelengths=0.2 reflector=pec exponent=4."
+    ),
+    spacing_wl: float | None = typer.Option(
+        None, "--spacing-wl", help="Feed height above the reflector, wavelengths (spacing_wavelengths=...)."
+    ),
+    frequency_mhz: float | None = typer.Option(None, "--frequency-mhz", help="Design frequency, MHz (default 436)."),
+    out: Path | None = typer.Option(None, "--out", help="Output file (one template) or folder (all shipped tables)."),
     list_parameters: bool = typer.Option(False, "--list", help="List the template's parameters with their ranges, then stop."),
     force: bool = common.FORCE,
 ) -> None:
@@ -63,7 +69,9 @@ def pattern_build(
             import inspect
 
             for name, parameter in inspect.signature(ANALYTIC[template]).parameters.items():
-                print(f"{name} = {parameter.default!r}" if parameter.default is not inspect.Parameter.empty else f"{name} (required)")
+                print(
+                    f"{name} = {parameter.default!r}" if parameter.default is not inspect.Parameter.empty else f"{name} (required)"
+                )
         return
     if out is None:
         raise UserError("--out: give the file to write the pattern table to")
@@ -93,12 +101,12 @@ def pattern_show(
     file: Path = typer.Argument(..., help="Pattern table (CSV)."),
     azimuth_deg: float = typer.Option(0.0, "--azimuth-deg", help="Azimuth of the elevation cut, deg."),
     step_deg: float = typer.Option(10.0, "--step-deg", help="Elevation step of the printed cut, deg."),
-    figure: Optional[Path] = typer.Option(None, "--figure", help="Also write the elevation cuts as a figure (stem; .png and .svg)."),
+    figure: Path | None = typer.Option(None, "--figure", help="Also write the elevation cuts as a figure (stem; .png and .svg)."),
     force: bool = common.FORCE,
 ) -> None:
     """Elevation cut, axial ratio against elevation, and the feed data a pattern table carries."""
-    from planner.output import plots
     from planner.antenna import load_pattern
+    from planner.output import plots
 
     if not 0.5 <= step_deg <= 90:
         raise UserError(f"--step-deg: {step_deg:g} is out of range; allowed 0.5 to 90")

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import sys
 from pathlib import Path
-from typing import Optional
 
 import typer
 from rich.console import Console
@@ -19,11 +18,13 @@ from planner.errors import UserError
 def sweep(
     scenario: Path = typer.Argument(..., help="Scenario TOML file."),
     candidate: str = typer.Option(..., "--candidate", help="Candidate whose reflector spacing is swept."),
-    reflector_spacing: str = typer.Option(..., "--reflector-spacing", help="START:STOP:STEP in wavelengths (0.1:1:0.05) or metres (0.05m:0.6m:0.05m)."),
-    figure: Optional[Path] = typer.Option(None, "--figure", help="Write the sweep figure here (a stem: .png and .svg are added)."),
-    station: Optional[str] = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station)."),
+    reflector_spacing: str = typer.Option(
+        ..., "--reflector-spacing", help="START:STOP:STEP in wavelengths (0.1:1:0.05) or metres (0.05m:0.6m:0.05m)."
+    ),
+    figure: Path | None = typer.Option(None, "--figure", help="Write the sweep figure here (a stem: .png and .svg are added)."),
+    station: str | None = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station)."),
     format: str = typer.Option("table", "--format", help="table, csv or json."),
-    output: Optional[Path] = typer.Option(None, "--output", help="Write CSV/JSON to this file (atomically)."),
+    output: Path | None = typer.Option(None, "--output", help="Write CSV/JSON to this file (atomically)."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
     allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
     force: bool = common.FORCE,
@@ -31,9 +32,9 @@ def sweep(
     """Weekly usable minutes and data volume against reflector spacing; names the best spacing."""
     from rich.progress import BarColumn, Progress, TextColumn
 
+    from planner.decision.sweep import parse_spacing_range, sweep_reflector
     from planner.output import plots
     from planner.output.export import to_csv, to_json
-    from planner.decision.sweep import parse_spacing_range, sweep_reflector
 
     common.check_format(format)
     study = common.load_study(scenario, allow_stale, station)
@@ -45,13 +46,23 @@ def sweep(
     if quiet:
         result = sweep_reflector(study, candidate, spacings)
     else:
-        bar = Progress(TextColumn("spacings"), BarColumn(), TextColumn("{task.completed}/{task.total}"), console=Console(stderr=True), transient=True)
+        bar = Progress(
+            TextColumn("spacings"),
+            BarColumn(),
+            TextColumn("{task.completed}/{task.total}"),
+            console=Console(stderr=True),
+            transient=True,
+        )
         with bar:
             task = bar.add_task("spacings", total=len(spacings))
             result = sweep_reflector(study, candidate, spacings, progress=lambda done, total: bar.update(task, completed=done))
     if figure_at is not None:
-        chart = plots.sweep_chart(result.table, result.per_satellite, title=f"{candidate}: reflector spacing sweep",
-                                  best_spacing_wavelengths=result.best_spacing_wavelengths)
+        chart = plots.sweep_chart(
+            result.table,
+            result.per_satellite,
+            title=f"{candidate}: reflector spacing sweep",
+            best_spacing_wavelengths=result.best_spacing_wavelengths,
+        )
         for path in plots.save_figure(chart, *figure_at, rules=rules):
             print(f"wrote {path}", file=sys.stderr)
     rows = [{k: (round(v, 4) if isinstance(v, float) else v) for k, v in r.items()} for r in result.table.to_dict("records")]
@@ -59,10 +70,21 @@ def sweep(
         common.emit(to_csv(rows, list(result.table.columns)), output, rules)
         return
     if format == "json":
-        common.emit(to_json({"candidate": candidate, "objective": result.objective, "spacings": rows,
-                       "best_spacing_wavelengths": result.best_spacing_wavelengths,
-                       "runner_up_spacing_wavelengths": result.runner_up_spacing_wavelengths,
-                       "margin_of_victory": result.margin_of_victory, "summary": result.summary()}), output, rules)
+        common.emit(
+            to_json(
+                {
+                    "candidate": candidate,
+                    "objective": result.objective,
+                    "spacings": rows,
+                    "best_spacing_wavelengths": result.best_spacing_wavelengths,
+                    "runner_up_spacing_wavelengths": result.runner_up_spacing_wavelengths,
+                    "margin_of_victory": result.margin_of_victory,
+                    "summary": result.summary(),
+                }
+            ),
+            output,
+            rules,
+        )
         return
     if output is not None:
         raise UserError("--output: a table is for the terminal; use --format csv or json with --output")
@@ -71,8 +93,15 @@ def sweep(
         table.add_column(heading, justify="right")
     for r in result.table.to_dict("records"):
         mark = " *" if r["spacing_wavelengths"] == result.best_spacing_wavelengths else ""
-        table.add_row(f"{r['spacing_wavelengths']:.3g}{mark}", f"{r['spacing_m'] * 100:.1f}", f"{r['score']:.2f}",
-                      f"{r['usable_minutes']:.1f}", f"{r['data_volume_mbit']:.1f}", str(r["usable_passes"]), str(r["dropouts"]))
+        table.add_row(
+            f"{r['spacing_wavelengths']:.3g}{mark}",
+            f"{r['spacing_m'] * 100:.1f}",
+            f"{r['score']:.2f}",
+            f"{r['usable_minutes']:.1f}",
+            f"{r['data_volume_mbit']:.1f}",
+            str(r["usable_passes"]),
+            str(r["dropouts"]),
+        )
     console = common.stdout()
     console.print(table)
     console.print(result.summary())

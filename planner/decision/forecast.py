@@ -34,9 +34,9 @@ Local hour is *mean solar time* at the station's longitude (UTC hour + longitude
 
 from __future__ import annotations
 
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
-from datetime import datetime, timezone
-from typing import Callable, Sequence
+from datetime import UTC, datetime
 
 import numpy as np
 import pandas as pd
@@ -48,24 +48,65 @@ from planner.scenario import CriteriaConfig
 ELEVATION_BANDS_DEG = ((0, 10), (10, 30), (30, 60), (60, 90))
 ELEVATION_BAND_LABELS = tuple(f"{low}-{high}" for low, high in ELEVATION_BANDS_DEG)
 HOURS = tuple(range(24))
-VOICE_MODULATIONS = frozenset({"fm"})   # analog voice: usable time, no data volume
+VOICE_MODULATIONS = frozenset({"fm"})  # analog voice: usable time, no data volume
 
 SAMPLE_COLUMNS = (
-    "candidate", "satellite", "pass_number", "time_s", "dt_s",
-    "azimuth_deg", "elevation_deg", "range_km", "margin_db", "margin_at_fade_db",
+    "candidate",
+    "satellite",
+    "pass_number",
+    "time_s",
+    "dt_s",
+    "azimuth_deg",
+    "elevation_deg",
+    "range_km",
+    "margin_db",
+    "margin_at_fade_db",
 )
 PASS_COLUMNS = (
-    "satellite", "norad_id", "pass_number", "aos_utc", "tca_utc", "los_utc", "aos_s", "los_s",
-    "duration_s", "max_elevation_deg", "elevation_band", "local_hour", "aos_clipped", "los_clipped",
+    "satellite",
+    "norad_id",
+    "pass_number",
+    "aos_utc",
+    "tca_utc",
+    "los_utc",
+    "aos_s",
+    "los_s",
+    "duration_s",
+    "max_elevation_deg",
+    "elevation_band",
+    "local_hour",
+    "aos_clipped",
+    "los_clipped",
 )
-OUTCOME_COLUMNS = ("candidate",) + PASS_COLUMNS + (
-    "usable_s", "usable", "usable_windows", "first_usable_s", "last_usable_s", "dropouts",
-    "dropout_s", "min_margin_db", "median_margin_db", "max_margin_db", "data_volume_bit",
-    "weight", "value",
+OUTCOME_COLUMNS = (
+    ("candidate",)
+    + PASS_COLUMNS
+    + (
+        "usable_s",
+        "usable",
+        "usable_windows",
+        "first_usable_s",
+        "last_usable_s",
+        "dropouts",
+        "dropout_s",
+        "min_margin_db",
+        "median_margin_db",
+        "max_margin_db",
+        "data_volume_bit",
+        "weight",
+        "value",
+    )
 )
 WEEKLY_COLUMNS = (
-    "candidate", "satellite", "passes", "usable_passes", "usable_minutes", "data_volume_mbit",
-    "dropouts", "usable_minutes_per_day", "data_volume_mbit_per_day",
+    "candidate",
+    "satellite",
+    "passes",
+    "usable_passes",
+    "usable_minutes",
+    "data_volume_mbit",
+    "dropouts",
+    "usable_minutes_per_day",
+    "data_volume_mbit_per_day",
 )
 TOTAL_COLUMNS = ("passes", "usable_passes", "usable_minutes", "data_volume_mbit")
 
@@ -98,7 +139,7 @@ def elevation_band(max_elevation_deg) -> np.ndarray:
 
 def local_mean_solar_hour(time_utc: datetime, longitude_deg: float) -> int:
     """Hour (0..23) of local mean solar time: UTC hour + longitude / 15, modulo 24."""
-    utc = time_utc.astimezone(timezone.utc)
+    utc = time_utc.astimezone(UTC)
     hours = utc.hour + utc.minute / 60.0 + (utc.second + utc.microsecond * 1e-6) / 3600.0
     return int(np.floor(np.mod(hours + longitude_deg / 15.0, 24.0))) % 24
 
@@ -113,7 +154,10 @@ def pass_table(study, numbered: list | None = None) -> pd.DataFrame:
     """
     longitude_deg = float(study.station.longitude_deg)
     order = {s.name: i for i, s in enumerate(study.satellites)}
-    numbered = sorted(numbered_passes(study) if numbered is None else numbered, key=lambda item: (order.get(item[1].satellite, len(order)), item[0]))
+    numbered = sorted(
+        numbered_passes(study) if numbered is None else numbered,
+        key=lambda item: (order.get(item[1].satellite, len(order)), item[0]),
+    )
     start = study.start_utc
     rows = {
         "satellite": [p.satellite for _, p in numbered],
@@ -147,7 +191,7 @@ def trapezoid_weights(time_s: np.ndarray, group_start: np.ndarray) -> np.ndarray
     if len(time_s) == 0:
         return np.zeros(0)
     gaps = np.diff(time_s)
-    gaps[np.asarray(group_start, dtype=bool)[1:]] = 0.0   # no gap across a pass boundary
+    gaps[np.asarray(group_start, dtype=bool)[1:]] = 0.0  # no gap across a pass boundary
     return 0.5 * (np.concatenate([[0.0], gaps]) + np.concatenate([gaps, [0.0]]))
 
 
@@ -214,9 +258,15 @@ def _sample_frames(study, names: list[str], progress: Callable[[int, int], None]
         frames = {}
         config = study.satellite_config(satellite)
         for candidate in names:
-            setup = downlink_setup(config, study.candidate(candidate), study.receiver, study.station,
-                                   fade_percentile=study.criteria.fade_percentile, source=study.source,
-                                   antenna_noise=noise(candidate, config.downlink_frequency_hz))
+            setup = downlink_setup(
+                config,
+                study.candidate(candidate),
+                study.receiver,
+                study.station,
+                fade_percentile=study.criteria.fade_percentile,
+                source=study.source,
+                antenna_noise=noise(candidate, config.downlink_frequency_hz),
+            )
             budget = evaluate(setup, azimuth, elevation, range_km)
             frames[candidate] = pd.DataFrame(
                 {
@@ -239,7 +289,7 @@ def _sample_frames(study, names: list[str], progress: Callable[[int, int], None]
 def _checked_candidates(study, candidates: list[str] | None) -> list[str]:
     names = list(study.candidate_names if candidates is None else candidates)
     for name in names:
-        study.candidate(name)          # unknown names: one-line UserError
+        study.candidate(name)  # unknown names: one-line UserError
     return names
 
 
@@ -324,8 +374,9 @@ def _empty_outcomes(passes: pd.DataFrame) -> pd.DataFrame:
     return frame
 
 
-def summarize_passes(samples: pd.DataFrame, passes: pd.DataFrame, criteria: CriteriaConfig, satellites,
-                     *, margin_shift_db: float = 0.0) -> pd.DataFrame:
+def summarize_passes(
+    samples: pd.DataFrame, passes: pd.DataFrame, criteria: CriteriaConfig, satellites, *, margin_shift_db: float = 0.0
+) -> pd.DataFrame:
     """One row per (candidate, satellite, pass_number): the pass table's columns and outcomes.
 
     Candidates are those in ``samples`` (in order of appearance); every pass of ``passes``
@@ -359,7 +410,7 @@ def summarize_passes(samples: pd.DataFrame, passes: pd.DataFrame, criteria: Crit
     length = end_s - start_s
     usable_s = np.bincount(window_group, weights=length, minlength=n_groups)
     count = np.bincount(window_group, minlength=n_groups)
-    same = window_group[1:] == window_group[:-1]               # consecutive windows of one pass
+    same = window_group[1:] == window_group[:-1]  # consecutive windows of one pass
     gap_group = window_group[1:][same]
     gap_s = (start_s[1:] - end_s[:-1])[same]
     dropouts = np.bincount(gap_group, minlength=n_groups)
@@ -371,7 +422,7 @@ def summarize_passes(samples: pd.DataFrame, passes: pd.DataFrame, criteria: Crit
     first_usable[has] = start_s[first_index[has]]
     last_usable[has] = end_s[(first_index + count - 1)[has]]
     window_pairs = list(zip(start_s.tolist(), end_s.tolist()))
-    windows = [window_pairs[a:a + c] for a, c in zip(first_index.tolist(), count.tolist())]
+    windows = [window_pairs[a : a + c] for a, c in zip(first_index.tolist(), count.tolist())]
     stats = pd.Series(margin).groupby(group).agg(["min", "median", "max"]).reindex(range(n_groups))
 
     metrics = keys.assign(
@@ -388,7 +439,7 @@ def summarize_passes(samples: pd.DataFrame, passes: pd.DataFrame, criteria: Crit
     grid = pd.DataFrame({"candidate": candidates}).merge(passes.loc[:, list(PASS_COLUMNS)], how="cross")
     outcomes = grid.merge(metrics, on=_KEYS, how="left", validate="one_to_one")
     missing = outcomes["usable_s"].isna().to_numpy()
-    if missing.any():                                           # a pass without samples
+    if missing.any():  # a pass without samples
         outcomes.loc[missing, ["usable_s", "dropouts", "dropout_s"]] = 0
         outcomes["dropouts"] = outcomes["dropouts"].astype(np.int64)
         outcomes["usable_windows"] = pd.Series(
@@ -527,11 +578,11 @@ def weighted_interval_schedule(starts, ends, values) -> tuple[float, np.ndarray]
 class ScheduleResult:
     """What one receiver can take of one candidate's usable passes."""
 
-    chosen: pd.DataFrame          # outcome rows taken, in time order
-    value: float                  # their total value
-    unconstrained_value: float    # total value of all usable passes (a receiver per pass)
-    lost_value: float             # unconstrained_value - value
-    lost_passes: pd.DataFrame     # usable passes dropped for an overlap, in time order
+    chosen: pd.DataFrame  # outcome rows taken, in time order
+    value: float  # their total value
+    unconstrained_value: float  # total value of all usable passes (a receiver per pass)
+    lost_value: float  # unconstrained_value - value
+    lost_passes: pd.DataFrame  # usable passes dropped for an overlap, in time order
 
 
 def schedule(outcomes: pd.DataFrame) -> ScheduleResult:
@@ -648,9 +699,11 @@ def _summarized_in_batches(study, names: list[str], passes: pd.DataFrame, progre
     # summarize_passes orders its rows by candidate, then as the pass table (satellite, pass).
     candidate_rank = {name: k for k, name in enumerate(names)}
     satellite_rank = {s.name: k for k, s in enumerate(study.satellites)}
-    order = np.lexsort((
-        outcomes["pass_number"].to_numpy(),
-        outcomes["satellite"].map(satellite_rank).to_numpy(),
-        outcomes["candidate"].map(candidate_rank).to_numpy(),
-    ))
+    order = np.lexsort(
+        (
+            outcomes["pass_number"].to_numpy(),
+            outcomes["satellite"].map(satellite_rank).to_numpy(),
+            outcomes["candidate"].map(candidate_rank).to_numpy(),
+        )
+    )
     return outcomes.iloc[order].reset_index(drop=True)

@@ -28,12 +28,12 @@ _NOTABLE_MINUTES = 0.5
 @dataclass
 class CandidateScore:
     candidate: str
-    score: float                    # one-receiver schedule value (objective units)
-    unconstrained_score: float      # the same without the one-receiver limit
-    usable_minutes: float           # scheduled usable time, minutes in the window
-    data_volume_mbit: float         # scheduled data volume, megabits in the window
-    usable_passes: int              # scheduled usable passes
-    dropouts: int                   # dropouts inside the scheduled passes
+    score: float  # one-receiver schedule value (objective units)
+    unconstrained_score: float  # the same without the one-receiver limit
+    usable_minutes: float  # scheduled usable time, minutes in the window
+    data_volume_mbit: float  # scheduled data volume, megabits in the window
+    usable_passes: int  # scheduled usable passes
+    dropouts: int  # dropouts inside the scheduled passes
 
     @property
     def lost_to_conflicts(self) -> float:
@@ -49,7 +49,7 @@ class Recommendation:
     explanation: str
     robust: bool
     winner_by_shift_db: dict[float, str] = field(default_factory=dict)
-    schedules: dict = field(default_factory=dict)   # candidate -> ScheduleResult
+    schedules: dict = field(default_factory=dict)  # candidate -> ScheduleResult
     notes: list[str] = field(default_factory=list)  # e.g. candidates charged no feed mismatch
 
     def to_contract(self) -> dict:
@@ -86,7 +86,9 @@ def _objective_value(value: float, objective: str) -> float:
     return value / 1e6 if objective == "data_volume" else value / 60.0
 
 
-def score_candidates(outcomes: pd.DataFrame, objective: str, candidates: list[str] | None = None) -> tuple[list[CandidateScore], dict]:
+def score_candidates(
+    outcomes: pd.DataFrame, objective: str, candidates: list[str] | None = None
+) -> tuple[list[CandidateScore], dict]:
     """Rank candidates by their one-receiver schedule value (best first).
 
     ``candidates`` lists every candidate to rank, so one with no pass at all still appears

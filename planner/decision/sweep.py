@@ -16,10 +16,10 @@ import numpy as np
 import pandas as pd
 
 from planner.constants import SPEED_OF_LIGHT_M_S
-from planner.errors import UserError
 from planner.decision.forecast import forecast, numbered_passes
-from planner.limits import SWEEP_POINTS_LIMIT, SWEEP_SECONDS_PER_POINT, format_seconds
 from planner.decision.recommend import score_candidates
+from planner.errors import UserError
+from planner.limits import SWEEP_POINTS_LIMIT, SWEEP_SECONDS_PER_POINT, format_seconds
 
 SPACING_PARAMETER = "spacing_wavelengths"
 MAX_SPACINGS = SWEEP_POINTS_LIMIT  # each spacing is a full solve and forecast; why 60: planner.limits
@@ -107,11 +107,11 @@ class SweepResult:
     candidate: str
     objective: str
     frequency_hz: float
-    table: pd.DataFrame          # one row per spacing: spacing_wavelengths, spacing_m, score, minutes, Mbit
+    table: pd.DataFrame  # one row per spacing: spacing_wavelengths, spacing_m, score, minutes, Mbit
     per_satellite: pd.DataFrame  # one row per (spacing, satellite): usable_minutes, data_volume_mbit
     best_spacing_wavelengths: float
     runner_up_spacing_wavelengths: float | None
-    margin_of_victory: float     # best score - runner-up score (objective units)
+    margin_of_victory: float  # best score - runner-up score (objective units)
     margin_of_victory_percent: float | None
 
     def summary(self) -> str:
@@ -123,9 +123,7 @@ class SweepResult:
         )
         if self.runner_up_spacing_wavelengths is not None:
             lead = "" if self.margin_of_victory_percent is None else f", {self.margin_of_victory_percent:.1f} %"
-            text += (
-                f" The next best, {self.runner_up_spacing_wavelengths:.3g} wavelength, scores {self.margin_of_victory:.2f} less{lead}."
-            )
+            text += f" The next best, {self.runner_up_spacing_wavelengths:.3g} wavelength, scores {self.margin_of_victory:.2f} less{lead}."
         return text
 
 

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 
 from sgp4.api import SGP4_ERRORS, Satrec
 
@@ -31,7 +31,7 @@ _REV_PER_DAY_PER_RAD_PER_MIN = _MINUTES_PER_DAY / (2.0 * math.pi)
 # rad/min^3), the same factors Satrec.twoline2rv applies.
 _NDOT_UNITS = _REV_PER_DAY_PER_RAD_PER_MIN * _MINUTES_PER_DAY
 _NDDOT_UNITS = _REV_PER_DAY_PER_RAD_PER_MIN * _MINUTES_PER_DAY * _MINUTES_PER_DAY
-_SGP4_EPOCH0 = datetime(1949, 12, 31, tzinfo=timezone.utc)  # sgp4init counts days from here
+_SGP4_EPOCH0 = datetime(1949, 12, 31, tzinfo=UTC)  # sgp4init counts days from here
 
 
 @dataclass(frozen=True)
@@ -62,7 +62,7 @@ def _clip(text: str, limit: int = 40) -> str:
 
 
 def _utc(moment: datetime) -> datetime:
-    return moment.replace(tzinfo=timezone.utc) if moment.tzinfo is None else moment.astimezone(timezone.utc)
+    return moment.replace(tzinfo=UTC) if moment.tzinfo is None else moment.astimezone(UTC)
 
 
 def _check_range(where: str, name: str, value: float, low: float, high: float, *, high_open=False):

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 import re
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta
 from decimal import Decimal
 
 from sgp4.api import WGS72, Satrec
@@ -39,17 +39,46 @@ from planner.errors import UserError
 
 _OMM_KEYWORDS = frozenset(
     {
-        "CCSDS_OMM_VERS", "CREATION_DATE", "ORIGINATOR", "OBJECT_NAME", "OBJECT_ID",
-        "CENTER_NAME", "REF_FRAME", "TIME_SYSTEM", "MEAN_ELEMENT_THEORY", "EPOCH",
-        "MEAN_MOTION", "ECCENTRICITY", "INCLINATION", "RA_OF_ASC_NODE",
-        "ARG_OF_PERICENTER", "MEAN_ANOMALY", "EPHEMERIS_TYPE", "CLASSIFICATION_TYPE",
-        "NORAD_CAT_ID", "ELEMENT_SET_NO", "REV_AT_EPOCH", "BSTAR", "MEAN_MOTION_DOT",
-        "MEAN_MOTION_DDOT", "SEMIMAJOR_AXIS", "PERIOD", "APOAPSIS", "PERIAPSIS",
+        "CCSDS_OMM_VERS",
+        "CREATION_DATE",
+        "ORIGINATOR",
+        "OBJECT_NAME",
+        "OBJECT_ID",
+        "CENTER_NAME",
+        "REF_FRAME",
+        "TIME_SYSTEM",
+        "MEAN_ELEMENT_THEORY",
+        "EPOCH",
+        "MEAN_MOTION",
+        "ECCENTRICITY",
+        "INCLINATION",
+        "RA_OF_ASC_NODE",
+        "ARG_OF_PERICENTER",
+        "MEAN_ANOMALY",
+        "EPHEMERIS_TYPE",
+        "CLASSIFICATION_TYPE",
+        "NORAD_CAT_ID",
+        "ELEMENT_SET_NO",
+        "REV_AT_EPOCH",
+        "BSTAR",
+        "MEAN_MOTION_DOT",
+        "MEAN_MOTION_DDOT",
+        "SEMIMAJOR_AXIS",
+        "PERIOD",
+        "APOAPSIS",
+        "PERIAPSIS",
     }
 )
 _OMM_REQUIRED = (
-    "EPOCH", "MEAN_MOTION", "ECCENTRICITY", "INCLINATION", "RA_OF_ASC_NODE",
-    "ARG_OF_PERICENTER", "MEAN_ANOMALY", "NORAD_CAT_ID", "BSTAR",
+    "EPOCH",
+    "MEAN_MOTION",
+    "ECCENTRICITY",
+    "INCLINATION",
+    "RA_OF_ASC_NODE",
+    "ARG_OF_PERICENTER",
+    "MEAN_ANOMALY",
+    "NORAD_CAT_ID",
+    "BSTAR",
 )
 
 
@@ -68,8 +97,7 @@ def _omm_field(where: str, fields: dict, key: str, default, pattern, expected: s
     value = fields.get(key)
     if value is None:
         if default is None:
-            raise UserError(f"{where}: required keyword {key} is missing; an OMM for SGP4 needs "
-                            + ", ".join(_OMM_REQUIRED))
+            raise UserError(f"{where}: required keyword {key} is missing; an OMM for SGP4 needs " + ", ".join(_OMM_REQUIRED))
         return None
     if not pattern.fullmatch(value):
         raise UserError(f"{where}: {key} is {_clip(value)}; expected {expected}")
@@ -109,8 +137,7 @@ def _omm_integer(where: str, fields: dict, key: str, low: int, high: int, defaul
 def _omm_epoch(where: str, fields: dict) -> datetime:
     value = fields.get("EPOCH")
     if value is None:
-        raise UserError(f"{where}: required keyword EPOCH is missing; an OMM for SGP4 needs "
-                        + ", ".join(_OMM_REQUIRED))
+        raise UserError(f"{where}: required keyword EPOCH is missing; an OMM for SGP4 needs " + ", ".join(_OMM_REQUIRED))
     allowed = "expected ISO 8601 UTC like 2027-01-03T12:00:00.000000 (fraction and trailing Z optional)"
     match = _EPOCH_RE.fullmatch(value)
     if not match:
@@ -123,13 +150,12 @@ def _omm_epoch(where: str, fields: dict) -> datetime:
             day_of_year = int(match["doy"])
             if not 1 <= day_of_year <= 366:
                 raise ValueError("day of year out of range")
-            date = datetime(year, 1, 1, tzinfo=timezone.utc) + timedelta(days=day_of_year - 1)
+            date = datetime(year, 1, 1, tzinfo=UTC) + timedelta(days=day_of_year - 1)
             if date.year != year:
                 raise ValueError("day of year out of range")
         else:
-            date = datetime(year, int(match["month"]), int(match["day"]), tzinfo=timezone.utc)
-        clock = date.replace(hour=int(match["hour"]), minute=int(match["minute"]),
-                             second=int(match["second"]))
+            date = datetime(year, int(match["month"]), int(match["day"]), tzinfo=UTC)
+        clock = date.replace(hour=int(match["hour"]), minute=int(match["minute"]), second=int(match["second"]))
     except ValueError:
         raise UserError(f"{where}: EPOCH is {_clip(value)}, not a calendar date and time; {allowed}") from None
     fraction = match["fraction"] or "."
@@ -173,8 +199,7 @@ def _omm_element_set(fields: dict, where: str, source: str) -> ElementSet:
     _check_range(where, "ARG_OF_PERICENTER (deg)", argp_deg, 0.0, 360.0)
     _check_range(where, "MEAN_ANOMALY (deg)", anomaly_deg, 0.0, 360.0)
     if ephemeris_type == 4:
-        raise UserError(f"{where}: EPHEMERIS_TYPE is 4 (SGP4-XP elements); this planner propagates "
-                        "SGP4 elements (type 0)")
+        raise UserError(f"{where}: EPHEMERIS_TYPE is 4 (SGP4-XP elements); this planner propagates SGP4 elements (type 0)")
     if len(classification) != 1 or not ("A" <= classification.upper() <= "Z"):
         raise UserError(f"{where}: CLASSIFICATION_TYPE is {_clip(classification)}; expected one letter (U, C or S)")
 
@@ -184,9 +209,19 @@ def _omm_element_set(fields: dict, where: str, source: str) -> ElementSet:
     # the propagation, so a larger one lives on the ElementSet alone and SGP4 is given 0.
     satnum = norad_id if norad_id <= MAX_CATALOG_NUMBER else 0
     satrec.sgp4init(
-        WGS72, "i", satnum, _days_since_sgp4_epoch0(epoch), bstar, ndot / _NDOT_UNITS, nddot / _NDDOT_UNITS,
-        eccentricity, math.radians(argp_deg), math.radians(inclination_deg), math.radians(anomaly_deg),
-        mean_motion / _REV_PER_DAY_PER_RAD_PER_MIN, math.radians(raan_deg),
+        WGS72,
+        "i",
+        satnum,
+        _days_since_sgp4_epoch0(epoch),
+        bstar,
+        ndot / _NDOT_UNITS,
+        nddot / _NDDOT_UNITS,
+        eccentricity,
+        math.radians(argp_deg),
+        math.radians(inclination_deg),
+        math.radians(anomaly_deg),
+        mean_motion / _REV_PER_DAY_PER_RAD_PER_MIN,
+        math.radians(raan_deg),
     )
     satrec.classification = classification.upper()
     object_id = _OBJECT_ID_RE.fullmatch(fields.get("OBJECT_ID") or "")
@@ -202,8 +237,10 @@ def _omm_name(where: str, text: str) -> str:
     """OBJECT_NAME with runs of spaces made one; control characters are refused, not folded."""
     bad = control_character(text)
     if bad is not None:
-        raise UserError(f"{where}: OBJECT_NAME holds the control character {bad[1]} at character "
-                        f"{bad[0]}; a satellite name is printable text (no control characters)")
+        raise UserError(
+            f"{where}: OBJECT_NAME holds the control character {bad[1]} at character "
+            f"{bad[0]}; a satellite name is printable text (no control characters)"
+        )
     return " ".join(text.split())
 
 

@@ -33,12 +33,12 @@ def _read_omm_csv(text: str, label: str) -> list[ElementSet]:
                     raise UserError(
                         f"{label}:{line}: OMM CSV header lacks "
                         + (", ".join(missing) if missing else "OMM keywords")
-                        + "; the first row names OMM keywords such as " + ", ".join(_OMM_REQUIRED)
+                        + "; the first row names OMM keywords such as "
+                        + ", ".join(_OMM_REQUIRED)
                     )
                 duplicates = sorted({key for key in header if key and header.count(key) > 1})
                 if duplicates:
-                    raise UserError(f"{label}:{line}: OMM CSV header repeats {', '.join(duplicates)}; "
-                                    "name each keyword once")
+                    raise UserError(f"{label}:{line}: OMM CSV header repeats {', '.join(duplicates)}; name each keyword once")
                 continue
             if len(row) != len(header):
                 raise UserError(

@@ -55,8 +55,7 @@ def _read_omm_json(text: str, label: str) -> list[ElementSet]:
     elif isinstance(data, list):
         entries = data
     else:
-        raise UserError(f"{label}:1: OMM JSON must be a list of objects or one object, "
-                        f"found a {type(data).__name__}")
+        raise UserError(f"{label}:1: OMM JSON must be a list of objects or one object, found a {type(data).__name__}")
     try:
         lines = _json_entry_lines(text)
     except (ValueError, IndexError, RecursionError):  # pragma: no cover - json.loads accepted it

@@ -58,8 +58,7 @@ def _parse_xml(text: str, label: str) -> _Node:
             stack[-1].text += data
 
     def no_doctype(*_args):
-        raise UserError(f"{label}:{parser.CurrentLineNumber}: OMM XML must not carry a DOCTYPE "
-                        "declaration; remove it")
+        raise UserError(f"{label}:{parser.CurrentLineNumber}: OMM XML must not carry a DOCTYPE declaration; remove it")
 
     parser.StartElementHandler = start
     parser.EndElementHandler = end
@@ -69,8 +68,7 @@ def _parse_xml(text: str, label: str) -> _Node:
         parser.Parse(text.encode("utf-8"), True)
     except expat.ExpatError as exc:
         raise UserError(
-            f"{label}:{exc.lineno}: not well-formed XML: {expat.ErrorString(exc.code)} "
-            f"(column {exc.offset + 1})"
+            f"{label}:{exc.lineno}: not well-formed XML: {expat.ErrorString(exc.code)} (column {exc.offset + 1})"
         ) from None
     except RecursionError:  # pragma: no cover - expat builds no Python recursion
         raise UserError(f"{label}: not valid OMM XML: nested too deeply") from None
@@ -82,8 +80,7 @@ def _read_omm_xml(text: str, label: str) -> list[ElementSet]:
     segments = list(root.iter("segment"))
     if not segments:
         raise UserError(
-            f"{label}:{root.line}: no OMM segment found; expected CCSDS NDM/XML "
-            "ndm/omm/body/segment with metadata and data"
+            f"{label}:{root.line}: no OMM segment found; expected CCSDS NDM/XML ndm/omm/body/segment with metadata and data"
         )
     element_sets = []
     for number, segment in enumerate(segments, start=1):
@@ -92,12 +89,16 @@ def _read_omm_xml(text: str, label: str) -> list[ElementSet]:
         data = segment.child("data")
         if metadata is None or data is None:
             missing = "metadata" if metadata is None else "data"
-            raise UserError(f"{where}: <segment> has no <{missing}>; an OMM segment holds "
-                            "<metadata> and <data> (with <meanElements> and <tleParameters>)")
+            raise UserError(
+                f"{where}: <segment> has no <{missing}>; an OMM segment holds "
+                "<metadata> and <data> (with <meanElements> and <tleParameters>)"
+            )
         mean_elements = data.child("meanElements")
         if mean_elements is None:
-            raise UserError(f"{label}:{data.line}: segment {number}: <data> has no <meanElements>; "
-                            "it holds EPOCH, MEAN_MOTION, ECCENTRICITY, ...")
+            raise UserError(
+                f"{label}:{data.line}: segment {number}: <data> has no <meanElements>; "
+                "it holds EPOCH, MEAN_MOTION, ECCENTRICITY, ..."
+            )
         fields: dict[str, str | None] = {}
         lines: dict[str, int] = {}
         for block in (metadata, mean_elements, data.child("tleParameters")):

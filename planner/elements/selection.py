@@ -43,8 +43,7 @@ def select_element_set(
     if not source:
         source = element_sets[0].source.rsplit(":", 1)[0] if element_sets else "elements"
     if norad_id is None and (name is None or not name.strip()):
-        raise UserError(f"{source}: no satellite chosen; give norad_id or name "
-                        f"(available: {_available(element_sets) or 'none'})")
+        raise UserError(f"{source}: no satellite chosen; give norad_id or name (available: {_available(element_sets) or 'none'})")
     if not element_sets:
         raise UserError(f"{source}: no element sets to choose from; expected TLE, 3LE or OMM (XML/CSV/JSON)")
     if norad_id is not None:
@@ -58,9 +57,7 @@ def select_element_set(
         raise UserError(f"{source}: no element set for {wanted}; available: {_available(element_sets)}")
     ids = sorted({es.norad_id for es in matches})
     if len(ids) > 1:
-        raise UserError(
-            f"{source}: {wanted} is ambiguous, it matches {_available(matches)}; choose by norad_id"
-        )
+        raise UserError(f"{source}: {wanted} is ambiguous, it matches {_available(matches)}; choose by norad_id")
     return max(matches, key=lambda es: es.epoch)
 
 
@@ -96,11 +93,11 @@ def check_element_age(
         age = element_age_days(element_set, window_start, window_end)
         head = f"{element_set.source}: elements for {element_set.label} are {age:.1f} days from the window"
         if age > STALE_REFUSAL_DAYS and not allow_stale:
-            raise UserError(
-                f"{head}; refused beyond {STALE_REFUSAL_DAYS:g} days (use --allow-stale to go on)"
-            )
+            raise UserError(f"{head}; refused beyond {STALE_REFUSAL_DAYS:g} days (use --allow-stale to go on)")
         if age > STALE_REFUSAL_DAYS:
-            warn(f"{head}; beyond {STALE_REFUSAL_DAYS:g} days, going on because of --allow-stale; "
-                 "pass times may be far off, fetch newer elements")
+            warn(
+                f"{head}; beyond {STALE_REFUSAL_DAYS:g} days, going on because of --allow-stale; "
+                "pass times may be far off, fetch newer elements"
+            )
         elif age > STALE_WARNING_DAYS:
             warn(f"{head}; beyond {STALE_WARNING_DAYS:g} days pass times drift, fetch newer elements")

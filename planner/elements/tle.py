@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import math
 import re
-from datetime import datetime, timedelta, timezone
+from datetime import UTC, datetime, timedelta
 from decimal import Decimal
 
 from sgp4.alpha5 import from_alpha5
@@ -102,25 +102,15 @@ def _read_tle(text: str, label: str) -> list[ElementSet]:
             has_next = False  # two line 1s in a row: the first lacks its line 2
         if line1[0] != "1":
             if line1[0] == "2" and not has_next:
-                raise UserError(
-                    f"{label}:{number1}: TLE line 2 without a line 1 before it; "
-                    "each element set is line 1 then line 2"
-                )
-            raise UserError(
-                f"{label}:{number1}: column 1 is {line1[0]!r}; the first line of an element set "
-                "must start with '1'"
-            )
+                raise UserError(f"{label}:{number1}: TLE line 2 without a line 1 before it; each element set is line 1 then line 2")
+            raise UserError(f"{label}:{number1}: column 1 is {line1[0]!r}; the first line of an element set must start with '1'")
         if not has_next:
             raise UserError(
-                f"{label}:{number1}: TLE line 1 without line 2 (file truncated?); "
-                "each element set is line 1 then line 2"
+                f"{label}:{number1}: TLE line 1 without line 2 (file truncated?); each element set is line 1 then line 2"
             )
         number2, line2 = lines[i + 1]
         if line2[0] != "2":
-            raise UserError(
-                f"{label}:{number2}: column 1 is {line2[0]!r}; the second line of an element set "
-                "must start with '2'"
-            )
+            raise UserError(f"{label}:{number2}: column 1 is {line2[0]!r}; the second line of an element set must start with '2'")
         source = f"{label}:{start_number if title else number1}"
         element_sets.append(_tle_element_set(title, label, number1, line1, number2, line2, source))
         i += 2
@@ -139,9 +129,7 @@ def _column_field(label, number, line, first, last, name, spec) -> str:
     pattern, allowed = spec
     value = line[first - 1 : last]
     if not re.fullmatch(pattern, value):
-        raise UserError(
-            f"{label}:{number}: {name} (columns {first}-{last}) is {_clip(value)}; expected {allowed}"
-        )
+        raise UserError(f"{label}:{number}: {name} (columns {first}-{last}) is {_clip(value)}; expected {allowed}")
     return value
 
 
@@ -165,16 +153,12 @@ def _check_line_shape(label: str, number: int, line: str, which: int) -> None:
     if not line.isascii() or not line.isprintable():
         bad = next(c for c in line if not (c.isascii() and c.isprintable()))
         raise UserError(
-            f"{label}:{number}: TLE line {which} contains {bad!r} at column {line.index(bad) + 1}; "
-            "TLE lines are printable ASCII"
+            f"{label}:{number}: TLE line {which} contains {bad!r} at column {line.index(bad) + 1}; TLE lines are printable ASCII"
         )
     given = line[68]
     computed = tle_checksum(line)
     if not given.isdigit():
-        raise UserError(
-            f"{label}:{number}: checksum (column 69) is {given!r}, computed {computed}; "
-            "it must be a digit"
-        )
+        raise UserError(f"{label}:{number}: checksum (column 69) is {given!r}, computed {computed}; it must be a digit")
     if int(given) != computed:
         raise UserError(
             f"{label}:{number}: checksum is {given}, computed {computed} "
@@ -188,9 +172,7 @@ def _check_line_shape(label: str, number: int, line: str, which: int) -> None:
             )
 
 
-def _tle_element_set(
-    title: str, label: str, number1: int, line1: str, number2: int, line2: str, source: str
-) -> ElementSet:
+def _tle_element_set(title: str, label: str, number1: int, line1: str, number2: int, line2: str, source: str) -> ElementSet:
     _check_line_shape(label, number1, line1, 1)
     _check_line_shape(label, number2, line2, 2)
     where1, where2 = f"{label}:{number1}", f"{label}:{number2}"
@@ -208,21 +190,21 @@ def _tle_element_set(
     _column_field(label, number1, line1, 8, 8, "classification", (r"[A-Z ]", "U, C, S or blank"))
     year_text = _column_field(label, number1, line1, 19, 20, "epoch year", (r"[0-9]{2}", "two digits"))
     day_text = _column_field(
-        label, number1, line1, 21, 32, "epoch day of year",
+        label,
+        number1,
+        line1,
+        21,
+        32,
+        "epoch day of year",
         (r" *[0-9]{1,3}\.[0-9]* *", "day of year with fraction, like 003.50000000"),
     )
     ndot_text = _column_field(label, number1, line1, 34, 43, "mean motion first derivative", _DECIMAL)
     nddot_text = _column_field(label, number1, line1, 45, 52, "mean motion second derivative", _EXP)
     bstar_text = _column_field(label, number1, line1, 54, 61, "BSTAR drag term", _EXP)
-    ephemeris_type = _column_field(
-        label, number1, line1, 63, 63, "ephemeris type", (r"[0-9 ]", "a digit (0 for SGP4)")
-    )
+    ephemeris_type = _column_field(label, number1, line1, 63, 63, "ephemeris type", (r"[0-9 ]", "a digit (0 for SGP4)"))
     _column_field(label, number1, line1, 65, 68, "element set number", (r" *[0-9]*", "up to 4 digits"))
     if ephemeris_type == "4":
-        raise UserError(
-            f"{where1}: ephemeris type is 4 (SGP4-XP elements); this planner propagates SGP4 "
-            "elements (type 0)"
-        )
+        raise UserError(f"{where1}: ephemeris type is 4 (SGP4-XP elements); this planner propagates SGP4 elements (type 0)")
 
     two_digit_year = int(year_text)
     # TLE convention: 57-99 are 1957-1999, 00-56 are 2000-2056, always inside EARLIEST_YEAR to
@@ -231,19 +213,19 @@ def _tle_element_set(
     day_of_year = Decimal(day_text.strip())
     days_in_year = (datetime(year + 1, 1, 1) - datetime(year, 1, 1)).days
     if not 1 <= day_of_year < days_in_year + 1:
-        raise UserError(
-            f"{where1}: epoch day of year is {day_text.strip()}; {year} allows 1 to "
-            f"{days_in_year}.99999999"
-        )
-    epoch = datetime(year, 1, 1, tzinfo=timezone.utc) + timedelta(
-        microseconds=int(((day_of_year - 1) * 86_400_000_000).to_integral_value())
-    )
+        raise UserError(f"{where1}: epoch day of year is {day_text.strip()}; {year} allows 1 to {days_in_year}.99999999")
+    epoch = datetime(year, 1, 1, tzinfo=UTC) + timedelta(microseconds=int(((day_of_year - 1) * 86_400_000_000).to_integral_value()))
 
     # Line 2
     inclination_text = _column_field(label, number2, line2, 9, 16, "inclination", _DECIMAL)
     raan_text = _column_field(label, number2, line2, 18, 25, "right ascension of the ascending node", _DECIMAL)
     eccentricity_text = _column_field(
-        label, number2, line2, 27, 33, "eccentricity",
+        label,
+        number2,
+        line2,
+        27,
+        33,
+        "eccentricity",
         (r" *[0-9]+", "7 digits with an implied leading decimal point, like 0001234"),
     )
     argp_text = _column_field(label, number2, line2, 35, 42, "argument of perigee", _DECIMAL)

@@ -80,10 +80,8 @@ NEGLECTED: list[str] = [
     "ionospheric scintillation: can matter at VHF at high and low (equatorial) latitudes",
     "ionospheric Faraday rotation: turns a linear wave's plane; covered by the random-tilt "
     "(tumbling) model against circular ground antennas, not modelled for linear ones",
-    "multipath and ground reflections near the horizon (the pattern table is free-space "
-    "or image-theory, not the real site)",
-    "refraction beyond the ray bending inside the P.676 path sum (apparent versus true "
-    "elevation)",
+    "multipath and ground reflections near the horizon (the pattern table is free-space or image-theory, not the real site)",
+    "refraction beyond the ray bending inside the P.676 path sum (apparent versus true elevation)",
     "pointing and attitude of the spacecraft antenna beyond the gain given for it",
     "Doppler tracking losses in the receiver",
     "interference from other transmitters",
@@ -109,12 +107,8 @@ def _slant_path_loss_db(frequency_ghz: float, elevation_deg: np.ndarray, station
     height_km, thickness_km = _layer_heights_km(station_km)
     temperature_k = itu835.standard_temperature(height_km).to("K").value
     pressure_hpa = itu835.standard_pressure(height_km).value
-    water_g_m3 = itu835.standard_water_vapour_density(
-        height_km, rho_0=REFERENCE_SURFACE_WATER_VAPOUR_G_M3
-    ).value
-    gamma_db_km = np.asarray(
-        itu676.gamma_exact(frequency_ghz, pressure_hpa, water_g_m3, temperature_k).value, dtype=float
-    )
+    water_g_m3 = itu835.standard_water_vapour_density(height_km, rho_0=REFERENCE_SURFACE_WATER_VAPOUR_G_M3).value
+    gamma_db_km = np.asarray(itu676.gamma_exact(frequency_ghz, pressure_hpa, water_g_m3, temperature_k).value, dtype=float)
     vapour_pressure_hpa = water_g_m3 * temperature_k / 216.7
     refractive_index = np.asarray(
         itu453.radio_refractive_index(pressure_hpa, vapour_pressure_hpa, temperature_k).value, dtype=float
@@ -164,9 +158,7 @@ def gaseous_loss_db(frequency_hz: float, elevation_deg, *, altitude_m: float = 0
         raise UserError(f"atmosphere: frequency_hz must be a positive number, got {frequency_hz!r}")
     altitude_m = float(altitude_m)
     if not (-500.0 <= altitude_m <= MAX_STATION_ALTITUDE_M):
-        raise UserError(
-            f"atmosphere: station altitude_m must be between -500 and {MAX_STATION_ALTITUDE_M:.0f}, got {altitude_m!r}"
-        )
+        raise UserError(f"atmosphere: station altitude_m must be between -500 and {MAX_STATION_ALTITUDE_M:.0f}, got {altitude_m!r}")
     altitude_m = max(altitude_m, 0.0)  # below sea level: use the sea-level reference
     elevation = np.asarray(elevation_deg, dtype=float)
     clipped = np.clip(elevation, MIN_ELEVATION_DEG, 90.0)

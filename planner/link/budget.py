@@ -42,15 +42,14 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from math import log10, pi
-
 from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
 
-from planner.link.atmosphere import gaseous_loss_db
 from planner.constants import BOLTZMANN_DBW_PER_K_HZ, EARTH_EQUATORIAL_RADIUS_KM, SPEED_OF_LIGHT_M_S
 from planner.errors import UserError, warn
+from planner.link.atmosphere import gaseous_loss_db
 from planner.link.feedline import cable_loss_db, mismatch_loss_db
 from planner.link.modem import required_ebn0_db
 from planner.link.noise import antenna_noise_temperature_k, receive_chain
@@ -133,33 +132,33 @@ def slant_range_limits_km(satrec, station, elevation_deg: float, azimuth_deg: fl
 class LinkSetup:
     """The parts of one link that stay fixed along a pass."""
 
-    direction: str                      # "downlink" or "uplink"
+    direction: str  # "downlink" or "uplink"
     satellite: str
     candidate: str
     frequency_hz: float
-    eirp_dbw: float                     # downlink: the satellite's; uplink: the station's
+    eirp_dbw: float  # downlink: the satellite's; uplink: the station's
     tx_power_dbw: float
     tx_antenna_gain_dbi: float
     tx_line_loss_db: float
-    wave: WavePolarization              # polarization the receiving antenna meets
+    wave: WavePolarization  # polarization the receiving antenna meets
     fade_percentile: float
     altitude_m: float
     data_rate_bps: float
-    required_ebn0_db: float | None      # theory + implementation loss - coding gain
+    required_ebn0_db: float | None  # theory + implementation loss - coding gain
     theory_ebn0_db: float | None
     implementation_loss_db: float
     coding_gain_db: float
-    required_cn0_dbhz: float | None     # given directly (analog modes); else None
-    system_noise_temperature_k: float   # at the antenna terminals: T_A + T_chain / M
+    required_cn0_dbhz: float | None  # given directly (analog modes); else None
+    system_noise_temperature_k: float  # at the antenna terminals: T_A + T_chain / M
     noise_terms: dict[str, float] = field(default_factory=dict)  # breakdown for the ladder
-    feedline_loss_db: float = 0.0       # station side: the main run, cables + connectors
-    mismatch_loss_db: float = 0.0       # -10 log10 M; charged in T_sys (see the module notes)
+    feedline_loss_db: float = 0.0  # station side: the main run, cables + connectors
+    mismatch_loss_db: float = 0.0  # -10 log10 M; charged in T_sys (see the module notes)
     pre_lna_loss_db: float | None = None  # downlink: between antenna and LNA; None for the uplink
-    antenna_noise_temperature_k: float | None = None   # T_A (downlink)
-    chain_noise_temperature_k: float | None = None     # T_chain / M at the antenna terminals (downlink)
-    notes: list[str] = field(default_factory=list)      # what the ladder must say (no feed data...)
+    antenna_noise_temperature_k: float | None = None  # T_A (downlink)
+    chain_noise_temperature_k: float | None = None  # T_chain / M at the antenna terminals (downlink)
+    notes: list[str] = field(default_factory=list)  # what the ladder must say (no feed data...)
     # Receiving antenna: a pattern table (downlink) or a fixed gain and polarization (uplink).
-    pattern: "PatternTable | None" = None
+    pattern: PatternTable | None = None
     fixed_gain_rhcp_dbic: float | None = None
     fixed_gain_lhcp_dbic: float | None = None
 
@@ -229,13 +228,17 @@ def candidate_antenna_noise(candidate, frequency_hz: float, receiver, station):
     """The candidate antenna's noise temperature at this station (sky, ground, man-made), integrated
     over its pattern: the costly part of a downlink set-up, shared by every satellite on one frequency."""
     return antenna_noise_temperature_k(
-        candidate.pattern, frequency_hz, station.noise_environment,
-        ground_temperature_k=receiver.ground_temperature_k, altitude_m=station.altitude_m,
+        candidate.pattern,
+        frequency_hz,
+        station.noise_environment,
+        ground_temperature_k=receiver.ground_temperature_k,
+        altitude_m=station.altitude_m,
     )
 
 
-def downlink_setup(sat, candidate, receiver, station, *, fade_percentile: float, source: str = "scenario",
-                   antenna_noise=None) -> LinkSetup:
+def downlink_setup(
+    sat, candidate, receiver, station, *, fade_percentile: float, source: str = "scenario", antenna_noise=None
+) -> LinkSetup:
     """Fixed parts of the satellite -> station link for one candidate set-up.
 
     ``sat`` is a satellite's configuration (planner.scenario.SatelliteConfig), ``candidate`` a
@@ -247,9 +250,10 @@ def downlink_setup(sat, candidate, receiver, station, *, fade_percentile: float,
     pattern = candidate.pattern
     check_pattern_frequency(candidate, sat, frequency_hz, source)
     feedline_db = _station_line_loss_db(candidate.feedline, candidate.connectors, candidate.connector_loss_db, frequency_hz)
-    pre_lna_db = _station_line_loss_db(
-        candidate.pre_lna_feedline, candidate.pre_lna_connectors, candidate.connector_loss_db, frequency_hz
-    ) + candidate.pre_lna_loss_db
+    pre_lna_db = (
+        _station_line_loss_db(candidate.pre_lna_feedline, candidate.pre_lna_connectors, candidate.connector_loss_db, frequency_hz)
+        + candidate.pre_lna_loss_db
+    )
     vswr = candidate.feed_vswr
     mismatch_db = 0.0 if vswr is None else float(mismatch_loss_db(vswr))
     noise = antenna_noise if antenna_noise is not None else candidate_antenna_noise(candidate, frequency_hz, receiver, station)
@@ -271,7 +275,7 @@ def downlink_setup(sat, candidate, receiver, station, *, fade_percentile: float,
     # Each stage's share at the antenna terminals (Friis; after the mismatch divided by M).
     noise_terms = {
         "antenna_sky_temperature_k": noise.sky_k,
-        "antenna_sky_atmosphere_k": noise.atmosphere_k,   # of the sky term: the atmosphere's emission
+        "antenna_sky_atmosphere_k": noise.atmosphere_k,  # of the sky term: the atmosphere's emission
         "antenna_ground_temperature_k": noise.ground_k,
         "man_made_noise_temperature_k": noise.man_made_k,
         "antenna_noise_temperature_k": noise.total_k,
@@ -450,10 +454,18 @@ LADDER = (
     ("rx_gain_lhcp_dbic", "dBic", "receiving antenna LHCP partial gain toward the other end"),
     ("rx_antenna_gain_dbic", "dBi", "receiving antenna total gain (RHCP + LHCP) toward the other end"),
     ("received_power_dbw", "dBW", "available carrier at the antenna terminals = EIRP - L_fs - L_atm - L_pol + gain"),
-    ("mismatch_loss_db", "dB", "feed mismatch -10 log10(M), M = 1 - |Gamma|^2: scales carrier and antenna noise alike, so charged once, in T_sys (T_chain / M)"),
+    (
+        "mismatch_loss_db",
+        "dB",
+        "feed mismatch -10 log10(M), M = 1 - |Gamma|^2: scales carrier and antenna noise alike, so charged once, in T_sys (T_chain / M)",
+    ),
     ("pre_lna_loss_db", "dB", "between antenna and LNA: jumper cables, connectors, switch, bias-tee (before the LNA)"),
     ("feedline_loss_db", "dB", "main feedline: station cables and connectors"),
-    ("antenna_noise_temperature_k", "K", "T_A: sky (with the atmosphere's emission) + ground + man-made noise the pattern picks up"),
+    (
+        "antenna_noise_temperature_k",
+        "K",
+        "T_A: sky (with the atmosphere's emission) + ground + man-made noise the pattern picks up",
+    ),
     ("chain_noise_temperature_k", "K", "T_chain / M: pre-LNA loss, LNA, feedline and receiver by Friis, at the antenna terminals"),
     ("system_noise_temperature_k", "K", "T_sys = T_A + T_chain / M, at the antenna terminals"),
     ("g_over_t_dbk", "dB/K", "receiving figure of merit G/T = gain - 10 log10(T_sys)"),

@@ -29,8 +29,8 @@ from __future__ import annotations
 
 import math
 import re
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
-from typing import Iterable, Mapping, Sequence
 
 import numpy as np
 from scipy.optimize import nnls
@@ -71,42 +71,50 @@ class Cable:
 # PTFE about 0.695 (common practice, from memory).
 CATALOG_POINTS: dict[str, dict] = {
     "RG-174": dict(
-        impedance_ohm=50.0, velocity_factor=0.66,
+        impedance_ohm=50.0,
+        velocity_factor=0.66,
         points=[(10, 9.5), (50, 19.0), (100, 28.0), (200, 39.0), (400, 56.0), (1000, 95.0)],
         note="thin 2.8 mm, solid PE; short jumpers only",
     ),
     "RG-316": dict(
-        impedance_ohm=50.0, velocity_factor=0.695,
+        impedance_ohm=50.0,
+        velocity_factor=0.695,
         points=[(10, 10.0), (50, 20.0), (100, 28.0), (200, 40.0), (400, 57.0), (1000, 95.0)],
         note="thin 2.5 mm, PTFE; jumpers, high temperature",
     ),
     "RG-58": dict(
-        impedance_ohm=50.0, velocity_factor=0.66,
+        impedance_ohm=50.0,
+        velocity_factor=0.66,
         points=[(10, 4.6), (50, 10.5), (100, 15.5), (200, 22.0), (400, 31.5), (1000, 54.0)],
         note="5 mm, solid PE",
     ),
     "RG-8X": dict(
-        impedance_ohm=50.0, velocity_factor=0.82,
+        impedance_ohm=50.0,
+        velocity_factor=0.82,
         points=[(10, 3.3), (50, 7.5), (100, 10.8), (200, 15.5), (400, 22.5), (1000, 37.0)],
         note="6 mm, foamed PE",
     ),
     "RG-213": dict(
-        impedance_ohm=50.0, velocity_factor=0.66,
+        impedance_ohm=50.0,
+        velocity_factor=0.66,
         points=[(10, 2.0), (50, 4.6), (100, 6.8), (200, 9.9), (400, 15.0), (1000, 26.0)],
         note="10.3 mm, solid PE",
     ),
     "RG-214": dict(
-        impedance_ohm=50.0, velocity_factor=0.66,
+        impedance_ohm=50.0,
+        velocity_factor=0.66,
         points=[(10, 2.2), (50, 5.0), (100, 7.2), (200, 10.5), (400, 15.8), (1000, 27.0)],
         note="10.8 mm, solid PE, double silver-plated braid",
     ),
     "RG-142": dict(
-        impedance_ohm=50.0, velocity_factor=0.695,
+        impedance_ohm=50.0,
+        velocity_factor=0.695,
         points=[(10, 4.3), (50, 9.5), (100, 13.5), (200, 19.5), (400, 28.0), (1000, 46.0)],
         note="5 mm, PTFE, double silver-plated braid",
     ),
     "RG-6": dict(
-        impedance_ohm=75.0, velocity_factor=0.83,
+        impedance_ohm=75.0,
+        velocity_factor=0.83,
         points=[(10, 2.0), (50, 4.9), (100, 6.9), (200, 9.5), (400, 13.8), (1000, 22.0)],
         note="75 ohm, 6.9 mm, foamed PE (TV type); mismatched in a 50 ohm system",
     ),
@@ -148,9 +156,7 @@ def cable_from_points(
     try:
         table = np.asarray([tuple(map(float, p)) for p in points], dtype=float)
     except (TypeError, ValueError):
-        raise UserError(
-            f"cable '{name}': points must be a list of [frequency_mhz, db_per_100m] pairs"
-        ) from None
+        raise UserError(f"cable '{name}': points must be a list of [frequency_mhz, db_per_100m] pairs") from None
     if table.ndim != 2 or table.shape[1] != 2:
         raise UserError(f"cable '{name}': points must be a list of [frequency_mhz, db_per_100m] pairs")
     if not np.all(np.isfinite(table)) or np.any(table <= 0):
@@ -195,7 +201,10 @@ def cable_from_coefficients(
 def _build_catalog() -> dict[str, Cable]:
     return {
         name: cable_from_points(
-            name, spec["points"], spec["impedance_ohm"], spec["velocity_factor"],
+            name,
+            spec["points"],
+            spec["impedance_ohm"],
+            spec["velocity_factor"],
             note=spec["note"] + " (catalog values from memory, datasheet-typical, +/-25 %)",
         )
         for name, spec in CATALOG_POINTS.items()

@@ -14,8 +14,15 @@ import numpy as np
 from planner.errors import UserError, warn
 
 
-def budget_geometry(study, satellite_name: str, pass_number: int | None = None, at: datetime | None = None,
-                    elevation_deg: float | None = None, range_km: float | None = None, azimuth_deg: float | None = None):
+def budget_geometry(
+    study,
+    satellite_name: str,
+    pass_number: int | None = None,
+    at: datetime | None = None,
+    elevation_deg: float | None = None,
+    range_km: float | None = None,
+    azimuth_deg: float | None = None,
+):
     """(azimuth_deg, elevation_deg, range_km, label, the pass or None) for a budget of ``satellite_name``.
 
     Exactly one of ``pass_number`` (1 = the first pass of the window; the budget is at its TCA),
@@ -33,11 +40,19 @@ def budget_geometry(study, satellite_name: str, pass_number: int | None = None, 
     if pass_number is not None:
         found = predict_passes(target, study.station, study.start_utc, study.end_utc, step_s=study.step_s)
         if not 1 <= pass_number <= len(found):
-            raise UserError(f"--pass: {pass_number} is out of range; {target.display_name} has {len(found)} passes in the window (1 to {len(found)})")
+            raise UserError(
+                f"--pass: {pass_number} is out of range; {target.display_name} has {len(found)} passes in the window (1 to {len(found)})"
+            )
         chosen_pass = found[pass_number - 1]
         observer = Observer(study.station, chosen_pass.tca_utc, 0.0)
         look = observer.look(target.element_set.satrec, np.array([0.0]))
-        return look.azimuth_deg[0], look.elevation_deg[0], look.range_km[0], f"TCA of pass {pass_number}, {iso_utc(chosen_pass.tca_utc)}", chosen_pass
+        return (
+            look.azimuth_deg[0],
+            look.elevation_deg[0],
+            look.range_km[0],
+            f"TCA of pass {pass_number}, {iso_utc(chosen_pass.tca_utc)}",
+            chosen_pass,
+        )
     if at is not None:
         from planner.elements import check_element_age
 
@@ -47,7 +62,9 @@ def budget_geometry(study, satellite_name: str, pass_number: int | None = None, 
         if not np.isfinite(look.elevation_deg[0]):
             raise UserError(f"--at: SGP4 cannot propagate {target.display_name} to {iso_utc(moment)}")
         if look.elevation_deg[0] < study.station.mask.min_elevation_at(look.azimuth_deg)[0]:
-            warn(f"{target.display_name} is below the horizon mask at {iso_utc(moment)} (elevation {look.elevation_deg[0]:.1f} deg)")
+            warn(
+                f"{target.display_name} is below the horizon mask at {iso_utc(moment)} (elevation {look.elevation_deg[0]:.1f} deg)"
+            )
         return look.azimuth_deg[0], look.elevation_deg[0], look.range_km[0], iso_utc(moment), None
     if not -90.0 <= elevation_deg <= 90.0:
         raise UserError(f"--elevation-deg: {elevation_deg:g} is out of range; allowed -90 to 90")
@@ -60,8 +77,10 @@ def budget_geometry(study, satellite_name: str, pass_number: int | None = None, 
             raise UserError("--elevation-deg: below 0 give --range-km as well")
         radius_km = orbit_radii_km(satrec)[1]
         range_km = float(slant_range_km(elevation_deg, radius_km, study.station, azimuth))
-        label = (f"elevation {elevation_deg:g} deg, range {range_km:.0f} km to the orbit's mean radius {radius_km:.0f} km "
-                 "from the station's WGS84 position")
+        label = (
+            f"elevation {elevation_deg:g} deg, range {range_km:.0f} km to the orbit's mean radius {radius_km:.0f} km "
+            "from the station's WGS84 position"
+        )
     else:
         if not np.isfinite(range_km) or range_km <= 0:
             raise UserError(f"--range-km: {range_km:g} is out of range; allowed a finite number more than 0")

@@ -59,8 +59,8 @@ from planner.errors import UserError, warn
 MODULATIONS = ("bpsk", "qpsk", "dbpsk", "fsk-coherent", "fsk-noncoherent", "gmsk", "afsk-fm", "fm")
 NO_THEORY = ("afsk-fm", "fm")
 
-GMSK_ALPHA_BT_025 = 0.68        # Murota & Hirade via Rappaport (from memory, see docstring)
-GMSK_ALPHA_MSK = 0.85           # BT = infinity with the same receiver (from memory)
+GMSK_ALPHA_BT_025 = 0.68  # Murota & Hirade via Rappaport (from memory, see docstring)
+GMSK_ALPHA_MSK = 0.85  # BT = infinity with the same receiver (from memory)
 GMSK_BT_ANCHOR = 0.25
 GMSK_BT_MIN, GMSK_BT_MAX = 0.1, 1.0
 GMSK_BT_WARN_BELOW = 0.2
@@ -83,9 +83,7 @@ def _normalize(modulation: str) -> str:
 
 
 def _no_theory(name: str) -> UserError:
-    return UserError(
-        f"modulation '{name}' has no Eb/N0 threshold; give required_cn0_dbhz in the scenario"
-    )
+    return UserError(f"modulation '{name}' has no Eb/N0 threshold; give required_cn0_dbhz in the scenario")
 
 
 def _spill_fraction(bt: float) -> float:
@@ -100,9 +98,7 @@ def _spill_fraction(bt: float) -> float:
 def _check_bt(gmsk_bt: float) -> float:
     bt = float(gmsk_bt)
     if not GMSK_BT_MIN <= bt <= GMSK_BT_MAX:
-        raise UserError(
-            f"gmsk_bt = {gmsk_bt!r} is outside the modelled range {GMSK_BT_MIN} to {GMSK_BT_MAX}"
-        )
+        raise UserError(f"gmsk_bt = {gmsk_bt!r} is outside the modelled range {GMSK_BT_MIN} to {GMSK_BT_MAX}")
     if bt < GMSK_BT_WARN_BELOW:
         warn(
             f"gmsk_bt = {bt:g} is below {GMSK_BT_WARN_BELOW}: the GMSK degradation is "
@@ -172,7 +168,5 @@ def required_ebn0_db(modulation: str, target_ber: float, *, gmsk_bt: float = 0.5
 
     lo, hi = _EBN0_BRACKET_DB
     if excess(lo) <= 0.0:
-        raise UserError(
-            f"target_ber = {target_ber!r} is too close to 0.5 to resolve for {name}; give a smaller target"
-        )
+        raise UserError(f"target_ber = {target_ber!r} is too close to 0.5 to resolve for {name}; give a smaller target")
     return float(brentq(excess, lo, hi, xtol=1e-12, rtol=4.0 * np.finfo(float).eps, maxiter=200))

@@ -63,8 +63,8 @@ Feed mismatch
 from __future__ import annotations
 
 import re
+from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Sequence
 
 import numpy as np
 
@@ -116,9 +116,7 @@ def noise_temperature_to_figure_db(t_k):
 def _category(name: str) -> str:
     key = re.sub(r"[\s\-]+", "_", str(name).strip().lower())
     if key not in P372_CONSTANTS:
-        raise UserError(
-            f"unknown noise environment '{name}'; allowed: {', '.join(P372_CONSTANTS)}"
-        )
+        raise UserError(f"unknown noise environment '{name}'; allowed: {', '.join(P372_CONSTANTS)}")
     return key
 
 
@@ -201,12 +199,12 @@ def sky_brightness_k(
 class NoiseBreakdown:
     """Antenna noise temperature and where it comes from (K)."""
 
-    sky_k: float                 # everything from above the horizon (background + atmosphere)
+    sky_k: float  # everything from above the horizon (background + atmosphere)
     ground_k: float
     man_made_k: float
     total_k: float
     fraction_below_horizon: float
-    atmosphere_k: float = 0.0    # of sky_k: the clear atmosphere's own emission, T_mr (1 - 10^(-A/10))
+    atmosphere_k: float = 0.0  # of sky_k: the clear atmosphere's own emission, T_mr (1 - 10^(-A/10))
 
 
 def _elevation_cells() -> tuple[np.ndarray, np.ndarray]:
@@ -266,7 +264,10 @@ def antenna_noise_temperature_k(
     el_mid, _ = _elevation_cells()
     per_band = el.size // el_mid.size
     band_k = sky_brightness_k(
-        frequency_hz, el_mid, ground_temperature_k=ground_temperature_k, altitude_m=altitude_m,
+        frequency_hz,
+        el_mid,
+        ground_temperature_k=ground_temperature_k,
+        altitude_m=altitude_m,
         atmospheric_emission=atmospheric_emission,
     )
     brightness = np.repeat(band_k, per_band)

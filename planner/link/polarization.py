@@ -93,10 +93,10 @@ from planner.errors import UserError
 WAVE_KINDS = ("rhcp", "lhcp", "linear", "linear-tumbling")
 WaveKind = Literal["rhcp", "lhcp", "linear", "linear-tumbling"]
 
-MIN_EFFICIENCY = 1e-6           # clip for a cross-polarized null: at most 60 dB loss
+MIN_EFFICIENCY = 1e-6  # clip for a cross-polarized null: at most 60 dB loss
 MAX_LOSS_DB = -10.0 * np.log10(MIN_EFFICIENCY)
 
-_DB_TO_NEPER_FIELD = np.log(10.0) / 20.0   # field ratio in dB -> natural log of the ratio
+_DB_TO_NEPER_FIELD = np.log(10.0) / 20.0  # field ratio in dB -> natural log of the ratio
 
 
 def axial_ratio_db_to_tau(axial_ratio_db: ArrayLike, sense: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
@@ -120,9 +120,7 @@ def axial_ratio_db_to_tau(axial_ratio_db: ArrayLike, sense: ArrayLike) -> tuple[
     return sin2tau, cos2tau
 
 
-def tau_from_partial_gains(
-    gain_rhcp_dbic: ArrayLike, gain_lhcp_dbic: ArrayLike
-) -> tuple[np.ndarray, np.ndarray]:
+def tau_from_partial_gains(gain_rhcp_dbic: ArrayLike, gain_lhcp_dbic: ArrayLike) -> tuple[np.ndarray, np.ndarray]:
     """Ellipticity of an antenna from its RHCP and LHCP partial gains (dBic).
 
     Returns ``(sin2tau, cos2tau)`` = ``((G_R - G_L)/(G_R + G_L), 2 sqrt(G_R G_L)/(G_R + G_L))``,
@@ -135,7 +133,7 @@ def tau_from_partial_gains(
     with np.errstate(invalid="ignore"):
         u = (g_r - g_l) * _DB_TO_NEPER_FIELD
     sin2tau = np.tanh(u)
-    e = np.exp(-np.abs(u))                      # in [0, 1], 0 for an infinite ratio
+    e = np.exp(-np.abs(u))  # in [0, 1], 0 for an infinite ratio
     cos2tau = 2.0 * e / (1.0 + e * e)
     sin2tau, cos2tau = np.broadcast_arrays(sin2tau, cos2tau)
     return sin2tau, cos2tau
@@ -156,9 +154,7 @@ def efficiency(
     p = 0.5 * (
         1.0
         + np.asarray(sin2tau_w, dtype=float) * np.asarray(sin2tau_a, dtype=float)
-        + np.asarray(cos2tau_w, dtype=float)
-        * np.asarray(cos2tau_a, dtype=float)
-        * np.asarray(cos2dtilt, dtype=float)
+        + np.asarray(cos2tau_w, dtype=float) * np.asarray(cos2tau_a, dtype=float) * np.asarray(cos2dtilt, dtype=float)
     )
     return np.clip(p, 0.0, 1.0)
 
@@ -178,14 +174,10 @@ class WavePolarization:
 
     def __post_init__(self) -> None:
         if self.kind not in WAVE_KINDS:
-            raise UserError(
-                f"polarization = {self.kind!r} is not known; allowed: {', '.join(WAVE_KINDS)}"
-            )
+            raise UserError(f"polarization = {self.kind!r} is not known; allowed: {', '.join(WAVE_KINDS)}")
         ar = float(self.axial_ratio_db)
         if not ar >= 0.0:  # also catches NaN
-            raise UserError(
-                f"axial_ratio_db = {self.axial_ratio_db!r} must be >= 0 dB (0 is circular)"
-            )
+            raise UserError(f"axial_ratio_db = {self.axial_ratio_db!r} must be >= 0 dB (0 is circular)")
 
     @property
     def is_linear(self) -> bool:

@@ -4,20 +4,29 @@ from __future__ import annotations
 
 import json
 import math
-from datetime import datetime, timedelta, timezone
-from typing import Iterable, Sequence
+from collections.abc import Iterable, Sequence
+from datetime import UTC, datetime, timedelta
 
 from planner.passes import Pass
 
 PASS_COLUMNS = (
-    "satellite", "norad_id", "aos_utc", "tca_utc", "los_utc", "duration_s", "max_elevation_deg",
-    "aos_azimuth_deg", "tca_azimuth_deg", "los_azimuth_deg", "min_range_km",
+    "satellite",
+    "norad_id",
+    "aos_utc",
+    "tca_utc",
+    "los_utc",
+    "duration_s",
+    "max_elevation_deg",
+    "aos_azimuth_deg",
+    "tca_azimuth_deg",
+    "los_azimuth_deg",
+    "min_range_km",
 )
 
 
 def iso_utc(moment: datetime) -> str:
     """ISO 8601 UTC to the nearest second, ending in ``Z``."""
-    moment = moment.astimezone(timezone.utc)
+    moment = moment.astimezone(UTC)
     rounded = (moment + timedelta(microseconds=500_000)).replace(microsecond=0)
     return rounded.strftime("%Y-%m-%dT%H:%M:%SZ")
 
@@ -171,8 +180,8 @@ def write_figures(folder, study, forecast, recommendation, *, rules=None) -> lis
     """Every report figure as PNG and SVG in ``folder``; returns the paths written.
 
     ``rules`` (planner.fileio.WriteRules) decide which files may be written; by default any."""
-    from planner.output import plots
     from planner.fileio import REPLACE_ANY, ensure_folder
+    from planner.output import plots
 
     rules = rules or REPLACE_ANY
     folder = ensure_folder(folder, "figure folder")
@@ -184,8 +193,10 @@ def write_figures(folder, study, forecast, recommendation, *, rules=None) -> lis
     for satellite in samples["satellite"].unique():
         mine = samples[(samples["candidate"] == best) & (samples["satellite"] == satellite)]
         fig = plots.sky_chart(
-            mine, title=f"{satellite}: tracks over {study.station.name}, margin with {best}",
-            min_margin_db=threshold, horizon_mask=study.station.mask,
+            mine,
+            title=f"{satellite}: tracks over {study.station.name}, margin with {best}",
+            min_margin_db=threshold,
+            horizon_mask=study.station.mask,
         )
         written += plots.save_figure(fig, folder, f"sky-{_slug(satellite)}", rules=rules)
     patterns = {name: study.candidate(name).pattern for name in forecast.outcomes["candidate"].unique()}
@@ -194,12 +205,19 @@ def write_figures(folder, study, forecast, recommendation, *, rules=None) -> lis
     if chosen is not None:
         satellite, number = chosen
         frames = {
-            name: group for name, group in samples[(samples["satellite"] == satellite) & (samples["pass_number"] == number)].groupby("candidate", sort=False)
+            name: group
+            for name, group in samples[(samples["satellite"] == satellite) & (samples["pass_number"] == number)].groupby(
+                "candidate", sort=False
+            )
         }
         title = f"{satellite} pass {number}: the pass where the candidates differ most"
-        written += plots.save_figure(plots.pass_margins(frames, title=title, min_margin_db=threshold, colours=colours), folder, "pass-margins", rules=rules)
+        written += plots.save_figure(
+            plots.pass_margins(frames, title=title, min_margin_db=threshold, colours=colours), folder, "pass-margins", rules=rules
+        )
     written += plots.save_figure(plots.usable_minutes_bars(forecast.weekly, colours=colours), folder, "usable-minutes", rules=rules)
-    written += plots.save_figure(plots.margin_by_band(samples, min_margin_db=threshold, colours=colours), folder, "margin-by-band", rules=rules)
+    written += plots.save_figure(
+        plots.margin_by_band(samples, min_margin_db=threshold, colours=colours), folder, "margin-by-band", rules=rules
+    )
     return written
 
 
@@ -236,8 +254,8 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
     """A report folder: tables as CSV, figures, the recommended set-up's calendar, summary.md."""
     from pathlib import Path
 
-    from planner.fileio import REPLACE_ANY, ensure_folder, write_atomically
     from planner.decision.forecast import band_table, hour_table
+    from planner.fileio import REPLACE_ANY, ensure_folder, write_atomically
     from planner.link.safety import STATION_CAUTIONS
 
     rules = rules or REPLACE_ANY
@@ -255,7 +273,9 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
         columns = columns or (list(rows[0]) if rows else [])
         written.append(write_atomically(folder / name, to_csv(rows, columns), rules=rules))
     written.append(write_atomically(folder / "compare.json", to_json(recommendation.to_contract()), rules=rules))
-    written.append(write_atomically(folder / "calendar.ics", calendar_ics(forecast.outcomes, study, recommendation.recommended), rules=rules))
+    written.append(
+        write_atomically(folder / "calendar.ics", calendar_ics(forecast.outcomes, study, recommendation.recommended), rules=rules)
+    )
     figures = write_figures(folder / "figures", study, forecast, recommendation, rules=rules)
     written += figures
     ranking = [
@@ -276,7 +296,8 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
         f"a sample counts at {study.scenario.criteria.min_margin_db:g} dB margin or more, a pass at "
         f"{study.scenario.criteria.min_usable_s:g} s usable.",
         "",
-        f"**Recommended: {recommendation.recommended}**" + ("" if recommendation.robust else " (sensitive to the budget; see below)"),
+        f"**Recommended: {recommendation.recommended}**"
+        + ("" if recommendation.robust else " (sensitive to the budget; see below)"),
         "",
         recommendation.explanation,
         "",

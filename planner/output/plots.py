@@ -26,9 +26,10 @@ from __future__ import annotations
 import math
 import os
 import sys
+from collections.abc import Mapping, Sequence
 from io import BytesIO
 from pathlib import Path
-from typing import Any, Mapping, Sequence, cast
+from typing import Any, cast
 
 import matplotlib
 
@@ -112,8 +113,17 @@ def _new_figure(figsize: tuple[float, float] = FIGSIZE_IN) -> Figure:
 
 
 def _no_data(ax, message: str = NO_DATA_TEXT) -> None:
-    ax.text(0.5, 0.5, message, transform=ax.transAxes, ha="center", va="center", fontsize=13,
-            color="#555555", bbox={"boxstyle": "round,pad=0.6", "facecolor": "white", "edgecolor": "#999999"})
+    ax.text(
+        0.5,
+        0.5,
+        message,
+        transform=ax.transAxes,
+        ha="center",
+        va="center",
+        fontsize=13,
+        color="#555555",
+        bbox={"boxstyle": "round,pad=0.6", "facecolor": "white", "edgecolor": "#999999"},
+    )
 
 
 def _is_empty(frame: pd.DataFrame | None) -> bool:
@@ -133,11 +143,20 @@ def _fmt_db(value: float) -> str:
 def _draw_threshold(ax, threshold_db: float):
     """Threshold line (black, labelled for the legend) over a light shade of the margins below it."""
     # added as a plain artist so the huge extent does not enter the autoscaled data limits
-    shade = Rectangle((0.0, threshold_db - 1e6), 1.0, 1e6, transform=ax.get_yaxis_transform(),
-                      facecolor=BELOW_THRESHOLD_SHADE, alpha=0.6, linewidth=0, zorder=0)
+    shade = Rectangle(
+        (0.0, threshold_db - 1e6),
+        1.0,
+        1e6,
+        transform=ax.get_yaxis_transform(),
+        facecolor=BELOW_THRESHOLD_SHADE,
+        alpha=0.6,
+        linewidth=0,
+        zorder=0,
+    )
     ax.add_artist(shade)
-    return ax.axhline(threshold_db, color=THRESHOLD_COLOUR, linewidth=1.2, zorder=2,
-                      label=f"threshold {_fmt_db(threshold_db)} dB (shaded below)")
+    return ax.axhline(
+        threshold_db, color=THRESHOLD_COLOUR, linewidth=1.2, zorder=2, label=f"threshold {_fmt_db(threshold_db)} dB (shaded below)"
+    )
 
 
 def _cut_margin_axis(ax, values: np.ndarray, threshold_db: float, *, below_db: float = 20.0) -> bool:
@@ -206,10 +225,16 @@ def sky_chart(
     ax.set_theta_zero_location("N")
     ax.set_theta_direction(-1)
     ax.set_rlim(0.0, 90.0)
-    ax.set_rgrids([90.0 - e for e in _SKY_RINGS_ELEVATION_DEG],
-                  labels=[f"{e:g}°" for e in _SKY_RINGS_ELEVATION_DEG], angle=22.5, fontsize=9, color="#333333")
-    ax.set_thetagrids(np.arange(0, 360, 30),
-                      labels=[{0: "N", 90: "E", 180: "S", 270: "W"}.get(a, f"{a}°") for a in range(0, 360, 30)])
+    ax.set_rgrids(
+        [90.0 - e for e in _SKY_RINGS_ELEVATION_DEG],
+        labels=[f"{e:g}°" for e in _SKY_RINGS_ELEVATION_DEG],
+        angle=22.5,
+        fontsize=9,
+        color="#333333",
+    )
+    ax.set_thetagrids(
+        np.arange(0, 360, 30), labels=[{0: "N", 90: "E", 180: "S", 270: "W"}.get(a, f"{a}°") for a in range(0, 360, 30)]
+    )
     ax.grid(True, color="#bbbbbb", linewidth=0.7)
     ax.set_title(title, pad=18)
     caption = "azimuth (deg) clockwise from north; rings: elevation (deg), zenith at centre, horizon at edge"
@@ -217,8 +242,7 @@ def sky_chart(
     if horizon_mask is not None:
         az = np.linspace(0.0, 360.0, 361)
         mask_el = np.clip(np.asarray(horizon_mask.min_elevation_at(az), dtype=float), 0.0, 90.0)
-        ax.fill_between(np.radians(az), 90.0 - mask_el, 90.0, color="#9a8f80", alpha=0.35, linewidth=0,
-                        label="horizon mask")
+        ax.fill_between(np.radians(az), 90.0 - mask_el, 90.0, color="#9a8f80", alpha=0.35, linewidth=0, label="horizon mask")
 
     norm = Normalize(vmin=min_margin_db - 10.0, vmax=min_margin_db + 10.0)
     extend = "neither"
@@ -258,16 +282,31 @@ def sky_chart(
                 ax.scatter(theta, radius, c=margin, cmap=MARGIN_CMAP, norm=norm, s=12, zorder=3)
             if len(theta) >= 1:
                 # AOS marker (shows the direction of travel); pass number at the highest point
-                ax.plot(theta[:1], radius[:1], marker="o", markersize=4, markerfacecolor="white",
-                        markeredgecolor="#222222", linestyle="none", zorder=4)
+                ax.plot(
+                    theta[:1],
+                    radius[:1],
+                    marker="o",
+                    markersize=4,
+                    markerfacecolor="white",
+                    markeredgecolor="#222222",
+                    linestyle="none",
+                    zorder=4,
+                )
                 if label_passes:
                     top = int(np.argmin(radius))
-                    text = str(int(number)) if isinstance(number, (int, np.integer, float)) and np.isfinite(number) \
-                        else str(number)
-                    ax.annotate(text, (theta[top], radius[top]), xytext=(0, 0), textcoords="offset points",
-                                fontsize=8, color="#222222", ha="center", va="center", zorder=5,
-                                bbox={"boxstyle": "circle,pad=0.2", "facecolor": "white", "edgecolor": "#666666",
-                                      "linewidth": 0.6})
+                    text = str(int(number)) if isinstance(number, (int, np.integer, float)) and np.isfinite(number) else str(number)
+                    ax.annotate(
+                        text,
+                        (theta[top], radius[top]),
+                        xytext=(0, 0),
+                        textcoords="offset points",
+                        fontsize=8,
+                        color="#222222",
+                        ha="center",
+                        va="center",
+                        zorder=5,
+                        bbox={"boxstyle": "circle,pad=0.2", "facecolor": "white", "edgecolor": "#666666", "linewidth": 0.6},
+                    )
         if segments:
             segs = np.concatenate(segments)
             mids = np.concatenate(seg_margin)
@@ -278,13 +317,28 @@ def sky_chart(
         handles: list[Artist] = [
             Line2D([], [], color="#555555", linewidth=3.2, label=f"margin ≥ {_fmt_db(min_margin_db)} dB"),
             Line2D([], [], color="#555555", linewidth=1.0, label=f"margin < {_fmt_db(min_margin_db)} dB"),
-            Line2D([], [], marker="o", markersize=4, markerfacecolor="white", markeredgecolor="#222222",
-                   linestyle="none", label="AOS" + (" (number: pass, at its highest point)" if label_passes else "")),
+            Line2D(
+                [],
+                [],
+                marker="o",
+                markersize=4,
+                markerfacecolor="white",
+                markeredgecolor="#222222",
+                linestyle="none",
+                label="AOS" + (" (number: pass, at its highest point)" if label_passes else ""),
+            ),
         ]
         if horizon_mask is not None:
             handles.append(Patch(color="#9a8f80", alpha=0.35, label="horizon mask"))
-        fig.legend(handles=handles, loc="outside lower center", ncols=len(handles), fontsize=8, frameon=False,
-                   title=caption, title_fontsize=8)
+        fig.legend(
+            handles=handles,
+            loc="outside lower center",
+            ncols=len(handles),
+            fontsize=8,
+            frameon=False,
+            title=caption,
+            title_fontsize=8,
+        )
 
     sm = ScalarMappable(norm=norm, cmap=MARGIN_CMAP)
     cbar = fig.colorbar(sm, ax=ax, shrink=0.8, pad=0.08, extend=extend)
@@ -297,11 +351,24 @@ def _mark_threshold(cbar, threshold_db: float) -> None:
     cbar.set_label("margin (dB)")
     low, high = cbar.norm.vmin, cbar.norm.vmax
     if low <= threshold_db <= high:
-        cbar.ax.axhline(threshold_db, color=THRESHOLD_COLOUR, linewidth=2.0,
-                        path_effects=[patheffects.withStroke(linewidth=4.0, foreground="white")])
-        cbar.ax.annotate(f"threshold {_fmt_db(threshold_db)} dB", xy=(0.0, threshold_db),
-                         xycoords=("axes fraction", "data"), xytext=(-4, 0), textcoords="offset points",
-                         ha="right", va="center", fontsize=8, color=THRESHOLD_COLOUR, rotation=90)
+        cbar.ax.axhline(
+            threshold_db,
+            color=THRESHOLD_COLOUR,
+            linewidth=2.0,
+            path_effects=[patheffects.withStroke(linewidth=4.0, foreground="white")],
+        )
+        cbar.ax.annotate(
+            f"threshold {_fmt_db(threshold_db)} dB",
+            xy=(0.0, threshold_db),
+            xycoords=("axes fraction", "data"),
+            xytext=(-4, 0),
+            textcoords="offset points",
+            ha="right",
+            va="center",
+            fontsize=8,
+            color=THRESHOLD_COLOUR,
+            rotation=90,
+        )
 
 
 # --------------------------------------------------------------------------------------------
@@ -354,8 +421,16 @@ def elevation_cuts(
         ax.set_xticks(np.arange(-90, 91, 30) if lower_hemisphere else np.arange(0, 91, 15))
         ax.axvspan(-90.0, 0.0, color="#8c7b6b", alpha=0.15, linewidth=0)
         ax.grid(True, color="#dddddd", linewidth=0.6)
-        ax.text(0.01 if lower_hemisphere else 0.005, 0.99, "below\nhorizon", transform=ax.transAxes, ha="left",
-                va="top", fontsize=7, color="#5b4d40")
+        ax.text(
+            0.01 if lower_hemisphere else 0.005,
+            0.99,
+            "below\nhorizon",
+            transform=ax.transAxes,
+            ha="left",
+            va="top",
+            fontsize=7,
+            color="#5b4d40",
+        )
     ax_r.set_ylabel("gain (dBic)")
     ax_r.set_ylim(bottom, upper)
     if not names:
@@ -366,8 +441,16 @@ def elevation_cuts(
         note = f"gain axis cut at {bottom:g} dBic (tables hold -60 dBic where there is no field)"
         if not lower_hemisphere:
             note += f"; below the horizon every pattern is under {bottom:g} dBic"
-        fig.legend(handles, labels, loc="outside lower center", ncols=min(len(names), 4), fontsize=8, frameon=False,
-                   title=note, title_fontsize=7)
+        fig.legend(
+            handles,
+            labels,
+            loc="outside lower center",
+            ncols=min(len(names), 4),
+            fontsize=8,
+            frameon=False,
+            title=note,
+            title_fontsize=7,
+        )
     return fig
 
 
@@ -410,18 +493,34 @@ def pass_margins(
         colour, dash = styles[name]
         margin = frame[margin_column].to_numpy(dtype=float)
         all_margins.append(margin)
-        ax.plot(frame["time_s"].to_numpy(dtype=float) - aos_s, margin,
-                color=colour, linestyle=dash, linewidth=1.8, label=name, zorder=3)
+        ax.plot(
+            frame["time_s"].to_numpy(dtype=float) - aos_s, margin, color=colour, linestyle=dash, linewidth=1.8, label=name, zorder=3
+        )
     _draw_threshold(ax, min_margin_db)
     if _cut_margin_axis(ax, np.concatenate(all_margins), min_margin_db):
-        ax.text(0.01, 0.01, f"axis cut at {ax.get_ylim()[0]:.0f} dB", transform=ax.transAxes, fontsize=7,
-                color="#555555", ha="left", va="bottom")
+        ax.text(
+            0.01,
+            0.01,
+            f"axis cut at {ax.get_ylim()[0]:.0f} dB",
+            transform=ax.transAxes,
+            fontsize=7,
+            color="#555555",
+            ha="left",
+            va="bottom",
+        )
     first = frames[names[0]]
     if "elevation_deg" in first.columns:
         first = first.sort_values("time_s")
         ax_el = ax.twinx()
-        ax_el.plot(first["time_s"].to_numpy(dtype=float) - aos_s, first["elevation_deg"].to_numpy(dtype=float),
-                   color="#888888", linestyle=":", linewidth=1.2, label="elevation", zorder=1)
+        ax_el.plot(
+            first["time_s"].to_numpy(dtype=float) - aos_s,
+            first["elevation_deg"].to_numpy(dtype=float),
+            color="#888888",
+            linestyle=":",
+            linewidth=1.2,
+            label="elevation",
+            zorder=1,
+        )
         ax_el.set_ylabel("elevation (deg)", color="#666666")
         ax_el.set_ylim(0.0, 90.0)
         ax_el.set_yticks(np.arange(0, 91, 15))
@@ -467,8 +566,9 @@ def usable_minutes_bars(
     candidates = list(pd.unique(weekly["candidate"]))
     satellites = list(pd.unique(weekly["satellite"]))
     styles = _styles(candidates, colours)
-    table = weekly.pivot_table(index="satellite", columns="candidate", values="usable_minutes_per_day",
-                               aggfunc="sum", sort=False).reindex(index=satellites, columns=candidates)
+    table = weekly.pivot_table(
+        index="satellite", columns="candidate", values="usable_minutes_per_day", aggfunc="sum", sort=False
+    ).reindex(index=satellites, columns=candidates)
     n = len(candidates)
     width = 0.8 / n
     x = np.arange(len(satellites), dtype=float)
@@ -476,8 +576,15 @@ def usable_minutes_bars(
         annotate = n * len(satellites) <= 32
     for i, name in enumerate(candidates):
         values = table[name].to_numpy(dtype=float)
-        bars = ax.bar(x - 0.4 + width * (i + 0.5), np.nan_to_num(values), width * 0.92, color=styles[name][0],
-                      edgecolor="#222222", linewidth=0.5, label=name)
+        bars = ax.bar(
+            x - 0.4 + width * (i + 0.5),
+            np.nan_to_num(values),
+            width * 0.92,
+            color=styles[name][0],
+            edgecolor="#222222",
+            linewidth=0.5,
+            label=name,
+        )
         if annotate:
             ax.bar_label(bars, labels=[f"{v:.1f}" if np.isfinite(v) else "" for v in values], fontsize=7, padding=1.5)
     ax.set_xticks(x, satellites)
@@ -494,7 +601,7 @@ def usable_minutes_bars(
 
 
 def band_labels(bands: Sequence[tuple[float, float]] = ELEVATION_BANDS_DEG) -> list[str]:
-    """"0-10", "10-30", ... for the bands."""
+    """ "0-10", "10-30", ... for the bands."""
     return [f"{lo:g}-{hi:g}" for lo, hi in bands]
 
 
@@ -557,19 +664,43 @@ def margin_by_band(
                 groups.append(margin[sel])
                 where.append(positions[k] - 0.4 + width * (i + 0.5))
         if groups:
-            ax.boxplot(groups, positions=where, widths=width * 0.8, whis=(5, 95), showfliers=False,
-                       patch_artist=True, manage_ticks=False,
-                       boxprops={"facecolor": colour, "edgecolor": "#222222", "alpha": 0.9},
-                       medianprops={"color": "white" if _dark(colour) else "black", "linewidth": 1.6},
-                       whiskerprops={"color": "#222222"}, capprops={"color": "#222222"})
+            ax.boxplot(
+                groups,
+                positions=where,
+                widths=width * 0.8,
+                whis=(5, 95),
+                showfliers=False,
+                patch_artist=True,
+                manage_ticks=False,
+                boxprops={"facecolor": colour, "edgecolor": "#222222", "alpha": 0.9},
+                medianprops={"color": "white" if _dark(colour) else "black", "linewidth": 1.6},
+                whiskerprops={"color": "#222222"},
+                capprops={"color": "#222222"},
+            )
         handles.append(_box_handle(colour, name or "all samples"))
     for k in range(len(bands)):
         if not np.any(band_index == k):
-            ax.text(positions[k], 0.5, "no samples", transform=ax.get_xaxis_transform(), ha="center",
-                    va="center", fontsize=8, color="#777777")
+            ax.text(
+                positions[k],
+                0.5,
+                "no samples",
+                transform=ax.get_xaxis_transform(),
+                ha="center",
+                va="center",
+                fontsize=8,
+                color="#777777",
+            )
     ax.legend(handles=handles, fontsize=8, loc="best")
-    ax.text(0.99, 0.01, "box: quartiles and median; whiskers: 5th-95th percentile", transform=ax.transAxes,
-            ha="right", va="bottom", fontsize=7, color="#555555")
+    ax.text(
+        0.99,
+        0.01,
+        "box: quartiles and median; whiskers: 5th-95th percentile",
+        transform=ax.transAxes,
+        ha="right",
+        va="bottom",
+        fontsize=7,
+        color="#555555",
+    )
     return fig
 
 
@@ -608,7 +739,9 @@ def save_figure(fig: Figure, folder: str | Path, stem: str, *, rules: WriteRules
     return written
 
 
-def sweep_chart(table: pd.DataFrame, per_satellite: pd.DataFrame, *, title: str, best_spacing_wavelengths: float | None = None) -> Figure:
+def sweep_chart(
+    table: pd.DataFrame, per_satellite: pd.DataFrame, *, title: str, best_spacing_wavelengths: float | None = None
+) -> Figure:
     """Weekly usable minutes per satellite (lines) and the score (bars) against reflector spacing."""
     fig = _new_figure()
     ax = fig.add_subplot(1, 1, 1)
@@ -619,7 +752,9 @@ def sweep_chart(table: pd.DataFrame, per_satellite: pd.DataFrame, *, title: str,
     spacing = table["spacing_wavelengths"].to_numpy()
     width = 0.6 * (np.min(np.diff(np.sort(spacing))) if len(spacing) > 1 else 0.1)
     score_ax = ax.twinx()
-    score_ax.bar(spacing, table["score"].to_numpy(), width=width, color="#d9d9d9", edgecolor="#8c8c8c", label="score (right axis)", zorder=0)
+    score_ax.bar(
+        spacing, table["score"].to_numpy(), width=width, color="#d9d9d9", edgecolor="#8c8c8c", label="score (right axis)", zorder=0
+    )
     score_ax.set_ylabel("score (objective units)")
     ax.set_zorder(score_ax.get_zorder() + 1)
     ax.patch.set_visible(False)
@@ -628,15 +763,33 @@ def sweep_chart(table: pd.DataFrame, per_satellite: pd.DataFrame, *, title: str,
     for satellite in satellites:
         rows = per_satellite[per_satellite["satellite"] == satellite].sort_values("spacing_wavelengths")
         colour, dash = styles[satellite]
-        ax.plot(rows["spacing_wavelengths"], rows["usable_minutes"], color=colour, linestyle=dash, marker="o", markersize=3, label=satellite)
+        ax.plot(
+            rows["spacing_wavelengths"],
+            rows["usable_minutes"],
+            color=colour,
+            linestyle=dash,
+            marker="o",
+            markersize=3,
+            label=satellite,
+        )
     if best_spacing_wavelengths is not None:
-        ax.axvline(best_spacing_wavelengths, color="black", linewidth=1.0, linestyle=":", label=f"best {best_spacing_wavelengths:.3g} wl")
+        ax.axvline(
+            best_spacing_wavelengths, color="black", linewidth=1.0, linestyle=":", label=f"best {best_spacing_wavelengths:.3g} wl"
+        )
     ax.set_xlabel("reflector spacing (wavelengths)")
     ax.set_ylabel("usable minutes in the window (min)")
     ax.set_title(title)
     handles, labels = ax.get_legend_handles_labels()
     bar_handles, bar_labels = score_ax.get_legend_handles_labels()
-    ax.legend(handles + bar_handles, labels + bar_labels, loc="upper center", bbox_to_anchor=(0.5, -0.14), ncol=4, frameon=False, fontsize=8)
+    ax.legend(
+        handles + bar_handles,
+        labels + bar_labels,
+        loc="upper center",
+        bbox_to_anchor=(0.5, -0.14),
+        ncol=4,
+        frameon=False,
+        fontsize=8,
+    )
     ax.grid(True, alpha=0.3)
     fig.tight_layout()
     return fig

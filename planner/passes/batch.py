@@ -10,8 +10,8 @@ unpickling a copy; no such file is left behind when a run stops early.
 from __future__ import annotations
 
 import os
+from collections.abc import Sequence
 from concurrent.futures import ProcessPoolExecutor
-from typing import Sequence
 
 import numpy as np
 
@@ -19,13 +19,13 @@ from planner.passes.chunk import _ChunkJob, _run_chunk
 from planner.passes.model import _SAMPLE_COLUMNS, _SAMPLE_DTYPE
 from planner.passes.search import _perigee_period_s, _search_grid, coarse_step_s
 
-
-_CHUNK_BYTES = 150e6           # arrays of one chunk (SGP4 output) stay under this
-_BYTES_PER_SAMPLE = 49         # TEME r and v (6 float64) + the error code (uint8)
-_IN_PROCESS_SATELLITES = 200   # fewer satellites than this: no worker processes
+_CHUNK_BYTES = 150e6  # arrays of one chunk (SGP4 output) stay under this
+_BYTES_PER_SAMPLE = 49  # TEME r and v (6 float64) + the error code (uint8)
+_IN_PROCESS_SATELLITES = 200  # fewer satellites than this: no worker processes
 
 
 # --------------------------------------------------------------------------- handing results back
+
 
 def _run_chunk_in_worker(job: _ChunkJob, shared_dir: str | None):
     """``_run_chunk`` in a worker process, its track samples handed back cheaply.
@@ -79,10 +79,11 @@ def _take_samples(result: dict) -> None:
     size = shape[0] * shape[1] * np.dtype(_SAMPLE_DTYPE).itemsize
     try:
         with open(path, "rb") as source:
-            mapped = mmap.mmap(source.fileno(), size, flags=mmap.MAP_PRIVATE,
-                               prot=mmap.PROT_READ | mmap.PROT_WRITE)   # copy-on-write: writable arrays
+            mapped = mmap.mmap(
+                source.fileno(), size, flags=mmap.MAP_PRIVATE, prot=mmap.PROT_READ | mmap.PROT_WRITE
+            )  # copy-on-write: writable arrays
     finally:
-        _unlink_quietly(path)   # the mapping keeps the data until the last array goes
+        _unlink_quietly(path)  # the mapping keeps the data until the last array goes
     result["samples"] = np.frombuffer(mapped, dtype=_SAMPLE_DTYPE).reshape(shape)
 
 
@@ -123,7 +124,7 @@ def _plan_chunks(satrecs: Sequence, duration_s: float, *, workers: int, chunk_sa
             size = min(size, max(16, -(-len(members) // (4 * workers))))
         if chunk_satellites is not None:
             size = max(1, int(chunk_satellites))
-        plan.extend((float(step), members[i:i + size]) for i in range(0, len(members), size))
+        plan.extend((float(step), members[i : i + size]) for i in range(0, len(members), size))
     return plan
 
 

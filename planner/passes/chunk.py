@@ -27,9 +27,8 @@ from planner.passes.search import (
     _search_grid,
 )
 
-
-_BLOCK_SAMPLES = 1 << 17       # satellites x times handled at once inside a chunk (cache)
-_LOOK_BLOCK = 1 << 13          # interpolated samples handled at once (cache)
+_BLOCK_SAMPLES = 1 << 17  # satellites x times handled at once inside a chunk (cache)
+_LOOK_BLOCK = 1 << 13  # interpolated samples handled at once (cache)
 _WGS_BY_MU = {398600.79964: WGS72OLD, 398600.8: WGS72, 398600.5: WGS84}
 
 
@@ -37,8 +36,8 @@ _WGS_BY_MU = {398600.79964: WGS72OLD, 398600.8: WGS72, 398600.5: WGS84}
 class _ChunkJob:
     """Everything a worker needs for one chunk of satellites (all picklable)."""
 
-    target_index: np.ndarray       # position of each satellite in the caller's list
-    recipes: tuple                 # sgp4init arguments, one tuple a satellite
+    target_index: np.ndarray  # position of each satellite in the caller's list
+    recipes: tuple  # sgp4init arguments, one tuple a satellite
     site: _Site
     clock: _Clock
     duration_s: float
@@ -55,9 +54,19 @@ def _recipe(satrec) -> tuple:
     """
     whichconst = _WGS_BY_MU.get(round(satrec.mu, 5), WGS72)
     return (
-        whichconst, satrec.operationmode, satrec.satnum, satrec.jdsatepoch + satrec.jdsatepochF - 2433281.5,
-        satrec.bstar, satrec.ndot, satrec.nddot, satrec.ecco, satrec.argpo, satrec.inclo, satrec.mo,
-        satrec.no_kozai, satrec.nodeo,
+        whichconst,
+        satrec.operationmode,
+        satrec.satnum,
+        satrec.jdsatepoch + satrec.jdsatepochF - 2433281.5,
+        satrec.bstar,
+        satrec.ndot,
+        satrec.nddot,
+        satrec.ecco,
+        satrec.argpo,
+        satrec.inclo,
+        satrec.mo,
+        satrec.no_kozai,
+        satrec.nodeo,
     )
 
 
@@ -92,7 +101,7 @@ class _Segments:
     at t = t_k it is the grid's own value.
     """
 
-    def __init__(self, chunk: "_Chunk", sat: np.ndarray, k: np.ndarray):
+    def __init__(self, chunk: _Chunk, sat: np.ndarray, k: np.ndarray):
         self.site = chunk.site
         first = sat * chunk.n_time + k
         self.r0 = chunk.r_flat.take(first, axis=0)
@@ -128,8 +137,13 @@ class _Segments:
         cos_t = self.cos0 * cos_d - self.sin0 * sin_d
         sin_t = self.sin0 * cos_d + self.cos0 * sin_d
         azimuth_deg, elevation_deg, range_km, range_rate = _topocentric(
-            self.site, *position, cos_t, sin_t,
-            azimuth=azimuth, theta_dot=self.theta_dot, velocity=velocity,
+            self.site,
+            *position,
+            cos_t,
+            sin_t,
+            azimuth=azimuth,
+            theta_dot=self.theta_dot,
+            velocity=velocity,
         )
         return azimuth_deg, elevation_deg, range_km, range_rate, valid
 
@@ -158,8 +172,9 @@ class _Chunk:
         self.cos_theta, self.sin_theta = np.cos(theta), np.sin(theta)
         self.all_ok = not self.error.any()
         # Per grid interval: start, length, cos and sin of GMST at the start, GMST rate.
-        self.intervals_table = np.stack([self.grid[:-1], np.diff(self.grid), self.cos_theta[:-1],
-                                         self.sin_theta[:-1], self.theta_dot[:-1]], axis=1)
+        self.intervals_table = np.stack(
+            [self.grid[:-1], np.diff(self.grid), self.cos_theta[:-1], self.sin_theta[:-1], self.theta_dot[:-1]], axis=1
+        )
 
     def interval_of(self, time_s: np.ndarray) -> np.ndarray:
         """k with grid[k] <= t < grid[k + 1] (the last interval closed), like searchsorted."""
@@ -177,8 +192,7 @@ class _Chunk:
         out = None
         for i in range(0, len(time_s), block):
             part = slice(i, i + block)
-            values = _Segments(self, sat[part], self.interval_of(time_s[part])).look(
-                time_s[part], azimuth=azimuth, rate=rate)
+            values = _Segments(self, sat[part], self.interval_of(time_s[part])).look(time_s[part], azimuth=azimuth, rate=rate)
             if out is None:
                 out = [None if v is None else np.empty(len(time_s), v.dtype) for v in values]
             for target, v in zip(out, values):
@@ -215,7 +229,7 @@ class _Chunk:
             up_least = _farthest_range_km(site, self.satrecs, floor_deg) * math.sin(math.radians(floor_deg))
         else:
             up_least = np.zeros(self.n_sat)
-        threshold = (up_least + up_site - 1.0)[:, None]   # 1 km to spare for rounding
+        threshold = (up_least + up_site - 1.0)[:, None]  # 1 km to spare for rounding
         rows = max(1, _BLOCK_SAMPLES // n_time)
         keys, values = [], []
         flat = site.flat_mask
@@ -225,7 +239,7 @@ class _Chunk:
             up = r[:, :, 0] * a
             up += r[:, :, 1] * b
             up += r[:, :, 2] * u2
-            candidate = up >= threshold[block]      # NaN (SGP4 error) compares False
+            candidate = up >= threshold[block]  # NaN (SGP4 error) compares False
             candidate &= self.error[block] == 0
             key = np.flatnonzero(candidate)
             if not len(key):
@@ -270,10 +284,21 @@ class _Chunk:
         # the grid, so every bracket below lies inside one grid interval.
         ends = np.arange(self.n_sat, dtype=np.int64) * n_time
         extreme = peak | dip
-        node_keys = np.unique(np.concatenate([
-            keys[sets_after], keys[sets_after] + 1, keys[rises_before] - 1, keys[rises_before],
-            keys[extreme] - 1, keys[extreme], keys[extreme] + 1, ends, ends + n_time - 1,
-        ]))
+        node_keys = np.unique(
+            np.concatenate(
+                [
+                    keys[sets_after],
+                    keys[sets_after] + 1,
+                    keys[rises_before] - 1,
+                    keys[rises_before],
+                    keys[extreme] - 1,
+                    keys[extreme],
+                    keys[extreme] + 1,
+                    ends,
+                    ends + n_time - 1,
+                ]
+            )
+        )
         if count:
             position = np.minimum(np.searchsorted(keys, node_keys), count - 1)
             node_values = np.where(keys[position] == node_keys, values[position], _BELOW_EVERYTHING_DEG)
@@ -317,8 +342,13 @@ class _Chunk:
         end_clipped = np.concatenate([np.zeros(int((~rising).sum()), bool), np.ones(len(up_at_end), bool)])
         start_order = np.lexsort((start_time, start_sat))
         end_order = np.lexsort((end_time, end_sat))
-        return (start_sat[start_order], start_time[start_order], end_time[end_order],
-                start_clipped[start_order], end_clipped[end_order])
+        return (
+            start_sat[start_order],
+            start_time[start_order],
+            end_time[end_order],
+            start_clipped[start_order],
+            end_clipped[end_order],
+        )
 
     def passes(self) -> dict:
         """The chunk's passes and tracks as flat arrays (see ``_run_chunk``)."""
@@ -337,16 +367,15 @@ class _Chunk:
             ranked = np.where(valid, elevation, -np.inf)
             best_value = np.maximum.reduceat(ranked, starts)
             is_best = np.flatnonzero(ranked == np.repeat(best_value, np.diff(offsets)))
-            best = is_best[np.searchsorted(is_best, starts)]        # the first best sample of each pass
+            best = is_best[np.searchsorted(is_best, starts)]  # the first best sample of each pass
             low = np.maximum(aos, time_s[best] - step)
             high = np.minimum(los, time_s[best] + step)
-            tca, _ = _golden_extreme(lambda t: self.elevation(sat, t), low, high, maximize=True,
-                                     tolerance_s=_TCA_TOLERANCE_S)
+            tca, _ = _golden_extreme(lambda t: self.elevation(sat, t), low, high, maximize=True, tolerance_s=_TCA_TOLERANCE_S)
             key_azimuth, key_elevation, key_range, _, key_valid = self.look(np.tile(sat, 3), np.concatenate([aos, tca, los]))
             for array in (key_azimuth, key_elevation, key_range):
                 array[~key_valid] = np.nan
-            max_elevation = np.fmax(key_elevation[n_pass:2 * n_pass], np.fmax.reduceat(elevation, starts))
-            min_range = np.fmin(key_range[n_pass:2 * n_pass], np.fmin.reduceat(range_km, starts))
+            max_elevation = np.fmax(key_elevation[n_pass : 2 * n_pass], np.fmax.reduceat(elevation, starts))
+            min_range = np.fmin(key_range[n_pass : 2 * n_pass], np.fmin.reduceat(range_km, starts))
         else:
             tca = max_elevation = min_range = key_azimuth = np.empty(0)
         samples = np.empty((len(_SAMPLE_COLUMNS), len(time_s)), _SAMPLE_DTYPE)
@@ -354,13 +383,16 @@ class _Chunk:
             row[:] = values
         return dict(
             target_index=self.job.target_index[sat],
-            aos_s=aos, tca_s=tca, los_s=los,
+            aos_s=aos,
+            tca_s=tca,
+            los_s=los,
             max_elevation_deg=max_elevation,
             aos_azimuth_deg=key_azimuth[:n_pass],
-            tca_azimuth_deg=key_azimuth[n_pass:2 * n_pass],
-            los_azimuth_deg=key_azimuth[2 * n_pass:],
+            tca_azimuth_deg=key_azimuth[n_pass : 2 * n_pass],
+            los_azimuth_deg=key_azimuth[2 * n_pass :],
             min_range_km=min_range,
-            aos_clipped=aos_clipped, los_clipped=los_clipped,
+            aos_clipped=aos_clipped,
+            los_clipped=los_clipped,
             offsets=offsets,
             samples=samples,
         )

@@ -11,14 +11,13 @@ uses the same geometry on its interpolated positions.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from functools import lru_cache
 
 import numpy as np
 from sgp4.api import jday
 
 from planner.passes.station import Station
-
 
 SECONDS_PER_DAY = 86400.0
 _BELOW_EVERYTHING_DEG = -180.0  # clearance used where SGP4 reports an error, or far below
@@ -32,7 +31,7 @@ class Look:
     elevation_deg: np.ndarray
     range_km: np.ndarray
     range_rate_km_s: np.ndarray
-    error: np.ndarray          # SGP4 error code per sample, 0 = fine
+    error: np.ndarray  # SGP4 error code per sample, 0 = fine
 
 
 def gmst_1982_rad(jd_ut1_whole: np.ndarray, jd_ut1_fraction: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -61,12 +60,12 @@ class _Clock:
 
     jd_whole: float
     jd_fraction: float
-    dut1_knots_s: np.ndarray   # UT1 - UTC at hourly knots (it changes by milliseconds a day)
+    dut1_knots_s: np.ndarray  # UT1 - UTC at hourly knots (it changes by milliseconds a day)
     dut1_s: np.ndarray
 
     @classmethod
-    def starting(cls, start_utc: datetime, duration_s: float) -> "_Clock":
-        start = start_utc.astimezone(timezone.utc)
+    def starting(cls, start_utc: datetime, duration_s: float) -> _Clock:
+        start = start_utc.astimezone(UTC)
         seconds = start.second + start.microsecond * 1e-6
         jd_whole, jd_fraction = jday(start.year, start.month, start.day, start.hour, start.minute, seconds)
         knots_s = np.arange(0.0, max(duration_s, 0.0) + 7200.0, 3600.0)
@@ -96,11 +95,15 @@ class _Site:
     mask_elevation_deg: np.ndarray
 
     @classmethod
-    def of(cls, station: Station) -> "_Site":
+    def of(cls, station: Station) -> _Site:
         enu = station.enu_rotation
         mask = station.mask
-        return cls(tuple(float(x) for x in station.ecef_km), *(tuple(float(x) for x in row) for row in enu),
-                   np.asarray(mask.azimuth_deg, float), np.asarray(mask.min_elevation_deg, float))
+        return cls(
+            tuple(float(x) for x in station.ecef_km),
+            *(tuple(float(x) for x in row) for row in enu),
+            np.asarray(mask.azimuth_deg, float),
+            np.asarray(mask.min_elevation_deg, float),
+        )
 
     @property
     def flat_mask(self) -> bool:
@@ -167,8 +170,14 @@ class Observer:
         theta, theta_dot = self._clock.earth_angle(time_s)
         with np.errstate(invalid="ignore"):
             azimuth, elevation, range_km, range_rate = _topocentric(
-                self._site, r_teme[:, 0], r_teme[:, 1], r_teme[:, 2], np.cos(theta), np.sin(theta),
-                theta_dot=theta_dot, velocity=(v_teme[:, 0], v_teme[:, 1], v_teme[:, 2]),
+                self._site,
+                r_teme[:, 0],
+                r_teme[:, 1],
+                r_teme[:, 2],
+                np.cos(theta),
+                np.sin(theta),
+                theta_dot=theta_dot,
+                velocity=(v_teme[:, 0], v_teme[:, 1], v_teme[:, 2]),
             )
         bad = error != 0
         if np.any(bad):

@@ -8,9 +8,9 @@ fits in memory; the Doppler shift of each named frequency follows from the range
 
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from datetime import datetime
-from typing import Mapping, Sequence
 
 import numpy as np
 from scipy.constants import c as SPEED_OF_LIGHT_M_S
@@ -100,8 +100,8 @@ class Pass:
     tca_azimuth_deg: float
     los_azimuth_deg: float
     min_range_km: float
-    aos_clipped: bool          # the satellite was already up at the window start
-    los_clipped: bool          # the satellite was still up at the window end
+    aos_clipped: bool  # the satellite was already up at the window start
+    los_clipped: bool  # the satellite was still up at the window end
     track: Track
 
     @property

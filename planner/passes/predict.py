@@ -8,8 +8,8 @@ cannot start from, or whose propagation fails later, are reported once each thro
 
 from __future__ import annotations
 
-from datetime import datetime, timedelta, timezone
-from typing import Sequence
+from collections.abc import Sequence
+from datetime import UTC, datetime, timedelta
 
 import numpy as np
 from sgp4.api import SGP4_ERRORS
@@ -35,7 +35,9 @@ def _check_propagation_time(satrecs: Sequence, duration_s: float) -> None:
     check_duration(
         f"{len(satrecs):,} satellites over {duration_s / SECONDS_PER_DAY:g} days ask for {samples:,.0f} SGP4 "
         "samples on the pass-search grid",
-        samples, PROPAGATION_SECONDS_PER_SAMPLE, RUN_TIME_LIMIT_S,
+        samples,
+        PROPAGATION_SECONDS_PER_SAMPLE,
+        RUN_TIME_LIMIT_S,
         "shorten the window or predict fewer satellites (--satellite, or a catalog's max_objects)",
     )
 
@@ -66,8 +68,8 @@ def predict_passes(
     targets = [t if isinstance(t, Target) else Target(t) for t in targets]
     if not step_s > 0:
         raise ValueError(f"step_s must be positive, got {step_s!r}")
-    start_utc = start_utc.astimezone(timezone.utc)
-    duration_s = (end_utc.astimezone(timezone.utc) - start_utc).total_seconds()
+    start_utc = start_utc.astimezone(UTC)
+    duration_s = (end_utc.astimezone(UTC) - start_utc).total_seconds()
     if duration_s <= 0:
         return []
 
@@ -80,8 +82,10 @@ def predict_passes(
         error = _rebuild(recipe).error
         if error:
             reason = SGP4_ERRORS.get(error, f"error {error}")
-            messages[index] = (f"{target.display_name} ({target.element_set.norad_id}): SGP4 cannot start "
-                               f"from these elements ({reason}); no passes predicted")
+            messages[index] = (
+                f"{target.display_name} ({target.element_set.norad_id}): SGP4 cannot start "
+                f"from these elements ({reason}); no passes predicted"
+            )
             continue
         usable.append(index)
         satrecs.append(satrec)
@@ -97,8 +101,7 @@ def predict_passes(
         site = _Site.of(station)
         usable_index = np.array(usable)
         jobs = [
-            _ChunkJob(usable_index[members], tuple(recipes[m] for m in members), site, clock,
-                      duration_s, grid_step, float(step_s))
+            _ChunkJob(usable_index[members], tuple(recipes[m] for m in members), site, clock, duration_s, grid_step, float(step_s))
             for grid_step, members in _plan_chunks(satrecs, duration_s, workers=workers, chunk_satellites=chunk_satellites)
         ]
         for result, failures in _run_all(jobs, workers):
@@ -107,8 +110,10 @@ def predict_passes(
                 target = targets[index]
                 when = start_utc + timedelta(seconds=time_s)
                 reason = SGP4_ERRORS.get(code, f"error {code}")
-                messages[index] = (f"{target.display_name} ({target.element_set.norad_id}): SGP4 fails from "
-                                   f"{when:%Y-%m-%dT%H:%M:%SZ} on ({reason}); no passes predicted after that")
+                messages[index] = (
+                    f"{target.display_name} ({target.element_set.norad_id}): SGP4 fails from "
+                    f"{when:%Y-%m-%dT%H:%M:%SZ} on ({reason}); no passes predicted after that"
+                )
     for index in sorted(messages):
         warn(messages[index])
     passes.sort(key=lambda item: item[0])
@@ -118,24 +123,48 @@ def predict_passes(
 def _passes_from(result: dict, targets: list[Target], start_utc: datetime, track_step_s: float) -> list[tuple]:
     """(sort key, Pass) for every pass of one chunk; tracks are views of the chunk's samples."""
     offsets = result["offsets"].tolist()
-    columns = [result[name].tolist() for name in (
-        "target_index", "aos_s", "tca_s", "los_s", "max_elevation_deg", "aos_azimuth_deg",
-        "tca_azimuth_deg", "los_azimuth_deg", "min_range_km", "aos_clipped", "los_clipped")]
+    columns = [
+        result[name].tolist()
+        for name in (
+            "target_index",
+            "aos_s",
+            "tca_s",
+            "los_s",
+            "max_elevation_deg",
+            "aos_azimuth_deg",
+            "tca_azimuth_deg",
+            "los_azimuth_deg",
+            "min_range_km",
+            "aos_clipped",
+            "los_clipped",
+        )
+    ]
     samples = result["samples"]
     names: dict[int, tuple[str, int]] = {}
     made = []
-    for j, (index, aos_s, tca_s, los_s, max_elevation, aos_az, tca_az, los_az, min_range,
-            aos_clipped, los_clipped) in enumerate(zip(*columns)):
+    for j, (index, aos_s, tca_s, los_s, max_elevation, aos_az, tca_az, los_az, min_range, aos_clipped, los_clipped) in enumerate(
+        zip(*columns)
+    ):
         target = targets[index]
         if index not in names:
             names[index] = (target.display_name, target.element_set.norad_id)
         name, norad_id = names[index]
-        track = Track(start_utc, aos_s, los_s, track_step_s, samples[:, offsets[j]:offsets[j + 1]],
-                      target.frequencies_hz)
+        track = Track(start_utc, aos_s, los_s, track_step_s, samples[:, offsets[j] : offsets[j + 1]], target.frequencies_hz)
         aos_utc = start_utc + timedelta(seconds=aos_s)
         item = Pass(
-            name, norad_id, aos_utc, start_utc + timedelta(seconds=tca_s), start_utc + timedelta(seconds=los_s),
-            max_elevation, aos_az, tca_az, los_az, min_range, aos_clipped, los_clipped, track,
+            name,
+            norad_id,
+            aos_utc,
+            start_utc + timedelta(seconds=tca_s),
+            start_utc + timedelta(seconds=los_s),
+            max_elevation,
+            aos_az,
+            tca_az,
+            los_az,
+            min_range,
+            aos_clipped,
+            los_clipped,
+            track,
         )
         made.append(((aos_utc, norad_id, index, aos_s), item))
     return made

@@ -13,13 +13,12 @@ import math
 
 import numpy as np
 
-
 # Clearance (deg) beyond which a sampled extreme cannot cross zero between two
 # grid points: generous against the few tenths of a degree a low LEO peak moves.
 _EXTREME_SEARCH_DEG = 10.0
-_BISECTION_STEPS = 22          # 60 s bracket / 2**22 ~ 15 microseconds
-_EXTREME_TOLERANCE_S = 1e-3   # near-zero extremes: only their sign matters
-_TCA_TOLERANCE_S = 1e-4       # culmination to 0.1 ms (elevation to 1e-4 deg even at the zenith)
+_BISECTION_STEPS = 22  # 60 s bracket / 2**22 ~ 15 microseconds
+_EXTREME_TOLERANCE_S = 1e-3  # near-zero extremes: only their sign matters
+_TCA_TOLERANCE_S = 1e-4  # culmination to 0.1 ms (elevation to 1e-4 deg even at the zenith)
 _GOLDEN = (np.sqrt(5.0) - 1.0) / 2.0
 
 
@@ -86,8 +85,9 @@ def _hermite(r0, v0, r1, v1, h, tau, with_velocity=False):
     return position, velocity
 
 
-def _golden_extreme(function, low: np.ndarray, high: np.ndarray, maximize: bool,
-                    tolerance_s: float = _EXTREME_TOLERANCE_S) -> tuple[np.ndarray, np.ndarray]:
+def _golden_extreme(
+    function, low: np.ndarray, high: np.ndarray, maximize: bool, tolerance_s: float = _EXTREME_TOLERANCE_S
+) -> tuple[np.ndarray, np.ndarray]:
     """Vectorized golden-section search for an extreme of ``function`` in each [low, high].
 
     One new evaluation per step (the other inner point is kept); as many steps as take
@@ -103,7 +103,7 @@ def _golden_extreme(function, low: np.ndarray, high: np.ndarray, maximize: bool,
     d = a + _GOLDEN * (b - a)
     fc, fd = sign * function(c), sign * function(d)
     for _ in range(steps):
-        lower = fc > fd                       # the extreme lies in [a, d]
+        lower = fc > fd  # the extreme lies in [a, d]
         b = np.where(lower, d, b)
         a = np.where(lower, a, c)
         new = np.where(lower, b - _GOLDEN * (b - a), a + _GOLDEN * (b - a))

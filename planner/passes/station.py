@@ -7,8 +7,8 @@ hills). It is piecewise linear in azimuth and wraps at 360 deg, so a mask given 
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Sequence
 
 import numpy as np
 
@@ -28,11 +28,11 @@ class HorizonMask:
     min_elevation_deg: np.ndarray
 
     @classmethod
-    def flat(cls, min_elevation_deg: float) -> "HorizonMask":
+    def flat(cls, min_elevation_deg: float) -> HorizonMask:
         return cls(np.array([0.0]), np.array([float(min_elevation_deg)]))
 
     @classmethod
-    def from_points(cls, points: float | Sequence[Sequence[float]]) -> "HorizonMask":
+    def from_points(cls, points: float | Sequence[Sequence[float]]) -> HorizonMask:
         """Build from a flat elevation or ``[[azimuth_deg, min_elevation_deg], ...]``."""
         if isinstance(points, (int, float)):
             return cls.flat(points)
@@ -69,7 +69,7 @@ class Station:
     noise_environment: str = "rural"  # ITU-R P.372 man-made noise category of the surroundings
 
     @classmethod
-    def from_config(cls, config) -> "Station":
+    def from_config(cls, config) -> Station:
         """Build from a validated :class:`planner.scenario.StationConfig`."""
         return cls(
             name=config.name,
@@ -87,13 +87,16 @@ class Station:
         lon = np.radians(self.longitude_deg)
         n = WGS84_A_M / np.sqrt(1.0 - WGS84_E2 * np.sin(lat) ** 2)
         h = self.altitude_m
-        return np.array(
-            [
-                (n + h) * np.cos(lat) * np.cos(lon),
-                (n + h) * np.cos(lat) * np.sin(lon),
-                (n * (1.0 - WGS84_E2) + h) * np.sin(lat),
-            ]
-        ) / 1000.0
+        return (
+            np.array(
+                [
+                    (n + h) * np.cos(lat) * np.cos(lon),
+                    (n + h) * np.cos(lat) * np.sin(lon),
+                    (n * (1.0 - WGS84_E2) + h) * np.sin(lat),
+                ]
+            )
+            / 1000.0
+        )
 
     @property
     def enu_rotation(self) -> np.ndarray:

@@ -200,4 +200,3 @@ def _resolve_file(value: Any, info: ValidationInfo, allowed: str) -> Path:
         if not is_file:
             raise _error(f"{text} is not a file (looked at {path})", allowed)
     return path
-

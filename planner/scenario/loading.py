@@ -56,8 +56,7 @@ def load_scenario(path: str | Path) -> Scenario:
     """Read and validate a scenario TOML file; any problem is a one-line UserError."""
     file = Path(path)
     source = _one_line(str(path))
-    text = read_text_capped(file, what="scenario file", limit_bytes=SCENARIO_FILE_LIMIT_BYTES, label=source,
-                            wording=_READ_WORDING)
+    text = read_text_capped(file, what="scenario file", limit_bytes=SCENARIO_FILE_LIMIT_BYTES, label=source, wording=_READ_WORDING)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:

@@ -71,9 +71,7 @@ def _model_in(annotation: Any) -> tuple[type[BaseModel] | None, bool]:
     return None, False
 
 
-def _walk(
-    root: type[BaseModel] | None, loc: tuple[Any, ...]
-) -> tuple[type[BaseModel] | None, FieldInfo | None]:
+def _walk(root: type[BaseModel] | None, loc: tuple[Any, ...]) -> tuple[type[BaseModel] | None, FieldInfo | None]:
     """The model that holds the last key of ``loc``, and that key's field (if known)."""
     model, field = root, None
     for position, part in enumerate(loc):
@@ -190,10 +188,7 @@ def _describe_one(
     if kind == "list_type":
         sub, is_list = _model_in(field.annotation) if field is not None else (None, False)
         if is_list and isinstance(value, Mapping):
-            return (
-                f"{key}: expected [[{last}]] tables (double brackets), got a single table; "
-                f"allowed: {allowed_here}"
-            )
+            return f"{key}: expected [[{last}]] tables (double brackets), got a single table; allowed: {allowed_here}"
         return f"{key}: expected a list, got {_show(value)}; allowed: {allowed_here}"
     message = str(err.get("msg", "invalid value"))
     return f"{key}: {message} (got {_show(value)}); allowed: {allowed_here}"
@@ -249,6 +244,4 @@ def validated(
     try:
         return model_cls.model_validate(dict(values), context=dict(context or {}))
     except ValidationError as exc:
-        raise UserError(
-            describe_validation_error(exc, source, data=dict(values), key_names=key_names, model=model_cls)
-        ) from None
+        raise UserError(describe_validation_error(exc, source, data=dict(values), key_names=key_names, model=model_cls)) from None

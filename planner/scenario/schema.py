@@ -15,7 +15,7 @@ allowed keys from the models themselves.
 from __future__ import annotations
 
 import math
-from datetime import date, datetime, time, timedelta, timezone
+from datetime import UTC, date, datetime, time, timedelta
 from pathlib import Path
 from typing import Annotated, Any, Literal
 
@@ -53,13 +53,9 @@ _STRICT = ConfigDict(extra="forbid")
 # The window lies in the years planner.bounds allows for every time (1957: the first
 # artificial satellite; 2100: beyond any element set's useful life).
 _ALLOWED_START = (
-    "a TOML date-time with a time zone, such as 2027-01-04T00:00:00Z, or the same text "
-    f"in quotes, in the years {SUPPORTED_YEARS}"
+    f"a TOML date-time with a time zone, such as 2027-01-04T00:00:00Z, or the same text in quotes, in the years {SUPPORTED_YEARS}"
 )
-_ALLOWED_ELEMENTS = (
-    "the path of a TLE, 3LE or OMM file in quotes; a relative path is taken from the "
-    "scenario file's folder"
-)
+_ALLOWED_ELEMENTS = "the path of a TLE, 3LE or OMM file in quotes; a relative path is taken from the scenario file's folder"
 _ALLOWED_HORIZON = (
     "a minimum elevation in degrees from -10 to 90, or a list of [azimuth_deg, "
     "min_elevation_deg] pairs with azimuths from 0 up to but not including 360, each "
@@ -109,16 +105,12 @@ class StationConfig(BaseModel):
         for index, item in enumerate(value, start=1):
             where = f"point {index}"
             if not isinstance(item, (list, tuple)) or len(item) != 2:
-                raise _error(
-                    f"{where} is {_show(item)}, not an [azimuth_deg, min_elevation_deg] pair", _ALLOWED_HORIZON
-                )
+                raise _error(f"{where} is {_show(item)}, not an [azimuth_deg, min_elevation_deg] pair", _ALLOWED_HORIZON)
             azimuth, elevation = number(item[0]), number(item[1])
             if azimuth is None or elevation is None:
                 raise _error(f"{where} {_show(item)} holds something other than numbers", _ALLOWED_HORIZON)
             if not _AZIMUTH.contains(azimuth):
-                raise _error(
-                    f"{where}: azimuth {_num(item[0])} is out of range", f"azimuth_deg {_AZIMUTH.allowed()}"
-                )
+                raise _error(f"{where}: azimuth {_num(item[0])} is out of range", f"azimuth_deg {_AZIMUTH.allowed()}")
             if not _MASK_ELEVATION.contains(elevation):
                 raise _error(
                     f"{where}: elevation {_num(item[1])} is out of range",
@@ -163,7 +155,7 @@ class WindowConfig(BaseModel):
         if parsed.tzinfo is None or parsed.utcoffset() is None:
             raise _error(f"{parsed.isoformat()} has no time zone", _ALLOWED_START)
         try:
-            parsed = parsed.astimezone(timezone.utc)
+            parsed = parsed.astimezone(UTC)
         except (OverflowError, ValueError):
             raise _error(f"{parsed.isoformat()} is out of range", _ALLOWED_START) from None
         if not in_supported_years(parsed):
@@ -171,17 +163,19 @@ class WindowConfig(BaseModel):
         return parsed
 
     @model_validator(mode="after")
-    def _at_least_one_step(self) -> "WindowConfig":
+    def _at_least_one_step(self) -> WindowConfig:
         # A window shorter than its step holds no track; far shorter ones (1e-185 days,
         # found by the scenario fuzz) would even end where they start.
         if self.days * SECONDS_PER_DAY < self.step_s:
-            raise _error(f"{_num(self.days)} days is shorter than one step of {_num(self.step_s)} s",
-                         f"one step or more, here {self.step_s / SECONDS_PER_DAY:.3g} days or more", at=("days",))
+            raise _error(
+                f"{_num(self.days)} days is shorter than one step of {_num(self.step_s)} s",
+                f"one step or more, here {self.step_s / SECONDS_PER_DAY:.3g} days or more",
+                at=("days",),
+            )
         # days is at most 31, so the end is a representable time; it must still lie in the years.
         if not in_supported_years(self.end_utc):
             raise _error(
-                f"the window from {self.start_utc.isoformat()} for {_num(self.days)} days ends in "
-                f"{self.end_utc.year}",
+                f"the window from {self.start_utc.isoformat()} for {_num(self.days)} days ends in {self.end_utc.year}",
                 f"a window that ends by the end of {LATEST_YEAR}",
                 at=("days",),
             )
@@ -205,9 +199,7 @@ class RadioConfig(BaseModel):
     line_loss_db: Annotated[Real, _Range(0, 20)] = 0.0
     polarization: Literal["rhcp", "lhcp", "linear", "linear-tumbling"] = "linear-tumbling"
     axial_ratio_db: Annotated[Real, _Range(0, 60)] = 0.0
-    modulation: Literal[
-        "bpsk", "qpsk", "dbpsk", "fsk-coherent", "fsk-noncoherent", "gmsk", "afsk-fm", "fm"
-    ] = "gmsk"
+    modulation: Literal["bpsk", "qpsk", "dbpsk", "fsk-coherent", "fsk-noncoherent", "gmsk", "afsk-fm", "fm"] = "gmsk"
     data_rate_bps: Annotated[Real, _Range(0, lo_open=True)] = 9600.0
     target_ber: Annotated[Real, _Range(0, 0.5, lo_open=True, hi_open=True)] = 1e-5
     implementation_loss_db: Annotated[Real, _Range(0, 20)] = 2.0
@@ -248,8 +240,7 @@ class SatelliteConfig(RadioConfig):
 
 
 _ALLOWED_PATTERN = (
-    "the path of a pattern table (CSV, see patterns/README.md) in quotes; a relative path is "
-    "taken from the scenario file's folder"
+    "the path of a pattern table (CSV, see patterns/README.md) in quotes; a relative path is taken from the scenario file's folder"
 )
 LnaPosition = Literal["antenna", "receiver", "none"]
 
@@ -422,13 +413,15 @@ class Scenario(BaseModel):
     @classmethod
     def _network(cls, value: list[StationConfig]) -> list[StationConfig]:
         if len(value) > NETWORK_STATIONS_LIMIT:  # every command repeats the whole run per station
-            raise _error(f"{len(value)} network stations are given",
-                         f"at most {NETWORK_STATIONS_LIMIT} (a small network: every command repeats the whole "
-                         "prediction and forecast for each station)")
+            raise _error(
+                f"{len(value)} network stations are given",
+                f"at most {NETWORK_STATIONS_LIMIT} (a small network: every command repeats the whole "
+                "prediction and forecast for each station)",
+            )
         return _unique_names(value, "network station")
 
     @model_validator(mode="after")
-    def _targets_and_sites(self) -> "Scenario":
+    def _targets_and_sites(self) -> Scenario:
         if not self.satellite and self.catalog is None:
             raise _error("no satellites are given", "one or more [[satellite]] tables, or a [catalog] table", at=("satellite",))
         names = [self.station.name] + [s.name for s in self.network_station]

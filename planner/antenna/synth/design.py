@@ -74,12 +74,17 @@ from __future__ import annotations
 
 import cmath
 import math
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
-from typing import Any, Callable, Mapping, Sequence
+from typing import Any
 
 import numpy as np
 from scipy.optimize import minimize_scalar
 
+from planner.antenna.synth import mom
+from planner.antenna.synth.feed import REFERENCE_IMPEDANCE_OHM, FeedResult, phasing_line
+from planner.antenna.synth.geometry import WireModel
+from planner.antenna.table import axial_ratio_db_from_circular
 from planner.errors import UserError
 from planner.link.feedline import (
     CABLES,
@@ -91,10 +96,6 @@ from planner.link.feedline import (
     vswr_from_impedance,
     wavelength_in_line_m,
 )
-from planner.antenna.synth import mom
-from planner.antenna.synth.feed import REFERENCE_IMPEDANCE_OHM, FeedResult, phasing_line
-from planner.antenna.synth.geometry import WireModel
-from planner.antenna.table import axial_ratio_db_from_circular
 
 __all__ = [
     "SIZE_PARAMETERS",
@@ -174,7 +175,7 @@ class TrimResult:
     solves: tuple[tuple[str, int], ...]
     parameters: dict
     model: WireModel
-    solution: "mom.Solution"
+    solution: mom.Solution
 
     def header(self) -> dict[str, str]:
         """Header lines of a pattern table built from this trim."""
@@ -400,8 +401,14 @@ def _part(value: float | None, omega: float, *, series: bool) -> str:
 def _section(kind: str, frequency_hz: float, load: complex, z_in: complex, reference_ohm: float, **extra) -> MatchSection:
     vswr = float(vswr_from_impedance(z_in, reference_ohm)) if z_in.real > 0 else float("inf")
     return MatchSection(
-        kind=kind, frequency_hz=frequency_hz, load_impedance_ohm=load, input_impedance_ohm=z_in, vswr=vswr,
-        mismatch_loss_db=float(mismatch_loss_db(vswr)), reference_ohm=reference_ohm, **extra,
+        kind=kind,
+        frequency_hz=frequency_hz,
+        load_impedance_ohm=load,
+        input_impedance_ohm=z_in,
+        vswr=vswr,
+        mismatch_loss_db=float(mismatch_loss_db(vswr)),
+        reference_ohm=reference_ohm,
+        **extra,
     )
 
 
@@ -442,8 +449,16 @@ def l_network(load_ohm: complex, frequency_hz: float, reference_ohm: float = REF
     solutions = l_network_solutions(load, reference_ohm)
     x, b, shunt_at_load = min(solutions, key=lambda s: abs(s[0]) / reference_ohm + abs(s[1]) * reference_ohm)
     z_in = _l_input(load, x, b, shunt_at_load)
-    return _section("l-network", frequency_hz, load, z_in, reference_ohm, series_reactance_ohm=x,
-                    shunt_susceptance_s=b, shunt_at_load=shunt_at_load)
+    return _section(
+        "l-network",
+        frequency_hz,
+        load,
+        z_in,
+        reference_ohm,
+        series_reactance_ohm=x,
+        shunt_susceptance_s=b,
+        shunt_at_load=shunt_at_load,
+    )
 
 
 def _line_efficiency(cable_z0: float, load: complex, gamma_l: complex) -> float:
@@ -456,14 +471,24 @@ def _line_efficiency(cable_z0: float, load: complex, gamma_l: complex) -> float:
     return float((v_l * i_l.conjugate()).real / p_in) if p_in > 0 else float("nan")
 
 
-def _line_section(cable: Cable, load: complex, length_m: float, frequency_hz: float, reference_ohm: float,
-                  ideal: float | None) -> MatchSection:
+def _line_section(
+    cable: Cable, load: complex, length_m: float, frequency_hz: float, reference_ohm: float, ideal: float | None
+) -> MatchSection:
     alpha_db_per_m = float(cable.loss_db_per_100m(frequency_hz)) / 100.0
     loss_db = alpha_db_per_m * length_m
     z_in = complex(line_input_impedance(cable.impedance_ohm, load, length_m, frequency_hz, cable.velocity_factor, loss_db))
     gamma_l = line_gamma_length(length_m, frequency_hz, cable.velocity_factor, loss_db)
-    return _section("quarter-wave", frequency_hz, load, z_in, reference_ohm, cable=cable, length_m=length_m,
-                    ideal_impedance_ohm=ideal, efficiency=_line_efficiency(cable.impedance_ohm, load, gamma_l))
+    return _section(
+        "quarter-wave",
+        frequency_hz,
+        load,
+        z_in,
+        reference_ohm,
+        cable=cable,
+        length_m=length_m,
+        ideal_impedance_ohm=ideal,
+        efficiency=_line_efficiency(cable.impedance_ohm, load, gamma_l),
+    )
 
 
 def transformer_cables(cables: Sequence[Cable] | None = None, reference_ohm: float = REFERENCE_IMPEDANCE_OHM) -> list[Cable]:
@@ -472,27 +497,38 @@ def transformer_cables(cables: Sequence[Cable] | None = None, reference_ohm: flo
     metre: common practice, no published source), leaving out those of the reference impedance (a
     quarter wave of it only turns the reflection coefficient's phase; |Gamma| stays)."""
     pool = list(cables) if cables else list(CABLES.values())
-    pairs = [replace(c, name=f"2 x {c.name} in parallel", impedance_ohm=c.impedance_ohm / 2.0,
-                     note=f"two {c.name} side by side, joined at both ends") for c in pool]
+    pairs = [
+        replace(
+            c,
+            name=f"2 x {c.name} in parallel",
+            impedance_ohm=c.impedance_ohm / 2.0,
+            note=f"two {c.name} side by side, joined at both ends",
+        )
+        for c in pool
+    ]
     return [c for c in pool + pairs if abs(c.impedance_ohm - reference_ohm) > 1e-9 * reference_ohm]
 
 
-def quarter_wave_section(load_ohm: complex, frequency_hz: float, cables: Sequence[Cable] | None = None,
-                         reference_ohm: float = REFERENCE_IMPEDANCE_OHM) -> MatchSection:
+def quarter_wave_section(
+    load_ohm: complex, frequency_hz: float, cables: Sequence[Cable] | None = None, reference_ohm: float = REFERENCE_IMPEDANCE_OHM
+) -> MatchSection:
     """A quarter-wave transformer from the cable (of :func:`transformer_cables`) whose impedance is
     nearest the ideal ``quarter_wave_impedance_ohm``, the lower-loss one on a tie; residual VSWR exact."""
     load = complex(load_ohm)
     ideal = quarter_wave_impedance_ohm(load, reference_ohm)
     pool = transformer_cables(cables, reference_ohm)
     if not pool:
-        raise UserError(f"match = quarter-wave: no cable other than {reference_ohm:g} ohm to make it of; allowed: l-network or none")
+        raise UserError(
+            f"match = quarter-wave: no cable other than {reference_ohm:g} ohm to make it of; allowed: l-network or none"
+        )
     cable = min(pool, key=lambda c: (abs(c.impedance_ohm - ideal), float(c.loss_db_per_100m(frequency_hz))))
     length = wavelength_in_line_m(frequency_hz, cable.velocity_factor) / 4.0
     return _line_section(cable, load, length, frequency_hz, reference_ohm, ideal)
 
 
-def design_match(load_ohm: complex, frequency_hz: float, kind: str = "auto",
-                 reference_ohm: float = REFERENCE_IMPEDANCE_OHM) -> MatchSection:
+def design_match(
+    load_ohm: complex, frequency_hz: float, kind: str = "auto", reference_ohm: float = REFERENCE_IMPEDANCE_OHM
+) -> MatchSection:
     """The matching section ``kind`` (one of :data:`MATCHES`) on ``load_ohm``."""
     if kind not in MATCHES:
         raise UserError(f"match: {kind!r} is not known; allowed: {', '.join(MATCHES)}")
@@ -507,8 +543,9 @@ def design_match(load_ohm: complex, frequency_hz: float, kind: str = "auto",
     return l_network(load, frequency_hz, reference_ohm)
 
 
-def _perturbed_match(match: MatchSection, cut_error_m: float = 0.0, component_error: float = 0.0,
-                     load_ohm: complex | None = None) -> MatchSection:
+def _perturbed_match(
+    match: MatchSection, cut_error_m: float = 0.0, component_error: float = 0.0, load_ohm: complex | None = None
+) -> MatchSection:
     """The same section built with a cut error (quarter-wave) or a relative component error
     (L-network, both parts), on ``load_ohm`` (default: its design load)."""
     load = match.load_impedance_ohm if load_ohm is None else complex(load_ohm)
@@ -521,8 +558,14 @@ def _perturbed_match(match: MatchSection, cut_error_m: float = 0.0, component_er
         x = match.series_reactance_ohm * (1.0 + component_error)
         b = match.shunt_susceptance_s * (1.0 + component_error)
         z_in = _l_input(load, x, b, bool(match.shunt_at_load))
-        return replace(match, load_impedance_ohm=load, input_impedance_ohm=z_in,
-                       **_vswr_fields(z_in, match.reference_ohm), series_reactance_ohm=x, shunt_susceptance_s=b)
+        return replace(
+            match,
+            load_impedance_ohm=load,
+            input_impedance_ohm=z_in,
+            **_vswr_fields(z_in, match.reference_ohm),
+            series_reactance_ohm=x,
+            shunt_susceptance_s=b,
+        )
     return replace(match, load_impedance_ohm=load, input_impedance_ohm=load, **_vswr_fields(load, match.reference_ohm))
 
 
@@ -536,7 +579,7 @@ def _vswr_fields(z_in: complex, reference_ohm: float) -> dict[str, float]:
 # --------------------------------------------------------------------------------------------
 
 
-def port_fields(solution: "mom.Solution", azimuth_deg: float = 0.0, elevation_deg: float = 90.0) -> np.ndarray:
+def port_fields(solution: mom.Solution, azimuth_deg: float = 0.0, elevation_deg: float = 90.0) -> np.ndarray:
     """(n_ports, 2) array: (E_theta, E_phi) in V of 1 V on each port in turn (the others shorted);
     the fed antenna's field in that direction is ``voltages @ port_fields``."""
     rows = []
@@ -631,8 +674,12 @@ def design_phasing_line(
         q = ratio(angles / 360.0 * wavelength)
         k = int(np.argmin(q))
         lo, hi = angles[max(k - 1, 0)], angles[min(k + 1, len(angles) - 1)]
-        best = minimize_scalar(lambda deg: float(ratio(deg / 360.0 * wavelength)), bounds=(lo, hi), method="bounded",
-                               options={"xatol": 1e-5})
+        best = minimize_scalar(
+            lambda deg: float(ratio(deg / 360.0 * wavelength)),  # noqa: B023 (called at once, in this iteration)
+            bounds=(lo, hi),
+            method="bounded",
+            options={"xatol": 1e-5},
+        )
         deg = float(best.x) if best.fun <= q[k] else float(angles[k])
         q_best = float(min(best.fun, q[k]))
         ar = _ratio_to_ar_db(q_best)
@@ -642,8 +689,14 @@ def design_phasing_line(
     best_ar = min(r[0] for r in results)
     ar, _, cable, length, deg = min((r for r in results if r[0] <= best_ar + _TIE_DB), key=lambda r: r[1])
     alpha = float(cable.loss_db_per_100m(frequency_hz)) / 100.0
-    feed = phasing_line(z, line_length_m=length, line_z0_ohm=cable.impedance_ohm, velocity_factor=cable.velocity_factor,
-                        loss_db_per_m=alpha, frequency_hz=frequency_hz)
+    feed = phasing_line(
+        z,
+        line_length_m=length,
+        line_z0_ohm=cable.impedance_ohm,
+        velocity_factor=cable.velocity_factor,
+        loss_db_per_m=alpha,
+        frequency_hz=frequency_hz,
+    )
     ranking = tuple(sorted(((r[2].name, r[0], r[3]) for r in results), key=lambda t: t[1]))
     return PhasingDesign(cable, length, deg, alpha, ar, feed, ranking)
 
@@ -672,14 +725,30 @@ class HarnessState:
     match: MatchSection
 
 
-def harness_state(z, fields, frequency_hz: float, cable: Cable, phasing_length_m: float, match: MatchSection,
-                  *, sense: str = "rhcp", match_cut_error_m: float = 0.0, match_component_error: float = 0.0) -> HarnessState:
+def harness_state(
+    z,
+    fields,
+    frequency_hz: float,
+    cable: Cable,
+    phasing_length_m: float,
+    match: MatchSection,
+    *,
+    sense: str = "rhcp",
+    match_cut_error_m: float = 0.0,
+    match_component_error: float = 0.0,
+) -> HarnessState:
     """Solve the harness as built: phasing line of ``phasing_length_m`` of ``cable``, then ``match``
     (rebuilt on the new load, with its own cut or component error)."""
     z = np.asarray(z, dtype=complex)
     alpha = float(cable.loss_db_per_100m(frequency_hz)) / 100.0
-    phasing = phasing_line(z, line_length_m=phasing_length_m, line_z0_ohm=cable.impedance_ohm,
-                           velocity_factor=cable.velocity_factor, loss_db_per_m=alpha, frequency_hz=frequency_hz)
+    phasing = phasing_line(
+        z,
+        line_length_m=phasing_length_m,
+        line_z0_ohm=cable.impedance_ohm,
+        velocity_factor=cable.velocity_factor,
+        loss_db_per_m=alpha,
+        frequency_hz=frequency_hz,
+    )
     built = _perturbed_match(match, match_cut_error_m, match_component_error, load_ohm=phasing.feed_impedance_ohm)
     v = np.asarray(phasing.port_voltages, dtype=complex)
     i = np.asarray(phasing.port_currents, dtype=complex)
@@ -689,8 +758,9 @@ def harness_state(z, fields, frequency_hz: float, cable: Cable, phasing_length_m
     # Partial gain 4 pi U_co / P_feed, U = |E|^2 / (2 eta0), P_feed = port power / network efficiency
     gain = 4.0 * math.pi * abs(co) ** 2 / (2.0 * mom.ETA0_OHM) / (port_power_w / efficiency)
     ar = float(axial_ratio_db_from_circular(abs(co), abs(cross)))
-    return HarnessState(ar, 10.0 * math.log10(gain), built.vswr, built.mismatch_loss_db, built.input_impedance_ohm,
-                        efficiency, phasing, built)
+    return HarnessState(
+        ar, 10.0 * math.log10(gain), built.vswr, built.mismatch_loss_db, built.input_impedance_ohm, efficiency, phasing, built
+    )
 
 
 @dataclass(frozen=True)
@@ -728,8 +798,9 @@ class HarnessDesign:
         return out
 
 
-def design_harness(solution: "mom.Solution", *, phasing_cable: str | None = None, match: str = "auto",
-                   sense: str = "rhcp") -> HarnessDesign:
+def design_harness(
+    solution: mom.Solution, *, phasing_cable: str | None = None, match: str = "auto", sense: str = "rhcp"
+) -> HarnessDesign:
     """Phasing line for the best zenith axial ratio, then the matching section, on a solved
     two-port model. ``phasing_cable``: a catalog cable name, or None / ``"auto"`` for the best one."""
     z = solution.port_impedance_matrix()
@@ -757,8 +828,9 @@ def design_harness(solution: "mom.Solution", *, phasing_cable: str | None = None
     return HarnessDesign(frequency_hz, sense, z, fields, phasing, section, feed, state)
 
 
-def cut_sensitivity(design: HarnessDesign, errors_m: Sequence[float] = (-0.005, 0.0, 0.005),
-                    component_errors: Sequence[float] = (-0.05, 0.0, 0.05)) -> list[dict[str, Any]]:
+def cut_sensitivity(
+    design: HarnessDesign, errors_m: Sequence[float] = (-0.005, 0.0, 0.005), component_errors: Sequence[float] = (-0.05, 0.0, 0.05)
+) -> list[dict[str, Any]]:
     """How the zenith axial ratio, the feed VSWR and the margin for a wave of the design sense
     overhead move when the phasing line or the matching section is cut ``errors_m`` long (+) or
     short (-); for an L-network the components are off by ``component_errors`` (relative) instead.
@@ -773,11 +845,18 @@ def cut_sensitivity(design: HarnessDesign, errors_m: Sequence[float] = (-0.005, 
     def row(part: str, error: float, unit: str, state: HarnessState) -> None:
         gain_change = state.co_polar_gain_dbic - nominal.co_polar_gain_dbic
         mismatch_change = state.mismatch_loss_db - nominal.mismatch_loss_db
-        rows.append({
-            "part": part, "error": error, "error_unit": unit, "axial_ratio_db": state.axial_ratio_db, "vswr": state.vswr,
-            "gain_change_db": gain_change, "mismatch_change_db": mismatch_change,
-            "margin_change_db": gain_change - mismatch_change,
-        })
+        rows.append(
+            {
+                "part": part,
+                "error": error,
+                "error_unit": unit,
+                "axial_ratio_db": state.axial_ratio_db,
+                "vswr": state.vswr,
+                "gain_change_db": gain_change,
+                "mismatch_change_db": mismatch_change,
+                "margin_change_db": gain_change - mismatch_change,
+            }
+        )
 
     args = (design.port_impedance_matrix, design.fields, design.frequency_hz, design.phasing.cable)
     for e in errors_m:
@@ -787,10 +866,18 @@ def cut_sensitivity(design: HarnessDesign, errors_m: Sequence[float] = (-0.005, 
         row("phasing line", e * 1e3, "mm", harness_state(*args, length, design.match, sense=design.sense))
     if design.match.kind == "quarter-wave":
         for e in errors_m:
-            row("matching section", e * 1e3, "mm", harness_state(*args, design.phasing.length_m, design.match,
-                                                                 sense=design.sense, match_cut_error_m=e))
+            row(
+                "matching section",
+                e * 1e3,
+                "mm",
+                harness_state(*args, design.phasing.length_m, design.match, sense=design.sense, match_cut_error_m=e),
+            )
     elif design.match.kind == "l-network":
         for e in component_errors:
-            row("L-network parts", e * 100.0, "%", harness_state(*args, design.phasing.length_m, design.match,
-                                                                sense=design.sense, match_component_error=e))
+            row(
+                "L-network parts",
+                e * 100.0,
+                "%",
+                harness_state(*args, design.phasing.length_m, design.match, sense=design.sense, match_component_error=e),
+            )
     return rows

@@ -45,8 +45,8 @@ fraction of the segment from its start.
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Mapping, Sequence
 
 import numpy as np
 from scipy.constants import mu_0, speed_of_light
@@ -131,7 +131,9 @@ class Wire:
         edges = np.linalg.norm(np.diff(pts, axis=0), axis=1)
         if np.any(edges <= JOIN_TOLERANCE_M):
             i = int(np.argmin(edges))
-            raise UserError(f"{label}: points {i} and {i + 1} coincide; every polyline edge must be longer than {JOIN_TOLERANCE_M:g} m")
+            raise UserError(
+                f"{label}: points {i} and {i + 1} coincide; every polyline edge must be longer than {JOIN_TOLERANCE_M:g} m"
+            )
         if not (isinstance(self.radius_m, (int, float)) and math.isfinite(self.radius_m) and self.radius_m > 0):
             raise UserError(f"{label}: radius_m must be a positive number of metres, got {self.radius_m!r}")
         resistivity_ohm_m(self.material)  # validates
@@ -176,7 +178,9 @@ class Load:
         try:
             z = complex(self.impedance_ohm)
         except (TypeError, ValueError):
-            raise UserError(f"load {self.name!r}: impedance_ohm must be a complex number of ohms, got {self.impedance_ohm!r}") from None
+            raise UserError(
+                f"load {self.name!r}: impedance_ohm must be a complex number of ohms, got {self.impedance_ohm!r}"
+            ) from None
         if not (math.isfinite(z.real) and math.isfinite(z.imag)):
             raise UserError(f"load {self.name!r}: impedance_ohm must be finite, got {self.impedance_ohm!r}")
         object.__setattr__(self, "impedance_ohm", z)
@@ -420,7 +424,9 @@ def segment_model(model: WireModel) -> Segmentation:
             "use fewer segments or a thinner wire"
         )
     if np.max(lengths) > wavelength / 8.0:
-        warn(f"segments up to {np.max(lengths) / wavelength:.3g} wavelength long; use at least 10 per wavelength for usable currents")
+        warn(
+            f"segments up to {np.max(lengths) / wavelength:.3g} wavelength long; use at least 10 per wavelength for usable currents"
+        )
     k_a = 2.0 * math.pi * float(np.max(radii)) / wavelength
     if k_a > 0.1:
         warn(f"wire radius {np.max(radii):.4g} m gives k a = {k_a:.3g}: the thin-wire model wants k a << 1 (under 0.1)")
@@ -429,7 +435,9 @@ def segment_model(model: WireModel) -> Segmentation:
     r_per_m = np.array([resistance_per_metre_ohm(rho[i], model.frequency_hz, wires[i].radius_m) for i in range(len(wires))])[wire_a]
     for i, w in enumerate(wires):
         if rho[i] is not None and w.radius_m < 3.0 * skin_depth_m(rho[i], model.frequency_hz):
-            warn(f"wire {_wire_label(model, i)!r}: radius {w.radius_m:g} m is under 3 skin depths; the skin-effect resistance is underestimated")
+            warn(
+                f"wire {_wire_label(model, i)!r}: radius {w.radius_m:g} m is under 3 skin depths; the skin-effect resistance is underestimated"
+            )
 
     # nodes
     labels = _merge_nodes(np.concatenate([starts_a, ends_a]))
@@ -470,11 +478,17 @@ def segment_model(model: WireModel) -> Segmentation:
         dist = np.linalg.norm(node_positions - position, axis=1)
         node = int(np.argmin(dist))
         if dist[node] > JOIN_TOLERANCE_M:
-            raise UserError(f"{what}: position {tuple(np.round(position, 6))} m is not on any wire (nearest node {dist[node]:.3g} m away)")
+            raise UserError(
+                f"{what}: position {tuple(np.round(position, 6))} m is not on any wire (nearest node {dist[node]:.3g} m away)"
+            )
         if count[node] == 1:
-            raise UserError(f"{what}: position {tuple(np.round(position, 6))} m is a free wire end; put it on a node between two segments")
+            raise UserError(
+                f"{what}: position {tuple(np.round(position, 6))} m is a free wire end; put it on a node between two segments"
+            )
         if count[node] > 2:
-            raise UserError(f"{what}: position {tuple(np.round(position, 6))} m is a junction of {count[node]} wires; put it on a node between two segments")
+            raise UserError(
+                f"{what}: position {tuple(np.round(position, 6))} m is a junction of {count[node]} wires; put it on a node between two segments"
+            )
         b = int(np.nonzero(basis_node == node)[0][0])
         pieces = np.nonzero(piece_basis == b)[0]
         chosen = _resolve_wire(model, wire, what)
@@ -490,7 +504,9 @@ def segment_model(model: WireModel) -> Segmentation:
     for p in model.ports:
         b, s = node_basis(p.position, p.wire, f"port {p.name!r}")
         if b in port_basis:
-            raise UserError(f"port {p.name!r}: shares its node with port {model.ports[port_basis.index(b)].name!r}; one port per node")
+            raise UserError(
+                f"port {p.name!r}: shares its node with port {model.ports[port_basis.index(b)].name!r}; one port per node"
+            )
         port_basis.append(b)
         port_sign.append(s * p.direction)
     load_basis, load_z = [], []

@@ -80,8 +80,9 @@ water lowers eps_r and raises the loss above a few GHz: a warning says so above 
 from __future__ import annotations
 
 import math
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
-from typing import Callable, Mapping, NamedTuple, Sequence
+from typing import NamedTuple
 
 import numpy as np
 from scipy.constants import epsilon_0, speed_of_light
@@ -246,7 +247,9 @@ def make_ground(
     if name not in GROUND_CHOICES:
         raise UserError(f"ground {name!r} is unknown; allowed: {', '.join(GROUND_CHOICES)}")
     if mast_height_m is None:
-        raise UserError(f"ground = {name}: mast_height_m is missing; allowed: the height in m from the ground to the model's z = 0 plane")
+        raise UserError(
+            f"ground = {name}: mast_height_m is missing; allowed: the height in m from the ground to the model's z = 0 plane"
+        )
     if name == "custom":
         if permittivity is None or conductivity_s_per_m is None:
             raise UserError("ground = custom needs both ground_permittivity (>= 1) and ground_conductivity_s_per_m (>= 0)")
@@ -273,8 +276,7 @@ def check_clearance(wires: Sequence, mast_height_m: float) -> None:
             label = wire.name or f"#{i}"
             need = float(mast_height_m) - low + wire.radius_m
             raise UserError(
-                f"mast_height_m = {mast_height_m:g} m puts wire {label!r} at or below the ground; "
-                f"allowed: more than {need:.4g} m"
+                f"mast_height_m = {mast_height_m:g} m puts wire {label!r} at or below the ground; allowed: more than {need:.4g} m"
             )
 
 

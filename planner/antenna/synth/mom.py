@@ -70,12 +70,15 @@ quite sinusoidal: at exactly half a wavelength the delta-gap input resistance co
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
-from typing import Mapping
 
 import numpy as np
 from scipy.constants import epsilon_0, mu_0, speed_of_light
 
+from planner.antenna.analytic import circular_components, direction_enu, spherical_unit_vectors
+from planner.antenna.synth.geometry import Segmentation, WireModel, estimated_segment_count, segment_model
+from planner.antenna.table import GAIN_FLOOR_DBIC
 from planner.errors import UserError
 from planner.limits import (
     MEMORY_LIMIT_BYTES,
@@ -84,9 +87,6 @@ from planner.limits import (
     check_allocation,
     format_seconds,
 )
-from planner.antenna.analytic import circular_components, direction_enu, spherical_unit_vectors
-from planner.antenna.table import GAIN_FLOOR_DBIC
-from planner.antenna.synth.geometry import Segmentation, WireModel, estimated_segment_count, segment_model
 
 ETA0_OHM = math.sqrt(mu_0 / epsilon_0)
 """Wave impedance of free space (ohm), from scipy.constants."""
@@ -275,7 +275,9 @@ def check_matrix_size(n_segments: int) -> None:
     check_allocation(
         f"the wire model has {n_segments:,} segments, a {n_segments:,} x {n_segments:,} moment-matrix fill "
         f"taking about {fill_time} on one core",
-        pairs, MOM_BYTES_PER_SEGMENT_PAIR, MEMORY_LIMIT_BYTES,
+        pairs,
+        MOM_BYTES_PER_SEGMENT_PAIR,
+        MEMORY_LIMIT_BYTES,
         f"at most about {most:,} segments fit; lower segments_per_wavelength or segments, or use a coarser "
         "grid_pitch_wavelengths or a smaller reflector_size_wavelengths",
     )
@@ -315,8 +317,14 @@ def impedance_matrix(seg: Segmentation, frequency_hz: float, *, quadrature_point
 class Solution:
     """Solved currents of a model for 1 V on each port in turn (the others shorted)."""
 
-    def __init__(self, model: WireModel, segmentation: Segmentation, impedance_matrix_: np.ndarray,
-                 currents_per_port: np.ndarray, quadrature_points: int) -> None:
+    def __init__(
+        self,
+        model: WireModel,
+        segmentation: Segmentation,
+        impedance_matrix_: np.ndarray,
+        currents_per_port: np.ndarray,
+        quadrature_points: int,
+    ) -> None:
         self.model = model
         self.segmentation = segmentation
         self.frequency_hz = model.frequency_hz
@@ -342,7 +350,9 @@ class Solution:
     def _voltages(self, port_voltages) -> np.ndarray:
         if port_voltages is None:
             if self.n_ports != 1:
-                raise UserError(f"port_voltages: this model has {self.n_ports} ports ({', '.join(self.port_names)}); give one voltage per port")
+                raise UserError(
+                    f"port_voltages: this model has {self.n_ports} ports ({', '.join(self.port_names)}); give one voltage per port"
+                )
             return np.ones(1, dtype=complex)
         if isinstance(port_voltages, Mapping):
             unknown = [name for name in port_voltages if name not in self.port_names]
@@ -351,7 +361,9 @@ class Solution:
             return np.array([complex(port_voltages.get(name, 0.0)) for name in self.port_names])
         v = np.atleast_1d(np.asarray(port_voltages, dtype=complex))
         if v.shape != (self.n_ports,):
-            raise UserError(f"port_voltages: expected {self.n_ports} values (ports {', '.join(self.port_names)}), got shape {v.shape}")
+            raise UserError(
+                f"port_voltages: expected {self.n_ports} values (ports {', '.join(self.port_names)}), got shape {v.shape}"
+            )
         return v
 
     def currents(self, port_voltages=None) -> np.ndarray:
@@ -446,10 +458,10 @@ class Solution:
         out = np.empty((len(flat_dir), 3), dtype=complex)
         rows = max(1, _CHUNK // max(1, len(flat_pts)))
         for lo in range(0, len(flat_dir), rows):
-            arg = self.wavenumber * (flat_dir[lo:lo + rows] @ flat_pts.T)
+            arg = self.wavenumber * (flat_dir[lo : lo + rows] @ flat_pts.T)
             cos_, sin_ = np.cos(arg), np.sin(arg)  # e^{j arg}, in real arithmetic
-            out[lo:lo + rows].real = cos_ @ v_re - sin_ @ v_im
-            out[lo:lo + rows].imag = cos_ @ v_im + sin_ @ v_re
+            out[lo : lo + rows].real = cos_ @ v_re - sin_ @ v_im
+            out[lo : lo + rows].imag = cos_ @ v_im + sin_ @ v_re
         return out.reshape(r_hat.shape)
 
     def far_field(self, azimuth_deg, elevation_deg, port_voltages=None) -> tuple[np.ndarray, np.ndarray]:

@@ -25,20 +25,21 @@ field, leakage around and through the screen included.
 from __future__ import annotations
 
 import math
-from typing import Any, Mapping
+from collections.abc import Mapping
+from typing import Any
 
 import numpy as np
 
-from planner.errors import UserError, warn
-from planner.link.feedline import CABLES, quarter_wave_length_m
 from planner.antenna.analytic import check_frequency, pattern_grid
-from planner.antenna.table import GAIN_FLOOR_DBIC, PatternTable
-from planner.antenna.tablefile import BUILDER_ALIASES, format_number
 from planner.antenna.synth import design, mom
 from planner.antenna.synth.design import MATCHES, SIZE_PARAMETERS
 from planner.antenna.synth.feed import FeedResult, ideal_quadrature, phasing_line, single_port
 from planner.antenna.synth.geometry import WireModel
 from planner.antenna.synth.templates import TEMPLATES, Parameter, check_parameters
+from planner.antenna.table import GAIN_FLOOR_DBIC, PatternTable
+from planner.antenna.tablefile import BUILDER_ALIASES, format_number
+from planner.errors import UserError, warn
+from planner.link.feedline import CABLES, quarter_wave_length_m
 
 __all__ = [
     "MODEL_DESCRIPTION",
@@ -63,23 +64,56 @@ HARNESS_OPTIONS = ("phasing_cable", "match")
 """Options of ``feed = harness`` only."""
 
 FEED_PARAMETERS: dict[str, Parameter] = {
-    "feed": Parameter(str, "quadrature", FEEDS, "quadrature (ideal equal currents 90 deg apart), line (b through a given phasing line) or harness (phasing line and matching section designed, see planner.antenna.synth.design)"),
-    "sense": Parameter(str, "rhcp", ("rhcp", "lhcp"), "sense of the ideal quadrature feed, or the sense the harness is designed for"),
-    "line_length_m": Parameter(float, None, (1e-4, 10.0), "m; feed=line: phasing-line length (default: a quarter wave at the velocity factor)"),
+    "feed": Parameter(
+        str,
+        "quadrature",
+        FEEDS,
+        "quadrature (ideal equal currents 90 deg apart), line (b through a given phasing line) or harness (phasing line and matching section designed, see planner.antenna.synth.design)",
+    ),
+    "sense": Parameter(
+        str, "rhcp", ("rhcp", "lhcp"), "sense of the ideal quadrature feed, or the sense the harness is designed for"
+    ),
+    "line_length_m": Parameter(
+        float, None, (1e-4, 10.0), "m; feed=line: phasing-line length (default: a quarter wave at the velocity factor)"
+    ),
     "line_z0_ohm": Parameter(float, 50.0, (10.0, 300.0), "ohm; feed=line: phasing-line impedance"),
-    "velocity_factor": Parameter(float, 0.66, (0.3, 1.0), "feed=line: phasing-line velocity factor (about 0.66 solid PE, 0.8 foam)"),
+    "velocity_factor": Parameter(
+        float, 0.66, (0.3, 1.0), "feed=line: phasing-line velocity factor (about 0.66 solid PE, 0.8 foam)"
+    ),
     "line_loss_db_per_m": Parameter(float, 0.0, (0.0, 10.0), "dB/m; feed=line: phasing-line matched loss"),
-    "phasing_cable": Parameter(str, "auto", ("auto", *(name.lower() for name in CABLES)), "feed=harness: catalog cable of the phasing line, or auto (the one giving the best zenith axial ratio)"),
-    "match": Parameter(str, "auto", MATCHES, "feed=harness: matching section to 50 ohm; auto takes the quarter-wave transformer when it reaches VSWR <= 1.5, else the L-network"),
+    "phasing_cable": Parameter(
+        str,
+        "auto",
+        ("auto", *(name.lower() for name in CABLES)),
+        "feed=harness: catalog cable of the phasing line, or auto (the one giving the best zenith axial ratio)",
+    ),
+    "match": Parameter(
+        str,
+        "auto",
+        MATCHES,
+        "feed=harness: matching section to 50 ohm; auto takes the quarter-wave transformer when it reaches VSWR <= 1.5, else the L-network",
+    ),
 }
 """Feed options of two-port templates (a one-port template is driven at its port)."""
 
 TRIMS = ("none", "resonance")
 
 TRIM_PARAMETERS: dict[str, Parameter] = {
-    "trim": Parameter(str, None, TRIMS, "none (default: the size as given) or resonance (the size parameter adjusted at the design frequency, see planner.antenna.synth.design)"),
-    "target_reactance_ohm": Parameter(float, None, (-1000.0, 1000.0), "ohm; trim=resonance: element reactance to trim to (default 0)"),
-    "target_resistance_ohm": Parameter(float, None, (1.0, 2000.0), "ohm; trim=resonance: trim to the impedance closest to this resistance + j target_reactance_ohm instead"),
+    "trim": Parameter(
+        str,
+        None,
+        TRIMS,
+        "none (default: the size as given) or resonance (the size parameter adjusted at the design frequency, see planner.antenna.synth.design)",
+    ),
+    "target_reactance_ohm": Parameter(
+        float, None, (-1000.0, 1000.0), "ohm; trim=resonance: element reactance to trim to (default 0)"
+    ),
+    "target_resistance_ohm": Parameter(
+        float,
+        None,
+        (1.0, 2000.0),
+        "ohm; trim=resonance: trim to the impedance closest to this resistance + j target_reactance_ohm instead",
+    ),
 }
 """Trim options of the templates with a size parameter (``design.SIZE_PARAMETERS``)."""
 
@@ -115,7 +149,7 @@ def _complex_text(z: complex) -> str:
 
 def build_pattern_table(
     model: WireModel,
-    solution: "mom.Solution",
+    solution: mom.Solution,
     feed: FeedResult,
     *,
     frequency_hz: float,
@@ -185,9 +219,7 @@ def build_pattern_table(
         )
         header["ground_neglected"] = real_ground.NEGLECTED
     else:
-        header["ground"] = (
-            "infinite perfectly conducting plane z = 0 (images)" if model.ground == "pec" else "none (free space)"
-        )
+        header["ground"] = "infinite perfectly conducting plane z = 0 (images)" if model.ground == "pec" else "none (free space)"
     header["solver"] = solution.solver_summary() if hasattr(solution, "solver_summary") else MODEL_DESCRIPTION
     header["frame"] = (
         "x east, y north, z up; element a along/in the east plane, b turned +90 deg about up; azimuth_deg from north "
@@ -256,7 +288,7 @@ def _check_options(template: str, specs: Mapping[str, Parameter], values: Mappin
     return {name: (_coerce(template, name, spec, values[name]) if name in values else spec.default) for name, spec in specs.items()}
 
 
-def feed_model(solution: "mom.Solution", options: Mapping[str, Any], frequency_hz: float) -> FeedResult:
+def feed_model(solution: mom.Solution, options: Mapping[str, Any], frequency_hz: float) -> FeedResult:
     """The feed network named by ``options`` (keys of :data:`FEED_PARAMETERS`) on the solved model."""
     z = solution.port_impedance_matrix()
     if z.shape == (1, 1):
@@ -264,8 +296,12 @@ def feed_model(solution: "mom.Solution", options: Mapping[str, Any], frequency_h
     if options.get("feed", "quadrature") == "quadrature":
         return ideal_quadrature(z, options.get("sense") or "rhcp")
     if options.get("feed") == "harness":
-        return design.design_harness(solution, phasing_cable=options.get("phasing_cable"), match=options.get("match") or "none",
-                                     sense=options.get("sense") or "rhcp").feed
+        return design.design_harness(
+            solution,
+            phasing_cable=options.get("phasing_cable"),
+            match=options.get("match") or "none",
+            sense=options.get("sense") or "rhcp",
+        ).feed
     vf = options.get("velocity_factor") or 0.66
     length = options.get("line_length_m")
     if length is None:
@@ -282,6 +318,7 @@ def feed_model(solution: "mom.Solution", options: Mapping[str, Any], frequency_h
 
 TWO_PORT_TEMPLATES = ("turnstile", "crossed-loops")
 """Templates with ports "a" and "b" (they take the feed options); the others have one port "feed"."""
+
 
 def template_options(template: str) -> dict[str, Parameter]:
     """Every option a template's table takes besides its own parameters: the grid steps, the trim
@@ -302,8 +339,10 @@ def _resolve_options(template: str, options: dict[str, Any], given: Mapping[str,
         wrong = [k for k in unused if k in given]
         if wrong:
             users = "feed=line" if wrong[0] in LINE_OPTIONS else "feed=harness"
-            raise UserError(f"template {template!r}: {wrong[0]} applies to {users} only, not feed={feed}; allowed with "
-                            f"feed={feed}: " + (", ".join(k for k in FEED_PARAMETERS if k not in unused) or "none"))
+            raise UserError(
+                f"template {template!r}: {wrong[0]} applies to {users} only, not feed={feed}; allowed with "
+                f"feed={feed}: " + (", ".join(k for k in FEED_PARAMETERS if k not in unused) or "none")
+            )
         for key in unused:
             options[key] = None
         if feed == "line":
@@ -347,8 +386,11 @@ def solve_template(template: str, values: Mapping[str, Any] | None = None):
     trim = None
     if options.get("trim") == "resonance":
         trim = design.trim_to_resonance(
-            template, params, target_reactance_ohm=options["target_reactance_ohm"],
-            target_resistance_ohm=options["target_resistance_ohm"], sense=options.get("sense") or "rhcp",
+            template,
+            params,
+            target_reactance_ohm=options["target_reactance_ohm"],
+            target_resistance_ohm=options["target_resistance_ohm"],
+            sense=options.get("sense") or "rhcp",
         )
         model, solution = trim.model, trim.solution
     else:
@@ -380,14 +422,17 @@ def build_template_table(template: str, values: Mapping[str, Any] | None = None,
     params, options, model, solution, trim = solve_template(template, values)
     harness = None
     if options.get("feed") == "harness":
-        harness = design.design_harness(solution, phasing_cable=options["phasing_cable"], match=options["match"],
-                                        sense=options["sense"] or "rhcp")
+        harness = design.design_harness(
+            solution, phasing_cable=options["phasing_cable"], match=options["match"], sense=options["sense"] or "rhcp"
+        )
         feed = harness.feed
     else:
         feed = feed_model(solution, options, model.frequency_hz)
     recorded = {**params, **options}
     if command is None:
-        command = " ".join(["planner pattern build", template, *(f"{k}={_fmt_value(v)}" for k, v in recorded.items() if v is not None)])
+        command = " ".join(
+            ["planner pattern build", template, *(f"{k}={_fmt_value(v)}" for k, v in recorded.items() if v is not None)]
+        )
     table = build_pattern_table(
         model,
         solution,
@@ -416,21 +461,28 @@ def harness_from_header(header: Mapping[str, str], source: str = "pattern table"
     builder = header.get("builder", "")
     template = BUILDER_ALIASES.get(builder, builder)
     if template not in TWO_PORT_TEMPLATES:
-        raise UserError(f"{source}: builder {builder or '(none)'!r} is not a two-port wire template; allowed: tables built by "
-                        "planner pattern build turnstile|crossed-loops ... feed=harness")
+        raise UserError(
+            f"{source}: builder {builder or '(none)'!r} is not a two-port wire template; allowed: tables built by "
+            "planner pattern build turnstile|crossed-loops ... feed=harness"
+        )
     values = {}
     for item in header.get("parameters", "").split(";"):
         key, sep, value = item.partition("=")
         if sep:
             values[key.strip()] = value.strip()
     if values.get("feed") != "harness":
-        raise UserError(f"{source}: the table was built with feed={values.get('feed', 'quadrature')}; allowed: a table built "
-                        "with feed=harness (planner pattern build ... feed=harness)")
+        raise UserError(
+            f"{source}: the table was built with feed={values.get('feed', 'quadrature')}; allowed: a table built "
+            "with feed=harness (planner pattern build ... feed=harness)"
+        )
     _, options, _, solution, _ = solve_template(template, values)
-    harness = design.design_harness(solution, phasing_cable=options["phasing_cable"], match=options["match"],
-                                    sense=options["sense"] or "rhcp")
+    harness = design.design_harness(
+        solution, phasing_cable=options["phasing_cable"], match=options["match"], sense=options["sense"] or "rhcp"
+    )
     recorded = header.get("phasing_line_cut_cm")
     if recorded is not None and recorded != harness.header()["phasing_line_cut_cm"]:
-        warn(f"{source}: the rebuilt phasing line is {harness.header()['phasing_line_cut_cm']} cm, the table says {recorded} cm "
-             "(made by another version of planner?); the sensitivity is for the rebuilt one")
+        warn(
+            f"{source}: the rebuilt phasing line is {harness.header()['phasing_line_cut_cm']} cm, the table says {recorded} cm "
+            "(made by another version of planner?); the sensitivity is for the rebuilt one"
+        )
     return harness

@@ -66,14 +66,15 @@ polygon's chord deficit (``superellipse_perimeter`` gives it; about 0.07 % at 48
 from __future__ import annotations
 
 import math
-from typing import Any, Callable, Mapping, NamedTuple
+from collections.abc import Callable, Mapping
+from typing import Any, NamedTuple
 
 import numpy as np
 from scipy.constants import c as SPEED_OF_LIGHT_M_S
 
-from planner.errors import UserError
 from planner.antenna.synth.geometry import MATERIALS, Port, Wire, WireModel
 from planner.antenna.synth.ground import GROUND_CHOICES, NOTE_KEY, check_clearance, ground_note, make_ground
+from planner.errors import UserError
 
 __all__ = [
     "Parameter",
@@ -260,8 +261,9 @@ def default_crossing_gap_m(radius_m: float, frequency_hz: float) -> float:
 # --------------------------------------------------------------------------------------------
 
 
-def _reflector_wires(kind: str | None, size_wavelengths: float, pitch_wavelengths: float, radius_m: float,
-                     material: str, lam: float) -> list[Wire]:
+def _reflector_wires(
+    kind: str | None, size_wavelengths: float, pitch_wavelengths: float, radius_m: float, material: str, lam: float
+) -> list[Wire]:
     if kind in (None, "pec"):
         return []
     half = 0.5 * size_wavelengths * lam
@@ -314,11 +316,23 @@ _REFL_SIZE = Parameter(float, 1.0, (0.3, 3.0), "wavelengths; rod length or grid 
 _PITCH = Parameter(float, 0.1, (0.03, 0.5), "wavelengths; grid pitch of the grid reflector")
 _REFL_RADIUS = Parameter(float, None, (1e-5, 0.05), "m; radius of the reflector wires (default: the element radius)")
 _GAP = Parameter(float, None, (1e-5, 0.1), "m; vertical gap where the two elements cross (default: max(4 radii, lambda/1000))")
-_GROUND = Parameter(str, None, GROUND_CHOICES, "flat ground below the mast: none (free space), an ITU-R P.527 class, concrete, or custom")
+_GROUND = Parameter(
+    str, None, GROUND_CHOICES, "flat ground below the mast: none (free space), an ITU-R P.527 class, concrete, or custom"
+)
 _GROUND_EPS = Parameter(float, None, (1.0, 100.0), "relative permittivity of a custom ground")
 _GROUND_SIGMA = Parameter(float, None, (0.0, 1e8), "S/m; conductivity of a custom ground")
-_MAST = Parameter(float, None, (0.01, 100.0), "m; height from the ground to the model's z = 0 plane (reflector plane, or the element's reference plane)")
-_GROUND_SPECS = {"ground": _GROUND, "ground_permittivity": _GROUND_EPS, "ground_conductivity_s_per_m": _GROUND_SIGMA, "mast_height_m": _MAST}
+_MAST = Parameter(
+    float,
+    None,
+    (0.01, 100.0),
+    "m; height from the ground to the model's z = 0 plane (reflector plane, or the element's reference plane)",
+)
+_GROUND_SPECS = {
+    "ground": _GROUND,
+    "ground_permittivity": _GROUND_EPS,
+    "ground_conductivity_s_per_m": _GROUND_SIGMA,
+    "mast_height_m": _MAST,
+}
 
 
 def _ground_notes(template: str, p: Mapping[str, Any], wires: list[Wire], infinite_plane: str | None) -> dict[str, str]:
@@ -326,13 +340,20 @@ def _ground_notes(template: str, p: Mapping[str, Any], wires: list[Wire], infini
     no ground under an infinite plane (``infinite_plane`` names what asked for it), no wire at or
     below the ground."""
     try:
-        ground = make_ground(p["ground"], p["frequency_hz"], p["mast_height_m"], permittivity=p["ground_permittivity"],
-                             conductivity_s_per_m=p["ground_conductivity_s_per_m"])
+        ground = make_ground(
+            p["ground"],
+            p["frequency_hz"],
+            p["mast_height_m"],
+            permittivity=p["ground_permittivity"],
+            conductivity_s_per_m=p["ground_conductivity_s_per_m"],
+        )
         if ground is None:
             return {}
         if infinite_plane is not None:
-            raise UserError(f"ground = {ground.name} cannot go with {infinite_plane}: the infinite plate hides the ground; "
-                            "allowed: no ground, or a finite (or no) reflector")
+            raise UserError(
+                f"ground = {ground.name} cannot go with {infinite_plane}: the infinite plate hides the ground; "
+                "allowed: no ground, or a finite (or no) reflector"
+            )
         check_clearance(wires, ground.mast_height_m)
     except UserError as error:
         raise UserError(f"template {template!r}: {error}") from None
@@ -375,8 +396,12 @@ def dipole(
         notes={
             "geometry": (
                 f"dipole along east, {p['length_wavelengths']:g} wavelength ({2 * half:.4f} m), radius {p['radius_m']:g} m "
-                f"{p['material']}, " + ("free space" if p["height_wavelengths"] is None else
-                                         f"centre {p['height_wavelengths']:g} wavelength ({z:.4f} m) above an infinite PEC plane")
+                f"{p['material']}, "
+                + (
+                    "free space"
+                    if p["height_wavelengths"] is None
+                    else f"centre {p['height_wavelengths']:g} wavelength ({z:.4f} m) above an infinite PEC plane"
+                )
             ),
             **ground_notes,
         },
@@ -424,7 +449,9 @@ def turnstile(
     pb = np.array([[0.0, -half, zb], [0.0, 0.0, zb], [0.0, half, zb]])
     wires = [Wire(pa, p["radius_m"], p["material"], name="a"), Wire(pb, p["radius_m"], p["material"], name="b")]
     r_refl = p["reflector_radius_m"] if p["reflector_radius_m"] is not None else p["radius_m"]
-    wires += _reflector_wires(p["reflector"], p["reflector_size_wavelengths"], p["grid_pitch_wavelengths"], r_refl, p["material"], lam)
+    wires += _reflector_wires(
+        p["reflector"], p["reflector_size_wavelengths"], p["grid_pitch_wavelengths"], r_refl, p["material"], lam
+    )
     ground_notes = _ground_notes("turnstile", p, wires, "reflector = pec" if p["reflector"] == "pec" else None)
     return WireModel(
         wires=wires,
@@ -492,7 +519,9 @@ def crossed_loops(
         Wire(pts_b, p["radius_m"], p["material"], name="b", segments_per_edge=1),
     ]
     r_refl = p["reflector_radius_m"] if p["reflector_radius_m"] is not None else p["radius_m"]
-    wires += _reflector_wires(p["reflector"], p["reflector_size_wavelengths"], p["grid_pitch_wavelengths"], r_refl, p["material"], lam)
+    wires += _reflector_wires(
+        p["reflector"], p["reflector_size_wavelengths"], p["grid_pitch_wavelengths"], r_refl, p["material"], lam
+    )
     ground_notes = _ground_notes("crossed-loops", p, wires, "reflector = pec" if p["reflector"] == "pec" else None)
     width = 2.0 * float(np.max(poly[:, 0]))
     tall = float(np.max(poly[:, 1]))
@@ -524,7 +553,9 @@ TEMPLATES: dict[str, tuple[Callable[..., WireModel], dict[str, Parameter]]] = {
             "frequency_hz": _FREQ,
             "length_wavelengths": Parameter(float, 0.5, (0.05, 3.0), "wavelengths; tip-to-tip length"),
             "radius_m": _RADIUS,
-            "height_wavelengths": Parameter(float, None, (0.02, 3.0), "wavelengths; centre height above an infinite PEC ground (default: free space)"),
+            "height_wavelengths": Parameter(
+                float, None, (0.02, 3.0), "wavelengths; centre height above an infinite PEC ground (default: free space)"
+            ),
             "material": _MATERIAL,
             "segments_per_wavelength": _SPW,
             **_GROUND_SPECS,
