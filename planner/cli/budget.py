@@ -4,8 +4,10 @@ from __future__ import annotations
 
 import sys
 from pathlib import Path
+from typing import cast
 
 import typer
+from rich.console import JustifyMethod
 from rich.table import Table
 
 from planner.cli import common
@@ -104,7 +106,7 @@ def budget(
         raise UserError("--output: the ladder is for the terminal; use --format json with --output")
     table = Table(title=f"{direction} budget: {sat_name} -> {setup.candidate}; {label}", title_justify="left")
     for heading, justify in (("term", "left"), ("value", "right"), ("unit", "left"), ("meaning", "left")):
-        table.add_column(heading, justify=justify)
+        table.add_column(heading, justify=cast(JustifyMethod, justify))
     for key, unit, meaning in LADDER:
         value = values[key]
         if value is None:

@@ -4,9 +4,11 @@ from __future__ import annotations
 
 import sys
 from pathlib import Path
+from typing import cast
 
 import numpy as np
 import typer
+from rich.console import JustifyMethod
 from rich.table import Table
 
 from planner.cli import common
@@ -73,7 +75,7 @@ def harness(
         return
     table = Table(title=f"Phasing harness at {frequency_mhz:g} MHz", title_justify="left")
     for heading, justify in (("quantity", "left"), ("value", "right"), ("unit", "left")):
-        table.add_column(heading, justify=justify)
+        table.add_column(heading, justify=cast(JustifyMethod, justify))
     for key, value in report.items():
         if isinstance(value, complex):
             text = f"{value.real:.2f} {'+' if value.imag >= 0 else '-'} j{abs(value.imag):.2f}"

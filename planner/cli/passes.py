@@ -3,8 +3,10 @@
 from __future__ import annotations
 
 from pathlib import Path
+from typing import cast
 
 import typer
+from rich.console import JustifyMethod
 from rich.table import Table
 
 from planner.cli import common
@@ -33,7 +35,7 @@ def _print_passes_table(study, passes) -> None:
         ("range km", "right"),
         ("clipped", "left"),
     ):
-        table.add_column(heading, justify=justify, no_wrap=True)
+        table.add_column(heading, justify=cast(JustifyMethod, justify), no_wrap=True)
     for p in passes:
         minutes, seconds = divmod(int(round(p.duration_s)), 60)
         # A pass under way at the window's start or end is cut there.

@@ -76,7 +76,7 @@ def pattern_build(
     if out is None:
         raise UserError("--out: give the file to write the pattern table to")
     common.check_outputs(rules, {"--out": out})
-    values: dict[str, object] = _key_values(parameters or [])
+    values: dict[str, object] = dict(_key_values(parameters or []))
     if spacing_wl is not None:
         values["spacing_wavelengths"] = spacing_wl
     if frequency_mhz is not None:

@@ -66,6 +66,7 @@ def budget_geometry(
                 f"{target.display_name} is below the horizon mask at {iso_utc(moment)} (elevation {look.elevation_deg[0]:.1f} deg)"
             )
         return look.azimuth_deg[0], look.elevation_deg[0], look.range_km[0], iso_utc(moment), None
+    assert elevation_deg is not None  # exactly one of the three is given (checked above)
     if not -90.0 <= elevation_deg <= 90.0:
         raise UserError(f"--elevation-deg: {elevation_deg:g} is out of range; allowed -90 to 90")
     if azimuth_deg is not None and not np.isfinite(azimuth_deg):

@@ -50,9 +50,9 @@ def _unwrap(annotation: Any) -> tuple[Any, list[Any]]:
             annotation, metadata = args[0], metadata + list(args[1:])
             continue
         if origin in (typing.Union, types.UnionType):
-            args = [a for a in typing.get_args(annotation) if a is not type(None)]
-            if len(args) == 1:
-                annotation = args[0]
+            members = [a for a in typing.get_args(annotation) if a is not type(None)]
+            if len(members) == 1:
+                annotation = members[0]
                 continue
         return annotation, metadata
 
