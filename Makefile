@@ -5,7 +5,9 @@ BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 TEST_STAMP := $(VENV)/.installed-test
 
-.PHONY: demo test bench clean
+.PHONY: demo test lint bench clean
+
+CHECKED := planner tests benchmarks sample_tle
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -22,7 +24,13 @@ $(TEST_STAMP): pyproject.toml | $(BIN)/python
 demo: $(STAMP)
 	$(BIN)/planner compare scenarios/demo.toml --report report --force
 
-test: $(TEST_STAMP)
+# Lint, format and type checks first (seconds), then the test suite.
+lint: $(TEST_STAMP)
+	$(BIN)/ruff check $(CHECKED)
+	$(BIN)/ruff format --check $(CHECKED)
+	$(BIN)/mypy
+
+test: lint
 	$(BIN)/python -m pytest
 
 bench: $(STAMP)
