@@ -2,7 +2,7 @@
 200-segment model (two crossed loops over a PEC ground) solved and tabulated on the pattern-table
 grid (elevation step 1 deg, azimuth step 10 deg).
 
-    /tmp/probe-venv/bin/python benchmarks/synth.py [--frequency-mhz F] [--repeat R]
+    .venv/bin/python benchmarks/synth.py [--frequency-mhz F] [--repeat R]
 
 Prints wall times in seconds (best of ``--repeat``). The model is built inline: two circular
 loops of one wavelength circumference in the vertical east and north planes, fed at the bottom
