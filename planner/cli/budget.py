@@ -54,10 +54,10 @@ def budget(
     ),
     azimuth_deg: float | None = typer.Option(None, "--azimuth-deg", help="Azimuth with --elevation-deg (default 0)."),
     direction: str = typer.Option("downlink", "--direction", help="downlink (satellite to station) or uplink."),
-    station: str | None = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station)."),
-    format: str = typer.Option("table", "--format", help="table or json."),
-    output: Path | None = typer.Option(None, "--output", help="Write JSON to this file (atomically)."),
-    allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+    station: str | None = common.STATION,
+    format: str = common.FORMAT_TABLE_JSON,
+    output: Path | None = common.OUTPUT,
+    allow_stale: bool = common.ALLOW_STALE,
     force: bool = common.FORCE,
 ) -> None:
     """Print the link budget as a ladder of terms, each one recomputable by hand."""

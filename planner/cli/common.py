@@ -13,8 +13,15 @@ from planner.errors import UserError
 
 FORMATS = ("table", "csv", "json")
 
-# Shared by every command that writes files.
+# Options several commands take, declared once.
 FORCE = typer.Option(False, "--force", help="Replace output files that already exist (never the run's own input files).")
+ALLOW_STALE = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window.")
+QUIET = typer.Option(False, "--quiet", help="No progress bar.")
+OUTPUT = typer.Option(None, "--output", help="Write the CSV or JSON to this file (atomically) instead of stdout.")
+FORMAT_ANY = typer.Option("table", "--format", help="table, csv or json.")
+FORMAT_TABLE_JSON = typer.Option("table", "--format", help="table or json.")
+STATIONS = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable.")
+STATION = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station).")
 
 
 def stdout() -> Console:

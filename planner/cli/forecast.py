@@ -57,11 +57,11 @@ def _chosen_candidates(study, candidate):
 def week(
     scenario: Path = typer.Argument(..., help="Scenario TOML file."),
     candidate: list[str] | None = typer.Option(None, "--candidate", help="Only this candidate; repeatable."),
-    format: str = typer.Option("table", "--format", help="table, csv or json."),
-    output: Path | None = typer.Option(None, "--output", help="Write to this file (atomically)."),
-    quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
-    station: list[str] | None = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
-    allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+    format: str = common.FORMAT_ANY,
+    output: Path | None = common.OUTPUT,
+    quiet: bool = common.QUIET,
+    station: list[str] | None = common.STATIONS,
+    allow_stale: bool = common.ALLOW_STALE,
     force: bool = common.FORCE,
 ) -> None:
     """Weekly forecast per candidate and satellite: passes, usable passes, minutes, data volume."""
@@ -125,14 +125,14 @@ def _print_week(study, result) -> None:
 def compare(
     scenario: Path = typer.Argument(..., help="Scenario TOML file."),
     candidate: list[str] | None = typer.Option(None, "--candidate", help="Only these candidates; repeatable."),
-    format: str = typer.Option("table", "--format", help="table or json."),
-    output: Path | None = typer.Option(None, "--output", help="Write the JSON to this file (atomically)."),
+    format: str = common.FORMAT_TABLE_JSON,
+    output: Path | None = common.OUTPUT,
     calendar: Path | None = typer.Option(None, "--calendar", help="Write the recommended set-up's usable passes as iCalendar."),
     figures: Path | None = typer.Option(None, "--figures", help="Write the figures (PNG and SVG) into this folder."),
     report: Path | None = typer.Option(None, "--report", help="Write a report folder: tables, figures, calendar, summary."),
-    quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
-    station: list[str] | None = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
-    allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+    quiet: bool = common.QUIET,
+    station: list[str] | None = common.STATIONS,
+    allow_stale: bool = common.ALLOW_STALE,
     force: bool = common.FORCE,
 ) -> None:
     """Compare the candidate set-ups and recommend one, with the reasons and a robustness check."""
@@ -228,12 +228,12 @@ def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, r
 def rank(
     scenario: Path = typer.Argument(..., help="Scenario TOML file (its [catalog] and [[satellite]] entries are ranked)."),
     candidate: str = typer.Option(..., "--candidate", help="Candidate set-up to rank the objects with."),
-    station: str | None = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station)."),
+    station: str | None = common.STATION,
     top: int = typer.Option(25, "--top", help="How many objects to list (the CSV/JSON has them all)."),
-    format: str = typer.Option("table", "--format", help="table, csv or json."),
-    output: Path | None = typer.Option(None, "--output", help="Write to this file (atomically)."),
-    quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
-    allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+    format: str = common.FORMAT_ANY,
+    output: Path | None = common.OUTPUT,
+    quiet: bool = common.QUIET,
+    allow_stale: bool = common.ALLOW_STALE,
     force: bool = common.FORCE,
 ) -> None:
     """Rank every object of the scenario (a whole catalog) by usable contact time for one set-up."""

@@ -30,7 +30,7 @@ def harness(
     load_ohm: str | None = typer.Option(
         None, "--load-ohm", help="Load at the far end, e.g. 50 or 100-40j (gives the impedance seen through the line)."
     ),
-    format: str = typer.Option("table", "--format", help="table or json."),
+    format: str = common.FORMAT_TABLE_JSON,
     pattern: Path | None = typer.Option(
         None,
         "--pattern",

@@ -72,10 +72,10 @@ def passes(
         None, "--satellite", help="Only this satellite (name or catalog number); repeatable."
     ),
     step_s: float = typer.Option(10.0, "--step-s", help="Track step, s (quick look; a scenario sets its own)."),
-    station: list[str] | None = typer.Option(None, "--station", help="Only this station of the scenario's network; repeatable."),
-    format: str = typer.Option("table", "--format", help="table, csv or json."),
-    output: Path | None = typer.Option(None, "--output", help="Write to this file (atomically) instead of stdout."),
-    allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+    station: list[str] | None = common.STATIONS,
+    format: str = common.FORMAT_ANY,
+    output: Path | None = common.OUTPUT,
+    allow_stale: bool = common.ALLOW_STALE,
     force: bool = common.FORCE,
 ) -> None:
     """Predict every pass over the station, with AOS, TCA, LOS and sky track."""

@@ -22,11 +22,11 @@ def sweep(
         ..., "--reflector-spacing", help="START:STOP:STEP in wavelengths (0.1:1:0.05) or metres (0.05m:0.6m:0.05m)."
     ),
     figure: Path | None = typer.Option(None, "--figure", help="Write the sweep figure here (a stem: .png and .svg are added)."),
-    station: str | None = typer.Option(None, "--station", help="Station of the scenario's network (default: the home station)."),
-    format: str = typer.Option("table", "--format", help="table, csv or json."),
-    output: Path | None = typer.Option(None, "--output", help="Write CSV/JSON to this file (atomically)."),
-    quiet: bool = typer.Option(False, "--quiet", help="No progress bar."),
-    allow_stale: bool = typer.Option(False, "--allow-stale", help="Go on with element sets more than 30 days from the window."),
+    station: str | None = common.STATION,
+    format: str = common.FORMAT_ANY,
+    output: Path | None = common.OUTPUT,
+    quiet: bool = common.QUIET,
+    allow_stale: bool = common.ALLOW_STALE,
     force: bool = common.FORCE,
 ) -> None:
     """Weekly usable minutes and data volume against reflector spacing; names the best spacing."""
