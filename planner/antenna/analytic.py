@@ -24,6 +24,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import overload
 
 import numpy as np
 
@@ -236,6 +237,10 @@ def check_pattern_grid(elevation_step_deg: float, n_elevation: int, azimuth_step
     )
 
 
+@overload
+def pattern_grid(elevation_step_deg: float, azimuth_step_deg: float) -> tuple[np.ndarray, np.ndarray]: ...
+@overload
+def pattern_grid(elevation_step_deg: float, azimuth_step_deg: None) -> tuple[np.ndarray, None]: ...
 def pattern_grid(elevation_step_deg: float, azimuth_step_deg: float | None) -> tuple[np.ndarray, np.ndarray | None]:
     """Elevations -90..90 and azimuths [0, 360) (None for a symmetric table) at the given steps,
     after checking that the grid fits the memory limit (:func:`check_pattern_grid`)."""

@@ -273,11 +273,11 @@ def parse_pattern(text: str, *, source: str = "<pattern>", path: Path | None = N
                 f"{where}: total gain gain_rhcp_dbic + gain_lhcp_dbic is {total_dbic:.2f} dBic; "
                 f"allowed up to {GAIN_CEILING_DBIC:g} dBic"
             )
-        key = (el + 0.0, az + 0.0)
-        if key in seen_rows:
+        direction = (el + 0.0, az + 0.0)
+        if direction in seen_rows:
             at = f"elevation {_fmt_deg(el)} deg" + (f", azimuth {_fmt_deg(az)} deg" if "azimuth_deg" in record else "")
-            raise UserError(f"{where}: duplicate row for {at} (first on line {seen_rows[key]}); give each direction once")
-        seen_rows[key] = lineno
+            raise UserError(f"{where}: duplicate row for {at} (first on line {seen_rows[direction]}); give each direction once")
+        seen_rows[direction] = lineno
         rows.append((lineno, el, az, record["gain_rhcp_dbic"], record["gain_lhcp_dbic"]))
 
     if not any_content:

@@ -76,7 +76,7 @@ import cmath
 import math
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
-from typing import Any
+from typing import Any, TypedDict
 
 import numpy as np
 from scipy.optimize import minimize_scalar
@@ -257,7 +257,8 @@ def trim_to_resonance(
     function, specs = TEMPLATES[template]
     name = SIZE_PARAMETERS[template]
     x0 = float(parameters[name])
-    bounds = tuple(float(b) for b in specs[name].allowed)
+    low, high = specs[name].allowed  # a number parameter's allowed range is (low, high)
+    bounds = (float(low), float(high))
     target = complex(target_resistance_ohm or 0.0, target_reactance_ohm)
     reactance_only = target_resistance_ohm is None
     if reactance_only:
@@ -374,14 +375,20 @@ class MatchSection:
             return f"shunt {shunt} across the antenna feed, then series {series} to the {self.reference_ohm:g} ohm line"
         return f"series {series} at the antenna feed, then shunt {shunt} across the {self.reference_ohm:g} ohm line"
 
+    def _line_parts(self) -> tuple[Cable, float]:
+        """A quarter-wave section's cable and physical length in metres (both always set on one)."""
+        # _line_section, the only maker of quarter-wave sections, sets both
+        assert self.kind == "quarter-wave" and self.cable is not None and self.length_m is not None
+        return self.cable, self.length_m
+
     def describe(self) -> str:
         if self.kind == "none":
             return "none (the feed impedance goes to the line as it is)"
         if self.kind == "quarter-wave":
-            cable = self.cable
+            cable, length_m = self._line_parts()
             return (
                 f"quarter-wave transformer of {cable.name} ({cable.impedance_ohm:g} ohm, velocity factor "
-                f"{cable.velocity_factor:g}; ideal {self.ideal_impedance_ohm:.1f} ohm), cut {self.length_m * 100:.2f} cm"
+                f"{cable.velocity_factor:g}; ideal {self.ideal_impedance_ohm:.1f} ohm), cut {length_m * 100:.2f} cm"
             )
         return f"lossless L-network (Pozar sec. 5.1): {self.components()}"
 
@@ -550,11 +557,14 @@ def _perturbed_match(
     (L-network, both parts), on ``load_ohm`` (default: its design load)."""
     load = match.load_impedance_ohm if load_ohm is None else complex(load_ohm)
     if match.kind == "quarter-wave":
-        length = match.length_m + cut_error_m
+        cable, length_m = match._line_parts()
+        length = length_m + cut_error_m
         if length <= 0:
-            raise UserError(f"cut error {cut_error_m * 1e3:g} mm leaves no matching section (it is {match.length_m * 1e3:.1f} mm)")
-        return _line_section(match.cable, load, length, match.frequency_hz, match.reference_ohm, match.ideal_impedance_ohm)
+            raise UserError(f"cut error {cut_error_m * 1e3:g} mm leaves no matching section (it is {length_m * 1e3:.1f} mm)")
+        return _line_section(cable, load, length, match.frequency_hz, match.reference_ohm, match.ideal_impedance_ohm)
     if match.kind == "l-network":
+        # l_network, the only maker of L-network sections, sets both parts
+        assert match.series_reactance_ohm is not None and match.shunt_susceptance_s is not None
         x = match.series_reactance_ohm * (1.0 + component_error)
         b = match.shunt_susceptance_s * (1.0 + component_error)
         z_in = _l_input(load, x, b, bool(match.shunt_at_load))
@@ -569,7 +579,14 @@ def _perturbed_match(
     return replace(match, load_impedance_ohm=load, input_impedance_ohm=load, **_vswr_fields(load, match.reference_ohm))
 
 
-def _vswr_fields(z_in: complex, reference_ohm: float) -> dict[str, float]:
+class _VswrFields(TypedDict):
+    """The MatchSection fields that follow from the input impedance."""
+
+    vswr: float
+    mismatch_loss_db: float
+
+
+def _vswr_fields(z_in: complex, reference_ohm: float) -> _VswrFields:
     vswr = float(vswr_from_impedance(z_in, reference_ohm)) if z_in.real > 0 else float("inf")
     return {"vswr": vswr, "mismatch_loss_db": float(mismatch_loss_db(vswr))}
 
@@ -789,9 +806,10 @@ class HarnessDesign:
             "matching_section": self.match.describe(),
         }
         if self.match.kind == "quarter-wave":
-            out["matching_section_cable"] = self.match.cable.name
-            out["matching_section_velocity_factor"] = f"{self.match.cable.velocity_factor:g}"
-            out["matching_section_cut_cm"] = f"{self.match.length_m * 100:.2f}"
+            cable, length_m = self.match._line_parts()
+            out["matching_section_cable"] = cable.name
+            out["matching_section_velocity_factor"] = f"{cable.velocity_factor:g}"
+            out["matching_section_cut_cm"] = f"{length_m * 100:.2f}"
         elif self.match.kind == "l-network":
             out["matching_components"] = self.match.components()
         out["cut_lengths"] = "physical = electrical length x velocity factor, cable ends to the connection points"

@@ -431,10 +431,12 @@ def segment_model(model: WireModel) -> Segmentation:
     if k_a > 0.1:
         warn(f"wire radius {np.max(radii):.4g} m gives k a = {k_a:.3g}: the thin-wire model wants k a << 1 (under 0.1)")
 
+    frequency_hz = model.frequency_hz
+    assert frequency_hz is not None  # WireModel.__post_init__ refuses a model without a frequency
     rho = [resistivity_ohm_m(w.material) for w in wires]
-    r_per_m = np.array([resistance_per_metre_ohm(rho[i], model.frequency_hz, wires[i].radius_m) for i in range(len(wires))])[wire_a]
-    for i, w in enumerate(wires):
-        if rho[i] is not None and w.radius_m < 3.0 * skin_depth_m(rho[i], model.frequency_hz):
+    r_per_m = np.array([resistance_per_metre_ohm(rho[i], frequency_hz, wires[i].radius_m) for i in range(len(wires))])[wire_a]
+    for i, (w, rho_i) in enumerate(zip(wires, rho)):
+        if rho_i is not None and w.radius_m < 3.0 * skin_depth_m(rho_i, frequency_hz):
             warn(
                 f"wire {_wire_label(model, i)!r}: radius {w.radius_m:g} m is under 3 skin depths; the skin-effect resistance is underestimated"
             )
@@ -500,7 +502,8 @@ def segment_model(model: WireModel) -> Segmentation:
         piece = pieces[np.nonzero(wires_here == chosen)[0][0]]
         return b, int(piece_sign[piece])
 
-    port_basis, port_sign = [], []
+    port_basis: list[int] = []
+    port_sign: list[int] = []
     for p in model.ports:
         b, s = node_basis(p.position, p.wire, f"port {p.name!r}")
         if b in port_basis:

@@ -156,6 +156,7 @@ def ground_constants(name: str, frequency_hz: float) -> tuple[float, float]:
     eps, sigma = entry.permittivity, entry.conductivity_s_per_m
     if entry.fit is not None:
         a, b, c, d = entry.fit
+        assert entry.fit_range_ghz is not None  # every class in GROUND_CLASSES with a fit gives its range
         low, high = entry.fit_range_ghz
         if name == "concrete":
             eps, sigma = a * f_ghz**b, c * f_ghz**d

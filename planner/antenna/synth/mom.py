@@ -327,8 +327,10 @@ class Solution:
     ) -> None:
         self.model = model
         self.segmentation = segmentation
-        self.frequency_hz = model.frequency_hz
-        self.wavenumber = 2.0 * math.pi * model.frequency_hz / speed_of_light
+        frequency_hz = model.frequency_hz
+        assert frequency_hz is not None  # WireModel.__post_init__ refuses a model without a frequency
+        self.frequency_hz = frequency_hz
+        self.wavenumber = 2.0 * math.pi * frequency_hz / speed_of_light
         self.impedance_matrix = impedance_matrix_
         self.currents_per_port = currents_per_port
         self.port_names = model.port_names
@@ -562,6 +564,7 @@ def solve(model: WireModel, *, quadrature_points: int = 4) -> Solution:
         raise UserError("model: has no ports; add at least one Port to excite it")
     check_matrix_size(estimated_segment_count(model))  # before segmenting: a huge model is refused at once
     seg = segment_model(model)
+    assert model.frequency_hz is not None  # WireModel.__post_init__ refuses a model without a frequency
     z = impedance_matrix(seg, model.frequency_hz, quadrature_points=quadrature_points)
     rhs = np.zeros((seg.n_basis, len(model.ports)), dtype=complex)
     rhs[seg.port_basis, np.arange(len(model.ports))] = seg.port_sign

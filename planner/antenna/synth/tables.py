@@ -127,7 +127,7 @@ def _fmt_value(value: Any) -> str:
     if isinstance(value, bool) or isinstance(value, str):
         return str(value)
     if isinstance(value, (int, float, np.floating, np.integer)):
-        return format_number(value)
+        return format_number(float(value))
     return str(value)
 
 
@@ -167,6 +167,7 @@ def build_pattern_table(
     under ``planner.antenna.synth`` taking ``parameters`` as keywords) lets the table be rebuilt.
     """
     frequency_hz = check_frequency(frequency_hz)
+    assert model.frequency_hz is not None  # WireModel.__post_init__ refuses a model without a frequency
     if abs(frequency_hz - model.frequency_hz) > 1e-9 * model.frequency_hz:
         raise ValueError(f"frequency_hz {frequency_hz:g} differs from the model's {model.frequency_hz:g}")
     elevation, azimuth = pattern_grid(elevation_step_deg, azimuth_step_deg)

@@ -183,8 +183,8 @@ def check_parameters(template: str, values: Mapping[str, Any]) -> dict[str, Any]
 
 def build_model(template: str, **values: Any) -> WireModel:
     """Validate the parameters and build the template's wire model."""
-    function, _ = TEMPLATES.get(template, (None, None))
-    params = check_parameters(template, values)
+    params = check_parameters(template, values)  # refuses an unknown template with a UserError
+    function, _ = TEMPLATES[template]
     return function(**params)
 
 
