@@ -107,6 +107,7 @@ def _omm_field(where: str, fields: dict, key: str, default, pattern, expected: s
 def _omm_number(where: str, fields: dict, key: str, default: float | None = None) -> float:
     value = _omm_field(where, fields, key, default, _NUMBER_RE, "a number")
     if value is None:
+        assert default is not None  # _omm_field refuses a missing keyword that has no default
         return default
     number = float(value)
     if not math.isfinite(number):
@@ -123,6 +124,7 @@ def _omm_integer(where: str, fields: dict, key: str, low: int, high: int, defaul
     """
     value = _omm_field(where, fields, key, default, _INTEGER_RE, "a whole number")
     if value is None:
+        assert default is not None  # _omm_field refuses a missing keyword that has no default
         return default
     digits = value.lstrip("+-").lstrip("0")
     if len(digits) > len(str(high)):

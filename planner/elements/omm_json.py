@@ -26,7 +26,7 @@ def _json_entry_lines(text: str) -> list[int]:
     index = len(text) - len(text.lstrip())
     if text[index] != "[":
         return [line_of(index)]
-    starts = []
+    starts: list[int] = []
     index += 1
     while True:
         while text[index].isspace():

@@ -50,6 +50,7 @@ def select_element_set(
         matches = [es for es in element_sets if es.norad_id == norad_id]
         wanted = f"NORAD id {norad_id}"
     else:
+        assert name is not None  # refused above when neither norad_id nor name is given
         key = _normalize_name(name)
         matches = [es for es in element_sets if _normalize_name(es.name) == key]
         wanted = f"name {name.strip()!r}"

@@ -53,7 +53,7 @@ def _write_samples(samples: np.ndarray, folder: str) -> str | None:
             return None
         fd, path = tempfile.mkstemp(prefix="planner-passes-", suffix=".f4", dir=folder)
         with os.fdopen(fd, "wb") as out:
-            out.write(memoryview(np.ascontiguousarray(samples)))
+            out.write(np.ascontiguousarray(samples).data)  # the array's buffer, no copy
         return path
     except OSError:
         if path is not None:
@@ -107,7 +107,9 @@ def _worker_count() -> int:
         return max(1, os.cpu_count() or 1)
 
 
-def _plan_chunks(satrecs: Sequence, duration_s: float, *, workers: int, chunk_satellites: int | None = None):
+def _plan_chunks(
+    satrecs: Sequence, duration_s: float, *, workers: int, chunk_satellites: int | None = None
+) -> list[tuple[float, np.ndarray]]:
     """Groups of satellite indices sharing a grid step, cut into chunks.
 
     Returns [(grid_step_s, indices)].  A chunk's SGP4 output stays under
@@ -115,7 +117,7 @@ def _plan_chunks(satrecs: Sequence, duration_s: float, *, workers: int, chunk_sa
     each worker gets a few of them.
     """
     steps = np.array([coarse_step_s(_perigee_period_s(s)) for s in satrecs])
-    plan = []
+    plan: list[tuple[float, np.ndarray]] = []
     for step in np.unique(steps):
         members = np.nonzero(steps == step)[0]
         n_time = len(_search_grid(duration_s, float(step)))

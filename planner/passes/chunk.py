@@ -127,7 +127,7 @@ class _Segments:
             valid = np.ones(len(tau), bool)
         else:
             valid = (self.ok0 | (tau == 1.0)) & (self.ok1 | (tau == 0.0))
-        position, velocity = _hermite(self.r0, self.v0, self.r1, self.v1, self.h, tau, rate)
+        (x, y, z), velocity = _hermite(self.r0, self.v0, self.r1, self.v1, self.h, tau, rate)
         # cos and sin of theta_k + delta by the angle sum, delta <= 60 s x 7.3e-5 rad/s =
         # 4.4e-3 rad: the series below are good to delta^6 / 720 < 1e-16.
         delta = self.theta_dot * since
@@ -138,7 +138,9 @@ class _Segments:
         sin_t = self.sin0 * cos_d + self.cos0 * sin_d
         azimuth_deg, elevation_deg, range_km, range_rate = _topocentric(
             self.site,
-            *position,
+            x,
+            y,
+            z,
             cos_t,
             sin_t,
             azimuth=azimuth,
@@ -189,7 +191,7 @@ class _Chunk:
         block = _LOOK_BLOCK
         if len(time_s) <= block:
             return _Segments(self, sat, self.interval_of(time_s)).look(time_s, azimuth=azimuth, rate=rate)
-        out = None
+        out: list[np.ndarray | None] | None = None
         for i in range(0, len(time_s), block):
             part = slice(i, i + block)
             values = _Segments(self, sat[part], self.interval_of(time_s[part])).look(time_s[part], azimuth=azimuth, rate=rate)
@@ -197,7 +199,9 @@ class _Chunk:
                 out = [None if v is None else np.empty(len(time_s), v.dtype) for v in values]
             for target, v in zip(out, values):
                 if v is not None:
+                    assert target is not None  # every block leaves the same columns out (azimuth, rate)
                     target[part] = v
+        assert out is not None  # more samples than one block: the loop ran
         return tuple(out)
 
     def clearance(self, sat: np.ndarray, time_s: np.ndarray) -> np.ndarray:

@@ -83,6 +83,12 @@ class _Clock:
         return gmst_1982_rad(np.full(np.shape(time_s), self.jd_whole), fraction + dut1_s / SECONDS_PER_DAY)
 
 
+def _three_floats(vector: np.ndarray) -> tuple[float, float, float]:
+    """A 3-vector as three plain floats (x, y, z)."""
+    x, y, z = (float(component) for component in vector)
+    return x, y, z
+
+
 @dataclass(frozen=True)
 class _Site:
     """The station as plain numbers: Earth-fixed position, ENU rows, mask."""
@@ -96,11 +102,13 @@ class _Site:
 
     @classmethod
     def of(cls, station: Station) -> _Site:
-        enu = station.enu_rotation
+        east, north, up = station.enu_rotation
         mask = station.mask
         return cls(
-            tuple(float(x) for x in station.ecef_km),
-            *(tuple(float(x) for x in row) for row in enu),
+            _three_floats(station.ecef_km),
+            _three_floats(east),
+            _three_floats(north),
+            _three_floats(up),
             np.asarray(mask.azimuth_deg, float),
             np.asarray(mask.min_elevation_deg, float),
         )

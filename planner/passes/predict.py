@@ -42,6 +42,13 @@ def _check_propagation_time(satrecs: Sequence, duration_s: float) -> None:
     )
 
 
+def _as_targets(targets: Sequence[Target | ElementSet] | Target | ElementSet) -> list[Target]:
+    """The targets as a list of ``Target``: one alone becomes a list, a bare element set a target."""
+    if isinstance(targets, (Target, ElementSet)):
+        targets = [targets]
+    return [t if isinstance(t, Target) else Target(t) for t in targets]
+
+
 def predict_passes(
     targets: Sequence[Target | ElementSet] | Target | ElementSet,
     station: Station,
@@ -63,9 +70,7 @@ def predict_passes(
     none at all below 200 satellites); ``chunk_satellites`` forces the chunk size.
     Neither changes the result.
     """
-    if isinstance(targets, (Target, ElementSet)):
-        targets = [targets]
-    targets = [t if isinstance(t, Target) else Target(t) for t in targets]
+    target_list = _as_targets(targets)
     if not step_s > 0:
         raise ValueError(f"step_s must be positive, got {step_s!r}")
     start_utc = start_utc.astimezone(UTC)
@@ -74,7 +79,7 @@ def predict_passes(
         return []
 
     usable, satrecs, recipes, messages = [], [], [], {}
-    for index, target in enumerate(targets):
+    for index, target in enumerate(target_list):
         satrec = target.element_set.satrec
         recipe = _recipe(satrec)
         # The initialisation error of a fresh copy: ``satrec.error`` itself also holds
@@ -105,9 +110,9 @@ def predict_passes(
             for grid_step, members in _plan_chunks(satrecs, duration_s, workers=workers, chunk_satellites=chunk_satellites)
         ]
         for result, failures in _run_all(jobs, workers):
-            passes.extend(_passes_from(result, targets, start_utc, float(step_s)))
+            passes.extend(_passes_from(result, target_list, start_utc, float(step_s)))
             for index, time_s, code in failures:
-                target = targets[index]
+                target = target_list[index]
                 when = start_utc + timedelta(seconds=time_s)
                 reason = SGP4_ERRORS.get(code, f"error {code}")
                 messages[index] = (
