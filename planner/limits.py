@@ -200,7 +200,7 @@ def check_allocation(what: str, count: int, bytes_per_item: float, limit_bytes: 
         raise UserError(f"{what} ({format_bytes(estimate)}); the limit is {format_bytes(limit_bytes)}; {hint}")
 
 
-def check_duration(what: str, count: int, seconds_per_item: float, limit_s: float, hint: str) -> None:
+def check_duration(what: str, count: float, seconds_per_item: float, limit_s: float, hint: str) -> None:
     """Refuse work whose estimated time ``count * seconds_per_item`` exceeds ``limit_s``: one
     UserError line "WHAT (about ESTIMATE); the limit is LIMIT; HINT"."""
     estimate = float(count) * float(seconds_per_item)
