@@ -30,10 +30,9 @@ import numpy as np
 
 from planner.antenna.table import GAIN_FLOOR_DBIC, PatternTable, linear_to_db
 from planner.antenna.tablefile import format_number, pattern_points_limit
+from planner.constants import SPEED_OF_LIGHT_M_S
 from planner.errors import UserError, positive_number, warn
 from planner.limits import MEMORY_LIMIT_BYTES, PATTERN_BYTES_PER_POINT, ceil_significant, check_allocation
-
-SPEED_OF_LIGHT_M_S = 299_792_458.0  # exact, SI definition of the metre
 
 DEMO_FREQUENCY_HZ = 436e6
 """Frequency label of the shipped tables (the demo UHF downlink band)."""

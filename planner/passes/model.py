@@ -13,8 +13,8 @@ from dataclasses import dataclass, field
 from datetime import datetime
 
 import numpy as np
-from scipy.constants import c as SPEED_OF_LIGHT_M_S
 
+from planner.constants import SPEED_OF_LIGHT_M_S
 from planner.elements import ElementSet
 
 

@@ -49,8 +49,8 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy.constants import mu_0, speed_of_light
 
+from planner.constants import SPEED_OF_LIGHT_M_S, VACUUM_PERMEABILITY_H_PER_M
 from planner.errors import UserError, warn
 
 JOIN_TOLERANCE_M = 1e-6
@@ -81,7 +81,7 @@ def resistivity_ohm_m(material: str | float) -> float | None:
 
 def skin_depth_m(resistivity_ohm_m: float, frequency_hz: float, mu_r: float = 1.0) -> float:
     """Skin depth delta = sqrt(rho / (pi f mu0 mu_r)) in metres."""
-    return math.sqrt(resistivity_ohm_m / (math.pi * frequency_hz * mu_0 * mu_r))
+    return math.sqrt(resistivity_ohm_m / (math.pi * frequency_hz * VACUUM_PERMEABILITY_H_PER_M * mu_r))
 
 
 def surface_resistance_ohm(resistivity_ohm_m: float, frequency_hz: float, mu_r: float = 1.0) -> float:
@@ -248,7 +248,7 @@ class WireModel:
 
     @property
     def wavelength_m(self) -> float:
-        return speed_of_light / self.frequency_hz
+        return SPEED_OF_LIGHT_M_S / self.frequency_hz
 
     @property
     def port_names(self) -> list[str]:

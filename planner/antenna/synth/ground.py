@@ -85,8 +85,8 @@ from dataclasses import dataclass
 from typing import NamedTuple
 
 import numpy as np
-from scipy.constants import epsilon_0, speed_of_light
 
+from planner.constants import SPEED_OF_LIGHT_M_S, VACUUM_PERMITTIVITY_F_PER_M
 from planner.errors import UserError, warn
 
 __all__ = [
@@ -175,9 +175,11 @@ def ground_constants(name: str, frequency_hz: float) -> tuple[float, float]:
 
 
 def complex_permittivity(permittivity, conductivity_s_per_m, frequency_hz):
-    """eps_c = eps_r - j sigma / (omega eps0) (e^{jwt}; scipy.constants.epsilon_0); broadcasts."""
+    """eps_c = eps_r - j sigma / (omega eps0) (e^{jwt}; scipy.constants.VACUUM_PERMITTIVITY_F_PER_M); broadcasts."""
     omega = 2.0 * np.pi * np.asarray(frequency_hz, dtype=float)
-    return np.asarray(permittivity, dtype=float) - 1j * np.asarray(conductivity_s_per_m, dtype=float) / (omega * epsilon_0)
+    return np.asarray(permittivity, dtype=float) - 1j * np.asarray(conductivity_s_per_m, dtype=float) / (
+        omega * VACUUM_PERMITTIVITY_F_PER_M
+    )
 
 
 def reflection_coefficients(grazing_deg, eps_c) -> tuple[np.ndarray, np.ndarray]:
@@ -213,7 +215,7 @@ class Ground:
 
     @property
     def wavenumber(self) -> float:
-        return 2.0 * math.pi * self.frequency_hz / speed_of_light
+        return 2.0 * math.pi * self.frequency_hz / SPEED_OF_LIGHT_M_S
 
     def describe(self) -> str:
         """``<class> (eps_r ..., sigma ... S/m at ... MHz)`` for a table header."""
@@ -339,7 +341,7 @@ def gains_over_ground_dbic(solution, azimuth_deg, elevation_deg, port_voltages, 
 def lobe_period_deg(ground: Ground, elevation_deg: float = 0.0) -> float:
     """Elevation period (deg) of the ground lobes near ``elevation_deg``: the path phase 2 k H sin el
     advances by 2 pi when sin el changes by lambda / (2 H)."""
-    lam = speed_of_light / ground.frequency_hz
+    lam = SPEED_OF_LIGHT_M_S / ground.frequency_hz
     return math.degrees(lam / (2.0 * ground.mast_height_m * math.cos(math.radians(elevation_deg))))
 
 

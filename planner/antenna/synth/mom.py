@@ -74,11 +74,11 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.constants import epsilon_0, mu_0, speed_of_light
 
 from planner.antenna.analytic import circular_components, direction_enu, spherical_unit_vectors
 from planner.antenna.synth.geometry import Segmentation, WireModel, estimated_segment_count, segment_model
 from planner.antenna.table import GAIN_FLOOR_DBIC
+from planner.constants import SPEED_OF_LIGHT_M_S, VACUUM_PERMEABILITY_H_PER_M, VACUUM_PERMITTIVITY_F_PER_M
 from planner.errors import UserError
 from planner.limits import (
     MEMORY_LIMIT_BYTES,
@@ -88,7 +88,7 @@ from planner.limits import (
     format_seconds,
 )
 
-ETA0_OHM = math.sqrt(mu_0 / epsilon_0)
+ETA0_OHM = math.sqrt(VACUUM_PERMEABILITY_H_PER_M / VACUUM_PERMITTIVITY_F_PER_M)
 """Wave impedance of free space (ohm), from scipy.constants."""
 
 NEAR_POINTS = 16
@@ -286,7 +286,7 @@ def check_matrix_size(n_segments: int) -> None:
 def impedance_matrix(seg: Segmentation, frequency_hz: float, *, quadrature_points: int = 4) -> np.ndarray:
     """Galerkin impedance matrix (n_basis, n_basis) of a segmented model, loads and loss included."""
     check_matrix_size(seg.n_segments)
-    k = 2.0 * math.pi * frequency_hz / speed_of_light
+    k = 2.0 * math.pi * frequency_hz / SPEED_OF_LIGHT_M_S
     own = _Sources(seg.starts, seg.tangents, seg.lengths, seg.radii)
     zse = _segment_end_matrix(seg, own, k, quadrature_points, SMOOTH_POINTS)
     if seg.ground == "pec":
@@ -330,7 +330,7 @@ class Solution:
         frequency_hz = model.frequency_hz
         assert frequency_hz is not None  # WireModel.__post_init__ refuses a model without a frequency
         self.frequency_hz = frequency_hz
-        self.wavenumber = 2.0 * math.pi * frequency_hz / speed_of_light
+        self.wavenumber = 2.0 * math.pi * frequency_hz / SPEED_OF_LIGHT_M_S
         self.impedance_matrix = impedance_matrix_
         self.currents_per_port = currents_per_port
         self.port_names = model.port_names

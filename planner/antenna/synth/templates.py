@@ -70,10 +70,10 @@ from collections.abc import Callable, Mapping
 from typing import Any, NamedTuple
 
 import numpy as np
-from scipy.constants import c as SPEED_OF_LIGHT_M_S
 
 from planner.antenna.synth.geometry import MATERIALS, Port, Wire, WireModel
 from planner.antenna.synth.ground import GROUND_CHOICES, NOTE_KEY, check_clearance, ground_note, make_ground
+from planner.constants import SPEED_OF_LIGHT_M_S
 from planner.errors import UserError
 
 __all__ = [
