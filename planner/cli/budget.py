@@ -95,6 +95,7 @@ def budget(
             **values,
             "noise": setup.noise_terms,
             "notes": setup.notes,
+            "model_notes": setup.model_notes,
             "terms": [{"key": k, "value": values[k], "unit": u, "meaning": m} for k, u, m in LADDER],
         }
         if summary:
@@ -118,6 +119,8 @@ def budget(
     console.print(f"noise temperatures (K): {noise}")
     for note in setup.notes:
         console.print(f"note: {note}", soft_wrap=True, markup=False)
+    for note in setup.model_notes:
+        console.print(f"modelling note: {note}", soft_wrap=True, markup=False)
     if summary:
         console.print(
             f"along the pass ({summary['samples']} samples): margin min {summary['min_margin_db']:.1f} dB, "

@@ -219,6 +219,8 @@ def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, r
         )
     console.print(table)
     console.print(decision.explanation, soft_wrap=False, markup=False)
+    for note in decision.model_notes:
+        console.print(f"Modelling note: {note}.", soft_wrap=False, markup=False)
     if report is not None:
         console.print(f"Report written to {report}/ (summary.md, tables, figures/, calendar.ics).")
     return decision

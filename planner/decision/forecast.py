@@ -35,7 +35,7 @@ Local hour is *mean solar time* at the station's longitude (UTC hour + longitude
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from datetime import UTC, datetime
 
 import numpy as np
@@ -220,7 +220,7 @@ def _satellite_tracks(mine: list[tuple[int, Pass]]) -> tuple:
     )
 
 
-def _sample_frames(study, names: list[str], progress: Callable[[int, int], None] | None, numbered: list):
+def _sample_frames(study, names: list[str], progress: Callable[[int, int], None] | None, numbered: list, model_notes: list[str]):
     """(satellite, {candidate: samples frame}) for every satellite with passes, in scenario order.
 
     A satellite's track arrays exist only while its budgets are evaluated, so memory holds
@@ -267,6 +267,7 @@ def _sample_frames(study, names: list[str], progress: Callable[[int, int], None]
                 source=study.source,
                 antenna_noise=noise(candidate, config.downlink_frequency_hz),
             )
+            model_notes.extend(n for n in setup.model_notes if n not in model_notes)
             budget = evaluate(setup, azimuth, elevation, range_km)
             frames[candidate] = pd.DataFrame(
                 {
@@ -299,6 +300,7 @@ def compute_samples(
     *,
     progress: Callable[[int, int], None] | None = None,
     numbered: list | None = None,
+    model_notes: list[str] | None = None,
 ) -> pd.DataFrame:
     """One row per (candidate, satellite, pass, sample) with the downlink margin.
 
@@ -312,7 +314,7 @@ def compute_samples(
     names = _checked_candidates(study, candidates)
     per_candidate: dict[str, list[pd.DataFrame]] = {name: [] for name in names}
     numbered = numbered_passes(study) if numbered is None else numbered
-    for _, frames in _sample_frames(study, names, progress, numbered):
+    for _, frames in _sample_frames(study, names, progress, numbered, model_notes if model_notes is not None else []):
         for name, frame in frames.items():
             per_candidate[name].append(frame)
     ordered = [frame for name in names for frame in per_candidate[name]]
@@ -626,6 +628,7 @@ class Forecast:
     weekly: pd.DataFrame
     days: float
     criteria: CriteriaConfig
+    model_notes: list[str] = field(default_factory=list)  # models used beyond their range, once each
 
     @property
     def candidates(self) -> list[str]:
@@ -660,17 +663,28 @@ def forecast(
     names = _checked_candidates(study, candidates)
     numbered = numbered_passes(study) if numbered is None else numbered
     passes = pass_table(study, numbered)
+    model_notes: list[str] = []
     if keep_samples:
-        samples = compute_samples(study, names, progress=progress, numbered=numbered)
+        samples = compute_samples(study, names, progress=progress, numbered=numbered, model_notes=model_notes)
         outcomes = summarize_passes(samples, passes, study.criteria, study.satellites)
     else:
         samples = _empty_samples()
-        outcomes = _summarized_in_batches(study, names, passes, progress, numbered)
+        outcomes = _summarized_in_batches(study, names, passes, progress, numbered, model_notes)
     weekly = weekly_table(outcomes, study.days, candidates=names, satellites=[s.name for s in study.satellites])
-    return Forecast(samples=samples, passes=passes, outcomes=outcomes, weekly=weekly, days=study.days, criteria=study.criteria)
+    return Forecast(
+        samples=samples,
+        passes=passes,
+        outcomes=outcomes,
+        weekly=weekly,
+        days=study.days,
+        criteria=study.criteria,
+        model_notes=model_notes,
+    )
 
 
-def _summarized_in_batches(study, names: list[str], passes: pd.DataFrame, progress, numbered: list) -> pd.DataFrame:
+def _summarized_in_batches(
+    study, names: list[str], passes: pd.DataFrame, progress, numbered: list, model_notes: list[str]
+) -> pd.DataFrame:
     """``summarize_passes`` over batches of satellites, in the order it gives for all at once."""
     parts: list[pd.DataFrame] = []
     batch: list[pd.DataFrame] = []
@@ -684,7 +698,7 @@ def _summarized_in_batches(study, names: list[str], passes: pd.DataFrame, progre
         batch.clear()
         batch_satellites.clear()
 
-    for satellite, frames in _sample_frames(study, names, progress, numbered):
+    for satellite, frames in _sample_frames(study, names, progress, numbered, model_notes):
         batch.extend(frames.values())
         batch_satellites.append(satellite)
         rows += sum(len(frame) for frame in frames.values())

@@ -51,6 +51,7 @@ class Recommendation:
     winner_by_shift_db: dict[float, str] = field(default_factory=dict)
     schedules: dict = field(default_factory=dict)  # candidate -> ScheduleResult
     notes: list[str] = field(default_factory=list)  # e.g. candidates charged no feed mismatch
+    model_notes: list[str] = field(default_factory=list)  # models used beyond their stated range
 
     def to_contract(self) -> dict:
         """The `planner compare --format json` document (its contract keys plus a few extra)."""
@@ -74,6 +75,7 @@ class Recommendation:
             "winner_by_shift_db": {f"{k:+g}": v for k, v in sorted(self.winner_by_shift_db.items())},
             "explanation": self.explanation,
             "notes": list(self.notes),
+            "model_notes": list(self.model_notes),
         }
 
 
@@ -163,6 +165,7 @@ def recommend(forecast: Forecast, satellites, candidates) -> Recommendation:
         winner_by_shift_db=winners,
         schedules=schedules,
         notes=notes,
+        model_notes=list(forecast.model_notes),
     )
 
 

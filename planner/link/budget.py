@@ -52,7 +52,7 @@ from planner.errors import UserError, warn
 from planner.link.atmosphere import gaseous_loss_db
 from planner.link.feedline import cable_loss_db, mismatch_loss_db
 from planner.link.modem import required_ebn0_db
-from planner.link.noise import antenna_noise_temperature_k, receive_chain
+from planner.link.noise import antenna_noise_temperature_k, p372_extrapolation_note, receive_chain
 from planner.link.polarization import WaveKind, WavePolarization, polarization_loss_db
 
 if TYPE_CHECKING:
@@ -157,6 +157,7 @@ class LinkSetup:
     antenna_noise_temperature_k: float | None = None  # T_A (downlink)
     chain_noise_temperature_k: float | None = None  # T_chain / M at the antenna terminals (downlink)
     notes: list[str] = field(default_factory=list)  # what the ladder must say (no feed data...)
+    model_notes: list[str] = field(default_factory=list)  # where a model is used beyond its range
     # Receiving antenna: a pattern table (downlink) or a fixed gain and polarization (uplink).
     pattern: PatternTable | None = None
     fixed_gain_rhcp_dbic: float | None = None
@@ -307,6 +308,7 @@ def downlink_setup(
         antenna_noise_temperature_k=noise.total_k,
         chain_noise_temperature_k=chain.chain_noise_temperature_k,
         notes=[note] if note else [],
+        model_notes=[n for n in [p372_extrapolation_note(frequency_hz, station.noise_environment)] if n],
         pattern=pattern,
     )
 

@@ -68,7 +68,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from planner.errors import UserError, warn
+from planner.errors import UserError
 from planner.link.feedline import line_noise_temperature_k
 
 T0_K = 290.0
@@ -123,21 +123,31 @@ def _category(name: str) -> str:
 def p372_noise_factor_db(frequency_hz, category: str):
     """Median external noise factor Fa (dB above k T0 b) of ITU-R P.372 for a category.
 
-    ``category``: city, residential, rural, quiet_rural (man-made) or galactic. Warns when the
-    frequency is outside the range the line is given for (see the module notes).
+    ``category``: city, residential, rural, quiet_rural (man-made) or galactic. Outside the range
+    the line is given for it is extrapolated; :func:`p372_extrapolation_note` says so once, as a
+    modelling note of the budget (see the module notes).
     """
     key = _category(category)
     f_mhz = np.asarray(frequency_hz, dtype=float) / 1e6
     if not np.all(np.isfinite(f_mhz)) or np.any(f_mhz <= 0):
         raise UserError(f"frequency must be positive, got {frequency_hz!r}")
-    low, high = GALACTIC_VALID_MHZ if key == "galactic" else MAN_MADE_VALID_MHZ
-    if np.any(f_mhz < low) or np.any(f_mhz > high):
-        # Said per side of the range, not per frequency, so a run warns once, not once a satellite.
-        side = f"below {low:g}" if np.any(f_mhz < low) else f"above {high:g}"
-        warn(f"ITU-R P.372 {key.replace('_', ' ')} noise is given for {low:g}-{high:g} MHz; it is extrapolated {side} MHz here")
     c, d = P372_CONSTANTS[key]
     fa = c - d * np.log10(f_mhz)
     return float(fa) if np.ndim(fa) == 0 else fa
+
+
+def p372_extrapolation_note(frequency_hz: float, category: str) -> str | None:
+    """The modelling note for a P.372 noise line used outside the range it is given for, or None.
+
+    Said per side of the range, not per frequency, so a budget or a report states it once.
+    """
+    key = _category(category)
+    low, high = GALACTIC_VALID_MHZ if key == "galactic" else MAN_MADE_VALID_MHZ
+    f_mhz = float(frequency_hz) / 1e6
+    if low <= f_mhz <= high:
+        return None
+    side = f"below {low:g}" if f_mhz < low else f"above {high:g}"
+    return f"ITU-R P.372 {key.replace('_', ' ')} noise is given for {low:g}-{high:g} MHz; it is extrapolated {side} MHz here"
 
 
 def _fa_to_temperature_k(fa_db):

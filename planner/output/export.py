@@ -313,6 +313,7 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
         f"- `calendar.ics`: the usable passes of {recommendation.recommended} (RFC 5545)",
         "- `figures/`: " + ", ".join(sorted({Path(p).stem for p in figures})) + " (PNG and SVG)",
         "",
+        *(["## Modelling notes", "", *[f"- {n}." for n in recommendation.model_notes], ""] if recommendation.model_notes else []),
         "## Before you build",
         "",
         *[f"- {c}" for c in STATION_CAUTIONS],
