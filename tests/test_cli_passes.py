@@ -294,3 +294,15 @@ def test_catalog_number_of_thousands_of_digits_is_one_line():
     )
     line = assert_one_error_line(run, "--satellite:", "(5000 digits) is not a catalog number", "1 to 999999999")
     assert len(line) < 300
+
+
+def test_version_option_prints_the_package_version():
+    # The one version source is planner.__version__ (pyproject reads it; packaging metadata agrees).
+    import importlib.metadata
+
+    import planner
+
+    result = run("--version")
+    assert result.returncode == 0, result.stderr
+    assert result.stdout.strip() == f"planner {planner.__version__}"
+    assert importlib.metadata.version("planner") == planner.__version__

@@ -12,6 +12,16 @@ pattern_app = typer.Typer(help="Antenna pattern tables: build them from models, 
 app.add_typer(pattern_app, name="pattern")
 
 
+def _print_version(value: bool) -> None:
+    if value:
+        from planner import __version__
+
+        print(f"planner {__version__}")
+        raise typer.Exit()
+
+
 @app.callback()
-def _root() -> None:
+def _root(
+    version: bool = typer.Option(False, "--version", callback=_print_version, is_eager=True, help="Print the version and stop."),
+) -> None:
     """Plan a satellite ground station: passes, link margins and the antenna set-up to build."""
