@@ -306,3 +306,14 @@ def test_version_option_prints_the_package_version():
     assert result.returncode == 0, result.stderr
     assert result.stdout.strip() == f"planner {planner.__version__}"
     assert importlib.metadata.version("planner") == planner.__version__
+
+
+def test_help_prints_toml_table_names_and_plain_flags():
+    # Help is plain text: the scenario's table names keep their TOML brackets (TOML v1.0: "[table]",
+    # "[[array of tables]]"), and an on/off flag takes no value, so none is shown (common practice,
+    # no published source).
+    result = run("rank", "--help")
+    assert result.returncode == 0, result.stderr
+    assert "[catalog] and [[satellite]]" in " ".join(result.stdout.split())
+    flags = [line for line in result.stdout.splitlines() if line.strip().startswith(("--quiet", "--force", "--allow-stale"))]
+    assert len(flags) == 3 and not any("<bool>" in line for line in flags), flags

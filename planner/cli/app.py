@@ -2,13 +2,17 @@
 
 import typer
 
+# Help texts are plain text: no rich markup, so "[catalog]" and "[[satellite]]" print as written.
 app = typer.Typer(
     add_completion=False,
     no_args_is_help=True,
+    rich_markup_mode=None,
     help="Plan a satellite ground station: passes, link margins and the antenna set-up to build.",
 )
 
-pattern_app = typer.Typer(help="Antenna pattern tables: build them from models, inspect them.", no_args_is_help=True)
+pattern_app = typer.Typer(
+    help="Antenna pattern tables: build them from models, inspect them.", no_args_is_help=True, rich_markup_mode=None
+)
 app.add_typer(pattern_app, name="pattern")
 
 
