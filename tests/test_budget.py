@@ -6,6 +6,7 @@ Sources: docs/references.md (full citations; values not yet checked against the 
 from __future__ import annotations
 
 import json
+import re
 from math import log10, pi, sqrt
 
 import numpy as np
@@ -36,7 +37,7 @@ CONTRACT_KEYS = {
     "free_space_loss_db",
     "atmospheric_loss_db",
     "polarization_loss_db",
-    "rx_antenna_gain_dbic",
+    "rx_gain_total_dbi",
     "feedline_loss_db",
     "system_noise_temperature_k",
     "g_over_t_dbk",
@@ -119,7 +120,7 @@ def test_end_to_end_budget_recomputed_by_hand(study):
     assert row["eirp_dbw"] == pytest.approx(eirp, abs=1e-9)
     assert row["free_space_loss_db"] == pytest.approx(fsl, abs=0.01)
     assert row["polarization_loss_db"] == pytest.approx(pol_loss, abs=1e-6)
-    assert row["rx_antenna_gain_dbic"] == pytest.approx(rx_gain, abs=1e-6)
+    assert row["rx_gain_total_dbi"] == pytest.approx(rx_gain, abs=1e-6)
     assert row["feedline_loss_db"] == pytest.approx(loss_db, abs=1e-6)
     assert row["mismatch_loss_db"] == pytest.approx(-10 * log10(m), abs=1e-9)
     assert row["g_over_t_dbk"] == pytest.approx(rx_gain - 10 * log10(t_sys), abs=1e-6)
@@ -135,7 +136,7 @@ def test_rhcp_wave_meets_the_rhcp_partial_gain(study):
     setup.wave = type(setup.wave)("rhcp", 0.0)
     elevation = np.linspace(1, 90, 30)
     frame = evaluate(setup, np.zeros_like(elevation), elevation, np.full_like(elevation, 1500.0))
-    effective = frame["rx_antenna_gain_dbic"] - frame["polarization_loss_db"]
+    effective = frame["rx_gain_total_dbi"] - frame["polarization_loss_db"]
     assert np.allclose(effective, frame["rx_gain_rhcp_dbic"], atol=1e-6)
 
 
@@ -161,7 +162,7 @@ def test_pass_budget_is_a_frame_along_the_track(study):
 def test_uplink_budget(study):
     setup = study.uplink_setup("CALDERWISP")
     tx = study.scenario.transmitter
-    assert setup.eirp_dbw == pytest.approx(10 * log10(tx.power_w) + tx.antenna_gain_dbi - setup.feedline_loss_db)
+    assert setup.eirp_dbw == pytest.approx(10 * log10(tx.power_w) + tx.antenna_gain_dbi - setup.tx_line_loss_db)
     row = evaluate(setup, [0.0], [45.0], [800.0]).iloc[0]
     # RHCP station wave into a tumbling linear satellite antenna: 3.01 dB (Stutzman).
     assert row["polarization_loss_db"] == pytest.approx(3.0103, abs=1e-3)
@@ -190,6 +191,42 @@ def test_rf_exposure_far_field():
     assert power_density_mw_cm2(100.0, min_distance_m(100.0, 145.9e6)) == pytest.approx(0.2)
 
 
+def _far_field_mw_cm2(eirp_w, distance_m):
+    """FCC OET Bulletin 65 (1997), eq. 3: S = EIRP / (4 pi R^2), W/m^2; 1 W/m^2 = 0.1 mW/cm^2."""
+    return eirp_w / (4 * pi * distance_m**2) / 10
+
+
+def _fcc_general_population_mw_cm2(f_mhz):
+    """47 CFR 1.1310 Table 1(B), general population/uncontrolled exposure, 30 MHz-100 GHz (from memory)."""
+    return 0.2 if f_mhz <= 300 else f_mhz / 1500 if f_mhz <= 1500 else 1.0
+
+
+def _check_recommended(distance_m, eirp_w, f_mhz):
+    limit = _fcc_general_population_mw_cm2(f_mhz)
+    assert round(distance_m, 1) == distance_m  # a whole number of tenths of a metre
+    assert _far_field_mw_cm2(eirp_w, distance_m) <= limit
+    if distance_m > 0.1:  # 0.1 m is the floor
+        assert _far_field_mw_cm2(eirp_w, distance_m - 0.1) > limit
+
+
+@pytest.mark.parametrize(
+    "eirp_w, f_mhz",
+    [
+        (25.2, 145.88),  # about the demo's uplink: the unrounded 1.002 m must give 1.1 m, not 1.0 m
+        (4 * pi * 2.0, 145.9),  # exactly 1 m at 0.2 mW/cm^2 = 2 W/m^2
+        (100.0, 145.9),
+        (1500.0, 435.0),
+        (40.0, 2400.0),
+        (0.001, 145.9),  # far inside 0.1 m: the floor
+    ],
+)
+def test_recommended_distance_is_rounded_up_to_within_the_limit(eirp_w, f_mhz):
+    from planner.link.safety import recommended_distance_m
+
+    _check_recommended(recommended_distance_m(eirp_w, f_mhz * 1e6), eirp_w, f_mhz)
+    assert general_public_limit_mw_cm2(f_mhz * 1e6) == pytest.approx(_fcc_general_population_mw_cm2(f_mhz))
+
+
 # --- the command ------------------------------------------------------------------------
 
 
@@ -200,8 +237,8 @@ def test_budget_json_has_the_contract_keys():
     assert CONTRACT_KEYS <= set(document)
     assert document["direction"] == "downlink" and document["satellite"] == "WRENLING-1"
     assert document["pass_summary"]["max_margin_db"] >= document["pass_summary"]["min_margin_db"]
-    # The transmitter in the demo draws the RF exposure estimate and its caution.
-    assert "not a compliance evaluation" in result.stderr
+    # WRENLING-1 has no uplink: no RF exposure estimate with its budget, though the scenario has a transmitter.
+    assert "RF exposure" not in result.stderr
 
 
 def test_budget_ladder_prints_every_term():
@@ -209,7 +246,7 @@ def test_budget_ladder_prints_every_term():
     assert result.returncode == 0, result.stderr
     for term in ("eirp_dbw", "free_space_loss_db", "g_over_t_dbk", "cn0_dbhz", "margin_db"):
         assert term in result.stdout
-    assert "RF exposure" in result.stdout
+    assert "RF exposure" not in result.stdout  # OSTRAVEL-2 has no uplink
 
 
 def assert_user_error(result, *fragments):
@@ -307,14 +344,14 @@ def test_cn0_change_with_vswr_matches_the_formula_by_hand():
         - row["free_space_loss_db"]
         - row["atmospheric_loss_db"]
         - row["polarization_loss_db"]
-        + row["rx_antenna_gain_dbic"]
+        + row["rx_gain_total_dbi"]
     )
     cn0 = available_dbw + 10 * log10(m) + 228.5991 - 10 * log10(m * t_a + t_chain)
     assert row["received_power_dbw"] == pytest.approx(available_dbw, abs=1e-9)
     assert row["mismatch_loss_db"] == pytest.approx(-10 * log10(m), abs=1e-9)
     assert row["system_noise_temperature_k"] == pytest.approx(t_a + t_chain / m, rel=1e-9)
     assert row["cn0_dbhz"] == pytest.approx(cn0, abs=1e-3)
-    assert row["g_over_t_dbk"] == pytest.approx(row["rx_antenna_gain_dbic"] - 10 * log10(t_a + t_chain / m), abs=1e-9)
+    assert row["g_over_t_dbk"] == pytest.approx(row["rx_gain_total_dbi"] - 10 * log10(t_a + t_chain / m), abs=1e-9)
     # C/N0 moves by 10 log10 M - 10 log10((M T_A + T_chain) / (T_A + T_chain)) from the matched antenna.
     change = 10 * log10(m) - 10 * log10((m * t_a + t_chain) / (t_a + t_chain))
     assert row["cn0_dbhz"] - rows[1.0]["cn0_dbhz"] == pytest.approx(change, abs=1e-6)
@@ -534,3 +571,171 @@ def test_no_feed_data_is_said_in_the_ladder_and_the_comparison(tmp_path):
     # The scenario's feed_vswr counts as feed data.
     given = demo_variant(tmp_path, demo_pattern_text(), f'"{bare}"\nfeed_vswr = 1.5')
     assert json.loads(run("budget", given, *args, "--candidate", "turnstile-close", "--format", "json").stdout)["notes"] == []
+
+
+# --- the ladder's order, names and units; the title; the uplink below the mask; RF exposure ------------
+
+# A key's suffix names its unit (units in names); the ladder's unit column must say the same.
+UNIT_OF_SUFFIX = {
+    "_mhz": "MHz",
+    "_deg": "deg",
+    "_km": "km",
+    "_dbw": "dBW",
+    "_dbi": "dBi",
+    "_dbic": "dBic",
+    "_db": "dB",
+    "_k": "K",
+    "_dbk": "dB/K",
+    "_dbhz": "dB-Hz",
+    "_dbw_per_k_hz": "dBW/K/Hz",
+}
+
+
+def _budget_json(*args):
+    result = run("budget", DEMO, *args, "--format", "json")
+    assert result.returncode == 0, result.stderr
+    return json.loads(result.stdout), result.stderr
+
+
+def test_ladder_order_names_and_units():
+    # WRENLING-1 (GMSK, no coding) and the satellite with a coding gain in the demo, both on the downlink.
+    coded = next(s.name for s in load_scenario(DEMO).satellite if s.coding_gain_db > 0 and s.required_cn0_dbhz is None)
+    for satellite in ("WRENLING-1", coded):
+        document, _ = _budget_json("--satellite", satellite, "--candidate", "turnstile-close", "--elevation-deg", "30")
+        keys = [term["key"] for term in document["terms"]]
+        # Carrier side, then noise, then the demodulator, each term after what it is computed from.
+        order = [
+            "eirp_dbw",
+            "free_space_loss_db",
+            "atmospheric_loss_db",
+            "polarization_loss_db",
+            "rx_gain_total_dbi",
+            "received_power_dbw",
+            "system_noise_temperature_k",
+            "cn0_dbhz",
+            "ebn0_db",
+            "ideal_ebn0_db",
+            "implementation_loss_db",
+            "coding_gain_db",
+            "required_ebn0_db",
+            "margin_db",
+        ]
+        assert [k for k in keys if k in order] == order
+        stages = [term["stage"] for term in document["terms"]]
+        assert list(dict.fromkeys(stages)) == ["geometry", "carrier", "noise", "demodulator"]
+        assert stages == sorted(stages, key=["geometry", "carrier", "noise", "demodulator"].index)
+        assert not {"theory_ebn0_db", "rx_antenna_gain_dbic"} & (set(keys) | set(document))
+        for term in document["terms"]:
+            assert document[term["key"]] == term["value"]  # top level and terms agree
+            suffix = max((x for x in UNIT_OF_SUFFIX if term["key"].endswith(x)), key=len)
+            assert term["unit"] == UNIT_OF_SUFFIX[suffix], term
+        # The demodulator rows add up: required = ideal + implementation loss - coding gain,
+        # margin = Eb/N0 - required, Eb/N0 = C/N0 - 10 log10(R).
+        d = document
+        assert d["required_ebn0_db"] == pytest.approx(d["ideal_ebn0_db"] + d["implementation_loss_db"] - d["coding_gain_db"])
+        assert d["margin_db"] == pytest.approx(d["ebn0_db"] - d["required_ebn0_db"])
+        assert d["ebn0_db"] == pytest.approx(d["cn0_dbhz"] - d["data_rate_dbhz"])
+    # Total gain = RHCP + LHCP partial gains as powers, in dBi (IEEE Std 145: partial gains add to the gain).
+    g = 10 * log10(10 ** (d["rx_gain_rhcp_dbic"] / 10) + 10 ** (d["rx_gain_lhcp_dbic"] / 10))
+    assert d["rx_gain_total_dbi"] == pytest.approx(g, abs=1e-9)
+    assert d["coding_gain_db"] > 0
+
+
+def test_uplink_shows_the_transmitter_line_loss_once(study):
+    document, _ = _budget_json("--satellite", "CALDERWISP", "--direction", "uplink", "--elevation-deg", "30")
+    tx = study.scenario.transmitter
+    f_mhz = study.scenario.satellite_named("CALDERWISP").uplink_mhz
+    # The transmitter's run by hand: cable loss k1 sqrt(f) + k2 f per 100 m, plus its connectors.
+    ((cable, length_m),) = study.transmitter_feedline
+    line_db = (cable.k1_db_per_100m_sqrt_mhz * sqrt(f_mhz) + cable.k2_db_per_100m_per_mhz * f_mhz) * length_m / 100
+    line_db += tx.connectors * tx.connector_loss_db
+    assert document["tx_line_loss_db"] == pytest.approx(line_db, abs=1e-9)
+    losses = [t["key"] for t in document["terms"] if t["unit"] == "dB" and t["value"] == pytest.approx(line_db)]
+    assert losses == ["tx_line_loss_db"]
+    assert document["feedline_loss_db"] is None and document["mismatch_loss_db"] is None
+    # EIRP = P - line loss + G (dBW), from the transmitter table.
+    assert document["eirp_dbw"] == pytest.approx(10 * log10(tx.power_w) - line_db + tx.antenna_gain_dbi, abs=1e-9)
+
+
+def test_ladder_title_names_the_direction(study):
+    up = run("budget", DEMO, "--satellite", "CALDERWISP", "--direction", "uplink", "--elevation-deg", "30")
+    assert up.returncode == 0, up.stderr
+    assert f"uplink budget: {study.station.name} -> CALDERWISP;" in " ".join(up.stdout.split())
+    down = run("budget", DEMO, "--satellite", "CALDERWISP", "--candidate", "turnstile-close", "--elevation-deg", "30")
+    assert down.returncode == 0, down.stderr
+    assert "downlink budget: CALDERWISP -> turnstile-close;" in " ".join(down.stdout.split())
+
+
+def _mask_deg(azimuth_deg):
+    """The demo's horizon mask, linear between its points and wrapping at north (as demo.toml says)."""
+    points = np.array([[0, 3], [40, 8], [90, 4], [180, 6], [270, 2]], dtype=float)
+    return np.interp(azimuth_deg, points[:, 0], points[:, 1], period=360.0)
+
+
+def test_uplink_below_the_mask_is_refused_with_the_next_aos(study):
+    from datetime import UTC, datetime, timedelta
+
+    from skyfield.api import EarthSatellite, load, wgs84
+
+    assert "horizon_mask = [[0, 3], [40, 8], [90, 4], [180, 6], [270, 2]]" in DEMO.read_text()
+    moment = "2027-01-05T06:10:00Z"
+    args = ("budget", DEMO, "--satellite", "CALDERWISP", "--at", moment)
+    result = run(*args, "--direction", "uplink")
+    assert_user_error(result, "--at", "CALDERWISP", "below the horizon mask", moment, "next pass", "AOS at")
+    aos = datetime.fromisoformat(re.search(r"AOS at (\S+Z)", result.stderr).group(1))
+    # skyfield (the reference of tests/test_passes.py): below the mask from the time asked for until
+    # the AOS, on the mask at the AOS (within the 1 s of the printed time).
+    ts = load.timescale(builtin=True)
+    element_set = next(t for t in study.targets if t.display_name == "CALDERWISP").element_set
+    sat = EarthSatellite.from_satrec(element_set.satrec, ts)
+    s = study.station
+    site = wgs84.latlon(s.latitude_deg, s.longitude_deg, elevation_m=s.altitude_m)
+    start = datetime(2027, 1, 5, 6, 10, tzinfo=UTC)
+    seconds = np.arange(0.0, (aos - start).total_seconds() - 2.0, 5.0)
+    times = ts.from_datetimes([start + timedelta(seconds=float(x)) for x in seconds])
+    alt, az, _ = (sat - site).at(times).altaz()
+    assert np.all(alt.degrees < _mask_deg(az.degrees))
+    alt, az, _ = (sat - site).at(ts.from_datetimes([aos - timedelta(seconds=1), aos + timedelta(seconds=1)])).altaz()
+    clearance = alt.degrees - _mask_deg(az.degrees)
+    assert clearance[0] < 0.1 and clearance[1] > -0.1 and clearance[1] > clearance[0]
+    # The downlink at the same time still gives its ladder, with a warning.
+    down = run(*args, "--candidate", "turnstile-close")
+    assert down.returncode == 0 and "below the horizon mask" in down.stderr and "margin_db" in down.stdout
+
+
+def test_uplink_below_the_mask_after_the_window_says_none_in_it():
+    # The demo window is 4-11 January 2027; CALDERWISP is below the mask at 23:55 on the last day.
+    result = run("budget", DEMO, "--satellite", "CALDERWISP", "--direction", "uplink", "--at", "2027-01-10T23:55:00Z")
+    assert result.returncode == 2
+    error = [line for line in result.stderr.splitlines() if "error" in line]
+    assert len(error) == 1 and "no pass in the window after then" in error[0] and "2027-01-11T00:00:00Z" in error[0]
+
+
+def _exposure(text):
+    """(the exposure header lines, the recommended distance in m) from the budget's output."""
+    heads = [line for line in text.splitlines() if line.startswith("RF exposure near the station antenna")]
+    distance = [float(x) for x in re.findall(r"keep the public at least ([0-9.]+) m", text)]
+    return heads, distance
+
+
+def test_exposure_is_for_the_budget_satellite_and_within_the_limit_at_the_printed_distance(tmp_path, study):
+    # A second satellite with an uplink: the budget of one prints the exposure of that one alone.
+    path = demo_variant(tmp_path, 'name = "WRENLING-1"\n', 'name = "WRENLING-1"\nuplink_mhz = 435.2\n')
+    for satellite, f_mhz in (("CALDERWISP", 145.88), ("WRENLING-1", 435.2)):
+        result = run("budget", path, "--satellite", satellite, "--direction", "uplink", "--elevation-deg", "30", "--format", "json")
+        assert result.returncode == 0, result.stderr
+        heads, distances = _exposure(result.stderr)
+        assert len(heads) == 1 and f"uplink to {satellite}," in heads[0] and len(distances) == 1
+        assert "FCC 47 CFR 1.1310 general population" in result.stderr
+        assert "not a compliance evaluation" in result.stderr and "local rules" in result.stderr
+        eirp_w = 10 ** (json.loads(result.stdout)["eirp_dbw"] / 10)
+        _check_recommended(distances[0], eirp_w, f_mhz)
+    # The demo's uplink: about 25.2 W EIRP at 145.88 MHz reaches 0.2 mW/cm^2 at 1.002 m, so 1.1 m.
+    text = run("budget", DEMO, "--satellite", "CALDERWISP", "--direction", "uplink", "--elevation-deg", "30").stdout
+    assert _exposure(text)[1] == [1.1]
+    # The downlink budget of a satellite with an uplink still names the exposure of transmitting to it;
+    # one without an uplink prints none.
+    assert (
+        len(_exposure(run("budget", path, "--satellite", "WRENLING-1", "--candidate", "turnstile-close", "--pass", "1").stdout)[0])
+        == 1
+    )

@@ -15,30 +15,41 @@ from planner.cli.app import app
 from planner.errors import UserError
 
 
-def _print_exposure(study, out) -> None:
-    """RF exposure estimate for the station transmitter at each uplink frequency."""
-    from planner.link.safety import CAUTION, exposure_table, min_distance_m
+def _print_exposure(study, sat_name: str, out) -> None:
+    """RF exposure estimate for the station transmitter on the uplink of the budget's satellite.
 
-    if study.scenario.transmitter is None:
+    Only that satellite's: the estimate is about transmitting to the satellite asked for, and the
+    budget of one satellite says nothing of the station's other uplinks. Nothing without a
+    [transmitter] or when the satellite has no uplink.
+    """
+    from planner.link.safety import CAUTION, DISTANCE_STEP_M, LIMIT_BASIS, exposure_table, recommended_distance_m
+
+    sat = study.satellite_config(sat_name)
+    if study.scenario.transmitter is None or sat.uplink_mhz is None:
         return
-    for sat in study.satellites:
-        if sat.uplink_mhz is None:
-            continue
-        setup = study.uplink_setup(sat.name)
-        eirp_w = 10.0 ** (setup.eirp_dbw / 10.0)
-        rows = exposure_table(eirp_w, setup.frequency_hz)
-        print(f"RF exposure near the station antenna, {sat.uplink_mhz:g} MHz uplink to {sat.name}, EIRP {eirp_w:.1f} W:", file=out)
-        for row in rows:
-            flag = "within" if row.within_limit else "ABOVE"
-            print(
-                f"  {row.distance_m:5.1f} m: {row.power_density_mw_cm2:8.4f} mW/cm^2 ({flag} the general-public limit {row.limit_mw_cm2:.3f})",
-                file=out,
-            )
-        print(
-            f"  keep the public at least {min_distance_m(eirp_w, setup.frequency_hz):.1f} m from the antenna (far-field estimate)",
-            file=out,
-        )
+    setup = study.uplink_setup(sat.name)
+    eirp_w = 10.0 ** (setup.eirp_dbw / 10.0)
+    rows = exposure_table(eirp_w, setup.frequency_hz)
+    limit = rows[0].limit_mw_cm2
+    print(f"RF exposure near the station antenna, {sat.uplink_mhz:g} MHz uplink to {sat.name}, EIRP {eirp_w:.1f} W:", file=out)
+    print(f"  general-public limit {limit:.3f} mW/cm^2 ({LIMIT_BASIS} at {sat.uplink_mhz:g} MHz)", file=out)
+    for row in rows:
+        flag = "within" if row.within_limit else "ABOVE"
+        print(f"  {row.distance_m:5.1f} m: {row.power_density_mw_cm2:8.4f} mW/cm^2 ({flag} the limit)", file=out)
+    distance_m = recommended_distance_m(eirp_w, setup.frequency_hz)
+    print(
+        f"  keep the public at least {distance_m:.1f} m from the antenna (far-field estimate, rounded up to "
+        f"{DISTANCE_STEP_M:g} m so that the density there is within the limit)",
+        file=out,
+    )
     print(CAUTION, file=out)
+
+
+def _ends(direction: str, station_name: str, sat_name: str, candidate: str) -> str:
+    """Who transmits to whom, in signal order: the station's transmitter up, the satellite down to a candidate."""
+    if direction == "uplink":
+        return f"{station_name} -> {sat_name}"
+    return f"{sat_name} -> {candidate}"
 
 
 @app.command()
@@ -79,7 +90,9 @@ def budget(
             raise UserError(f"--candidate: a downlink budget needs a candidate set-up; allowed: {allowed}")
         study.candidate(candidate)  # refuse an unknown candidate before any computation
     moment = None if at is None else common.parse_utc("--at", at)
-    az, el, rng, label, chosen_pass = budget_geometry(study, satellite, pass_number, moment, elevation_deg, range_km, azimuth_deg)
+    az, el, rng, label, chosen_pass = budget_geometry(
+        study, satellite, pass_number, moment, elevation_deg, range_km, azimuth_deg, direction=direction
+    )
     setup = study.downlink_setup(sat_name, candidate) if direction == "downlink" else study.uplink_setup(sat_name)
     row = evaluate(setup, [az], [el], [rng]).iloc[0]
     values = ladder_values(setup, row)
@@ -96,23 +109,30 @@ def budget(
             "noise": setup.noise_terms,
             "notes": setup.notes,
             "model_notes": setup.model_notes,
-            "terms": [{"key": k, "value": values[k], "unit": u, "meaning": m} for k, u, m in LADDER],
+            "terms": [
+                {"key": r.key, "value": values[r.key], "unit": r.unit, "meaning": r.meaning, "stage": r.stage} for r in LADDER
+            ],
         }
         if summary:
             document["pass_summary"] = summary
         common.emit(to_json(document), output, rules)
-        _print_exposure(study, sys.stderr)
+        _print_exposure(study, sat_name, sys.stderr)
         return
     if output is not None:
         raise UserError("--output: the ladder is for the terminal; use --format json with --output")
-    table = Table(title=f"{direction} budget: {sat_name} -> {setup.candidate}; {label}", title_justify="left")
-    for heading, justify in (("term", "left"), ("value", "right"), ("unit", "left"), ("meaning", "left")):
+    table = Table(
+        title=f"{direction} budget: {_ends(direction, study.station.name, sat_name, setup.candidate)}; {label}",
+        title_justify="left",
+    )
+    for heading, justify in (("stage", "left"), ("term", "left"), ("value", "right"), ("unit", "left"), ("meaning", "left")):
         table.add_column(heading, justify=cast(JustifyMethod, justify))
-    for key, unit, meaning in LADDER:
-        value = values[key]
+    stage = None
+    for row in LADDER:
+        value = values[row.key]
         if value is None:
             continue
-        table.add_row(key, f"{value:.2f}", unit, meaning)
+        table.add_row(row.stage if row.stage != stage else "", row.key, f"{value:.2f}", row.unit, row.meaning)
+        stage = row.stage
     console = common.stdout()
     console.print(table)
     noise = ", ".join(f"{k} {v:.1f}" for k, v in setup.noise_terms.items())
@@ -127,4 +147,4 @@ def budget(
             f"median {summary['median_margin_db']:.1f} dB, max {summary['max_margin_db']:.1f} dB; "
             f"{summary['seconds_at_or_above_min_margin']:.0f} s at or above {summary['min_margin_criterion_db']:g} dB"
         )
-    _print_exposure(study, sys.stdout)
+    _print_exposure(study, sat_name, sys.stdout)

@@ -8,7 +8,7 @@ available carrier power C and available noise k T_A. Every term is charged once,
     C/N0  = C - 10 log10(k) - 10 log10(T_sys)                       (dB-Hz)
     G/T   = G_rx - 10 log10(T_sys)                                  (dB/K)
     Eb/N0 = C/N0 - 10 log10(R_b)                                    (dB)
-    margin = Eb/N0 - (Eb/N0 required by theory + implementation loss - coding gain)
+    margin = Eb/N0 - (ideal Eb/N0 + implementation loss - coding gain)
 
 or, for analog modes given a required C/N0, margin = C/N0 - required C/N0.
 
@@ -42,7 +42,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from math import log10, pi
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, NamedTuple
 
 import numpy as np
 import pandas as pd
@@ -144,14 +144,14 @@ class LinkSetup:
     fade_percentile: float
     altitude_m: float
     data_rate_bps: float
-    required_ebn0_db: float | None  # theory + implementation loss - coding gain
-    theory_ebn0_db: float | None
+    required_ebn0_db: float | None  # ideal + implementation loss - coding gain
+    ideal_ebn0_db: float | None  # an ideal demodulator's need, by theory
     implementation_loss_db: float
     coding_gain_db: float
     required_cn0_dbhz: float | None  # given directly (analog modes); else None
     system_noise_temperature_k: float  # at the antenna terminals: T_A + T_chain / M
     noise_terms: dict[str, float] = field(default_factory=dict)  # breakdown for the ladder
-    feedline_loss_db: float = 0.0  # station side: the main run, cables + connectors
+    feedline_loss_db: float | None = 0.0  # receiving station's main run, cables + connectors; None for the uplink
     mismatch_loss_db: float = 0.0  # -10 log10 M; charged in T_sys (see the module notes)
     pre_lna_loss_db: float | None = None  # downlink: between antenna and LNA; None for the uplink
     antenna_noise_temperature_k: float | None = None  # T_A (downlink)
@@ -169,7 +169,7 @@ def _station_line_loss_db(runs, connectors, connector_loss_db, frequency_hz) -> 
 
 
 def _required(config, data_rate_bps):
-    """(required Eb/N0 with losses, theory Eb/N0, required C/N0) for a satellite's mode."""
+    """(required Eb/N0 with losses, ideal Eb/N0, required C/N0) for a satellite's mode."""
     if config.required_cn0_dbhz is not None:
         return None, None, config.required_cn0_dbhz
     theory = required_ebn0_db(config.modulation, config.target_ber, gmsk_bt=config.gmsk_bt)
@@ -181,7 +181,7 @@ def _threshold_terms(sat, required, theory, required_cn0) -> dict:
     return dict(
         data_rate_bps=sat.data_rate_bps,
         required_ebn0_db=required,
-        theory_ebn0_db=theory,
+        ideal_ebn0_db=theory,
         implementation_loss_db=sat.implementation_loss_db,
         coding_gain_db=sat.coding_gain_db,
         required_cn0_dbhz=required_cn0,
@@ -359,7 +359,7 @@ def uplink_setup(sat, tx, runs, station, *, fade_percentile: float, source: str 
         **_threshold_terms(sat, required, theory, required_cn0),
         system_noise_temperature_k=sat.uplink_rx_noise_temperature_k,
         noise_terms={"satellite_receiver_temperature_k": sat.uplink_rx_noise_temperature_k},
-        feedline_loss_db=line_db,
+        feedline_loss_db=None,  # the station's line is the transmitter's here: tx_line_loss_db, once
         fixed_gain_rhcp_dbic=10.0 * log10(max(g_r, floor)),
         fixed_gain_lhcp_dbic=10.0 * log10(max(g_l, floor)),
     )
@@ -409,11 +409,11 @@ def evaluate(setup: LinkSetup, azimuth_deg, elevation_deg, range_km) -> pd.DataF
             "polarization_fade_loss_db": pol_fade,
             "rx_gain_rhcp_dbic": g_r,
             "rx_gain_lhcp_dbic": g_l,
-            "rx_antenna_gain_dbic": rx_gain,
+            "rx_gain_total_dbi": rx_gain,
             "mismatch_loss_db": np.full_like(cn0, setup.mismatch_loss_db),
             "received_power_dbw": received_dbw,
             "pre_lna_loss_db": np.full_like(cn0, np.nan if setup.pre_lna_loss_db is None else setup.pre_lna_loss_db),
-            "feedline_loss_db": np.full_like(cn0, setup.feedline_loss_db),
+            "feedline_loss_db": np.full_like(cn0, np.nan if setup.feedline_loss_db is None else setup.feedline_loss_db),
             "system_noise_temperature_k": np.full_like(cn0, t_sys),
             "g_over_t_dbk": g_over_t,
             "cn0_dbhz": cn0,
@@ -438,50 +438,82 @@ def pass_budget(setup: LinkSetup, a_pass) -> pd.DataFrame:
 
 # ---------------------------------------------------------------- the ladder
 
-LADDER = (
-    # key, unit, one-line meaning
-    ("frequency_mhz", "MHz", "carrier frequency"),
-    ("elevation_deg", "deg", "satellite elevation seen from the station"),
-    ("azimuth_deg", "deg", "satellite azimuth, clockwise from true north"),
-    ("range_km", "km", "slant range station-satellite"),
-    ("tx_power_dbw", "dBW", "transmitter output power, 10 log10(P / 1 W)"),
-    ("tx_antenna_gain_dbi", "dBi", "transmitting antenna gain toward the other end"),
-    ("tx_line_loss_db", "dB", "loss between transmitter and its antenna"),
-    ("eirp_dbw", "dBW", "EIRP = power + antenna gain - line loss"),
-    ("free_space_loss_db", "dB", "free-space loss 20 log10(4 pi d f / c), ITU-R P.525"),
-    ("atmospheric_loss_db", "dB", "gaseous absorption on the slant path, ITU-R P.676"),
-    ("polarization_loss_db", "dB", "polarization mismatch, tilt-averaged (Stutzman)"),
-    ("polarization_fade_loss_db", "dB", "polarization mismatch not exceeded at the fade percentile"),
-    ("rx_gain_rhcp_dbic", "dBic", "receiving antenna RHCP partial gain toward the other end"),
-    ("rx_gain_lhcp_dbic", "dBic", "receiving antenna LHCP partial gain toward the other end"),
-    ("rx_antenna_gain_dbic", "dBi", "receiving antenna total gain (RHCP + LHCP) toward the other end"),
-    ("received_power_dbw", "dBW", "available carrier at the antenna terminals = EIRP - L_fs - L_atm - L_pol + gain"),
-    (
-        "mismatch_loss_db",
-        "dB",
-        "feed mismatch -10 log10(M), M = 1 - |Gamma|^2: scales carrier and antenna noise alike, so charged once, in T_sys (T_chain / M)",
+
+class LadderRow(NamedTuple):
+    """One row of the ladder: its key (in the JSON and the evaluate() frame), unit, meaning and stage."""
+
+    key: str
+    unit: str
+    meaning: str
+    stage: str
+
+
+def _rows(stage: str, *rows: tuple[str, str, str]) -> tuple[LadderRow, ...]:
+    return tuple(LadderRow(key, unit, meaning, stage) for key, unit, meaning in rows)
+
+
+# The ladder reads top to bottom as the arithmetic of the module notes: where the satellite is,
+# the carrier from the transmitter to the receiving antenna's terminals (C), the noise it meets
+# there (T_sys, C/N0), and what the demodulator makes of it (Eb/N0 against what it needs).
+LADDER: tuple[LadderRow, ...] = (
+    *_rows(
+        "geometry",
+        ("frequency_mhz", "MHz", "carrier frequency"),
+        ("elevation_deg", "deg", "satellite elevation seen from the station"),
+        ("azimuth_deg", "deg", "satellite azimuth, clockwise from true north"),
+        ("range_km", "km", "slant range station-satellite"),
     ),
-    ("pre_lna_loss_db", "dB", "between antenna and LNA: jumper cables, connectors, switch, bias-tee (before the LNA)"),
-    ("feedline_loss_db", "dB", "main feedline: station cables and connectors"),
-    (
-        "antenna_noise_temperature_k",
-        "K",
-        "T_A: sky (with the atmosphere's emission) + ground + man-made noise the pattern picks up",
+    *_rows(
+        "carrier",
+        ("tx_power_dbw", "dBW", "transmitter output power, 10 log10(P / 1 W)"),
+        ("tx_line_loss_db", "dB", "loss between the transmitter and its antenna (uplink: the station's feedline and connectors)"),
+        ("tx_antenna_gain_dbi", "dBi", "transmitting antenna gain toward the other end"),
+        ("eirp_dbw", "dBW", "EIRP = power - line loss + antenna gain"),
+        ("free_space_loss_db", "dB", "free-space loss 20 log10(4 pi d f / c), ITU-R P.525"),
+        ("atmospheric_loss_db", "dB", "gaseous absorption on the slant path, ITU-R P.676"),
+        ("polarization_loss_db", "dB", "polarization mismatch, tilt-averaged (Stutzman)"),
+        ("polarization_fade_loss_db", "dB", "polarization mismatch not exceeded at the fade percentile"),
+        ("rx_gain_rhcp_dbic", "dBic", "receiving antenna RHCP partial gain toward the other end"),
+        ("rx_gain_lhcp_dbic", "dBic", "receiving antenna LHCP partial gain toward the other end"),
+        ("rx_gain_total_dbi", "dBi", "receiving antenna total gain, RHCP + LHCP partial gains summed as powers"),
+        ("received_power_dbw", "dBW", "C: available carrier at the antenna terminals = EIRP - L_fs - L_atm - L_pol + total gain"),
     ),
-    ("chain_noise_temperature_k", "K", "T_chain / M: pre-LNA loss, LNA, feedline and receiver by Friis, at the antenna terminals"),
-    ("system_noise_temperature_k", "K", "T_sys = T_A + T_chain / M, at the antenna terminals"),
-    ("g_over_t_dbk", "dB/K", "receiving figure of merit G/T = gain - 10 log10(T_sys)"),
-    ("boltzmann_dbw_per_k_hz", "dBW/K/Hz", "Boltzmann's constant, 10 log10(k)"),
-    ("cn0_dbhz", "dB-Hz", "C/N0 = received power - 10 log10(k) - 10 log10(T_sys)"),
-    ("data_rate_dbhz", "dB-Hz", "10 log10(data rate)"),
-    ("ebn0_db", "dB", "Eb/N0 = C/N0 - 10 log10(data rate)"),
-    ("theory_ebn0_db", "dB", "Eb/N0 the modulation needs for the target BER, by theory"),
-    ("implementation_loss_db", "dB", "demodulator's shortfall from theory"),
-    ("coding_gain_db", "dB", "forward error correction gain"),
-    ("required_ebn0_db", "dB", "required Eb/N0 = theory + implementation loss - coding gain"),
-    ("required_cn0_dbhz", "dB-Hz", "required C/N0, given directly for analog modes"),
-    ("margin_db", "dB", "link margin (Eb/N0 or C/N0 above what is required)"),
-    ("margin_at_fade_db", "dB", "link margin at the polarization fade percentile"),
+    *_rows(
+        "noise",
+        (
+            "mismatch_loss_db",
+            "dB",
+            "feed mismatch -10 log10(M), M = 1 - |Gamma|^2: scales carrier and antenna noise alike, so charged once, in T_sys (T_chain / M)",
+        ),
+        ("pre_lna_loss_db", "dB", "between antenna and LNA: jumper cables, connectors, switch, bias-tee (before the LNA)"),
+        ("feedline_loss_db", "dB", "receiving station's main feedline: cables and connectors (downlink)"),
+        (
+            "antenna_noise_temperature_k",
+            "K",
+            "T_A: sky (with the atmosphere's emission) + ground + man-made noise the pattern picks up",
+        ),
+        (
+            "chain_noise_temperature_k",
+            "K",
+            "T_chain / M: pre-LNA loss, LNA, feedline and receiver by Friis, at the antenna terminals",
+        ),
+        ("system_noise_temperature_k", "K", "T_sys = T_A + T_chain / M, at the antenna terminals"),
+        ("g_over_t_dbk", "dB/K", "receiving figure of merit G/T = total gain - 10 log10(T_sys)"),
+        ("boltzmann_dbw_per_k_hz", "dBW/K/Hz", "Boltzmann's constant, 10 log10(k)"),
+        ("cn0_dbhz", "dB-Hz", "C/N0 = C - 10 log10(k) - 10 log10(T_sys)"),
+    ),
+    *_rows(
+        "demodulator",
+        ("data_rate_dbhz", "dB-Hz", "10 log10(data rate)"),
+        ("ebn0_db", "dB", "Eb/N0 = C/N0 - 10 log10(data rate)"),
+        ("ideal_ebn0_db", "dB", "Eb/N0 an ideal demodulator of this modulation needs for the target BER (theory)"),
+        ("implementation_loss_db", "dB", "how far this demodulator falls short of the ideal one"),
+        ("coding_gain_db", "dB", "what forward error correction gives back"),
+        ("required_ebn0_db", "dB", "Eb/N0 this receiver needs = ideal + implementation loss - coding gain"),
+        ("required_cn0_dbhz", "dB-Hz", "C/N0 an analog mode needs, given in the scenario"),
+        ("margin_db", "dB", "margin: Eb/N0 - required Eb/N0 (analog: C/N0 - required C/N0)"),
+        ("margin_at_fade_db", "dB", "margin with the polarization mismatch at the fade percentile"),
+    ),
 )
 
 
@@ -503,7 +535,7 @@ def pass_summary(along: pd.DataFrame, min_margin_db: float) -> dict[str, float |
 
 def ladder_values(setup: LinkSetup, row: pd.Series) -> dict[str, float | None]:
     """One sample's budget as the ladder's keys (None where a term does not apply)."""
-    ladder_keys = {key for key, _, _ in LADDER}
+    ladder_keys = {row.key for row in LADDER}
     values = {key: row[key] for key in row.index if key in ladder_keys}
     values.update(
         frequency_mhz=setup.frequency_hz / 1e6,
@@ -512,7 +544,7 @@ def ladder_values(setup: LinkSetup, row: pd.Series) -> dict[str, float | None]:
         tx_line_loss_db=setup.tx_line_loss_db,
         boltzmann_dbw_per_k_hz=BOLTZMANN_DBW_PER_K_HZ,
         data_rate_dbhz=None if setup.required_cn0_dbhz is not None else 10.0 * log10(setup.data_rate_bps),
-        theory_ebn0_db=setup.theory_ebn0_db,
+        ideal_ebn0_db=setup.ideal_ebn0_db,
         implementation_loss_db=None if setup.required_cn0_dbhz is not None else setup.implementation_loss_db,
         coding_gain_db=None if setup.required_cn0_dbhz is not None else setup.coding_gain_db,
         required_cn0_dbhz=setup.required_cn0_dbhz,
@@ -520,6 +552,8 @@ def ladder_values(setup: LinkSetup, row: pd.Series) -> dict[str, float | None]:
         chain_noise_temperature_k=setup.chain_noise_temperature_k,
         pre_lna_loss_db=setup.pre_lna_loss_db,
     )
+    if setup.direction == "uplink":
+        values["mismatch_loss_db"] = None  # the satellite's receiver is given as a gain and a temperature
     if setup.required_cn0_dbhz is not None:
         values["ebn0_db"] = None
         values["required_ebn0_db"] = None
@@ -527,4 +561,4 @@ def ladder_values(setup: LinkSetup, row: pd.Series) -> dict[str, float | None]:
         if value is not None:
             value = float(value)
             values[key] = None if not np.isfinite(value) else value
-    return {key: values.get(key) for key, _, _ in LADDER}
+    return {row.key: values.get(row.key) for row in LADDER}

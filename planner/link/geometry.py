@@ -22,12 +22,18 @@ def budget_geometry(
     elevation_deg: float | None = None,
     range_km: float | None = None,
     azimuth_deg: float | None = None,
+    direction: str = "downlink",
 ):
     """(azimuth_deg, elevation_deg, range_km, label, the pass or None) for a budget of ``satellite_name``.
 
     Exactly one of ``pass_number`` (1 = the first pass of the window; the budget is at its TCA),
     ``at`` (a UTC time) and ``elevation_deg`` (with ``range_km``, default the range to the orbit's
     mean radius, and ``azimuth_deg``, default 0) is given.
+
+    A time when the satellite is below the horizon mask is refused for the ``"uplink"``
+    direction (the station would transmit into the mask: trees, hills, buildings), naming the
+    next pass's AOS; for the downlink it only warns, since listening there is harmless and the
+    budget still says what the pattern would receive.
     """
     from planner.link.budget import ORBIT_RADIUS_MARGIN_KM, orbit_radii_km, slant_range_km, slant_range_limits_km
     from planner.output.export import iso_utc
@@ -61,10 +67,15 @@ def budget_geometry(
         look = Observer(study.station, moment, 0.0).look(target.element_set.satrec, np.array([0.0]))
         if not np.isfinite(look.elevation_deg[0]):
             raise UserError(f"--at: SGP4 cannot propagate {target.display_name} to {iso_utc(moment)}")
-        if look.elevation_deg[0] < study.station.mask.min_elevation_at(look.azimuth_deg)[0]:
-            warn(
-                f"{target.display_name} is below the horizon mask at {iso_utc(moment)} (elevation {look.elevation_deg[0]:.1f} deg)"
+        mask_deg = study.station.mask.min_elevation_at(look.azimuth_deg)[0]
+        if look.elevation_deg[0] < mask_deg:
+            said = (
+                f"{target.display_name} is below the horizon mask at {iso_utc(moment)} "
+                f"(elevation {look.elevation_deg[0]:.1f} deg, mask {mask_deg:.1f} deg at azimuth {look.azimuth_deg[0]:.0f} deg)"
             )
+            if direction == "uplink":
+                raise UserError(f"--at: {said}, so the station cannot transmit to it; {_next_aos(study, target, moment)}")
+            warn(said)
         return look.azimuth_deg[0], look.elevation_deg[0], look.range_km[0], iso_utc(moment), None
     assert elevation_deg is not None  # exactly one of the three is given (checked above)
     if not -90.0 <= elevation_deg <= 90.0:
@@ -95,3 +106,17 @@ def budget_geometry(
             )
         label = f"elevation {elevation_deg:g} deg, range {range_km:g} km"
     return azimuth, elevation_deg, range_km, label, None
+
+
+def _next_aos(study, target, moment: datetime) -> str:
+    """Where the next pass of ``target`` after ``moment`` begins, as words for an error message."""
+    from planner.output.export import iso_utc
+    from planner.passes import predict_passes
+
+    end = study.end_utc
+    if moment < end:
+        found = predict_passes(target, study.station, max(moment, study.start_utc), end, step_s=study.step_s)
+        later = [p for p in found if p.aos_utc >= moment]
+        if later:
+            return f"its next pass in the window has AOS at {iso_utc(later[0].aos_utc)}; give an --at from that pass"
+    return f"it has no pass in the window after then (the window ends at {iso_utc(end)}); give an --at inside one of its passes"

@@ -4,13 +4,14 @@ Far-field power density S = EIRP / (4 pi R^2) (FCC OET Bulletin 65, eq. 3), agai
 the general-population maximum permissible exposure: 0.2 mW/cm^2 from 30 to 300 MHz,
 f/1500 mW/cm^2 (f in MHz) from 300 to 1500 MHz, 1.0 mW/cm^2 from 1.5 to 100 GHz
 (FCC 47 CFR 1.1310, from memory). Close to an antenna the far-field formula is not
-valid; this is a planning estimate, never a compliance evaluation.
+valid; this is a planning estimate, never a compliance evaluation. The distance printed
+for the public is rounded up to 0.1 m, so that the estimate there is within the limit.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
-from math import pi
+from math import ceil, pi
 
 CAUTION = (
     "RF exposure: a far-field planning estimate, not a compliance evaluation. "
@@ -26,6 +27,12 @@ STATION_CAUTIONS = (
 )
 
 DISTANCES_M = (0.5, 1.0, 2.0, 5.0, 10.0, 20.0)
+
+# What general_public_limit_mw_cm2 implements, for the printed lines.
+LIMIT_BASIS = "FCC 47 CFR 1.1310 general population/uncontrolled MPE"
+
+# The recommended distance is given to this step, rounded up, and never less than one step.
+DISTANCE_STEP_M = 0.1
 
 
 def general_public_limit_mw_cm2(frequency_hz: float) -> float:
@@ -47,9 +54,24 @@ def power_density_mw_cm2(eirp_w: float, distance_m: float) -> float:
 
 
 def min_distance_m(eirp_w: float, frequency_hz: float) -> float:
-    """Distance beyond which the far-field estimate is below the general-public limit."""
+    """Distance (m) at which the far-field estimate falls to the general-public limit, unrounded."""
     limit_w_m2 = general_public_limit_mw_cm2(frequency_hz) * 10.0
     return (eirp_w / (4.0 * pi * limit_w_m2)) ** 0.5
+
+
+def recommended_distance_m(eirp_w: float, frequency_hz: float) -> float:
+    """The distance to keep the public at: :func:`min_distance_m` rounded up to :data:`DISTANCE_STEP_M`.
+
+    Rounded up, never to the nearest step, so that at the printed distance the estimate is within
+    the limit; the step is counted in whole tenths so that float rounding cannot land one short.
+    """
+    limit = general_public_limit_mw_cm2(frequency_hz)
+    steps = max(1, ceil(min_distance_m(eirp_w, frequency_hz) / DISTANCE_STEP_M - 1e-9))
+    while True:
+        distance_m = round(steps * DISTANCE_STEP_M, 1)
+        if power_density_mw_cm2(eirp_w, distance_m) <= limit:
+            return distance_m
+        steps += 1
 
 
 @dataclass
