@@ -34,6 +34,12 @@ def positive_number(name: str, value, allowed: str = "a positive number") -> flo
     return number
 
 
+def quoted(text: str, limit: int = 40) -> str:
+    """User text for a message: quoted and escaped (``repr``), at most ``limit`` characters of it,
+    so a hostile value of thousands of characters or terminal escapes is never printed back raw."""
+    return repr(text if len(text) <= limit else text[: limit - 3] + "...")
+
+
 def warn(message: str) -> None:
     """Emit a one-line warning about the user's input or a model's validity."""
     warnings.warn(message, PlannerWarning, stacklevel=2)

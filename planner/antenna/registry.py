@@ -18,7 +18,7 @@ from planner.antenna.synth.tables import build_template_table
 from planner.antenna.synth.templates import TEMPLATES as WIRE
 from planner.antenna.table import PatternTable
 from planner.antenna.tablefile import BUILDER_ALIASES, write_pattern
-from planner.errors import UserError
+from planner.errors import UserError, quoted
 from planner.fileio import REPLACE_ANY, WriteRules
 
 __all__ = [
@@ -65,11 +65,7 @@ def builder_template(builder: str, source: str = "pattern table") -> str:
     if name in TEMPLATES or name in WIRE:
         return name
     allowed = ", ".join([*TEMPLATES, *WIRE])
-    raise UserError(f"{source}: builder {_clip(builder)!r} is not one of planner's templates; allowed: {allowed}")
-
-
-def _clip(text: str, limit: int = 60) -> str:
-    return text if len(text) <= limit else text[:limit] + "..."
+    raise UserError(f"{source}: builder {quoted(builder, 63)} is not one of planner's templates; allowed: {allowed}")
 
 
 def rebuild_pattern(builder: str, parameters: dict[str, str], source: str = "pattern table") -> PatternTable:

@@ -39,7 +39,7 @@ import numpy as np
 
 from planner.antenna.table import PatternTable, db_to_linear, sphere_mean_gain
 from planner.bounds import FREQUENCY_MAX_MHZ, FREQUENCY_MIN_MHZ
-from planner.errors import UserError
+from planner.errors import UserError, quoted
 from planner.fileio import REPLACE_ANY, WriteRules, write_atomically
 from planner.limits import (
     MEMORY_LIMIT_BYTES,
@@ -104,18 +104,13 @@ def load_pattern(path: str | Path) -> PatternTable:
     return parse_pattern(text, source=source, path=p)
 
 
-def _clip_text(text: str, limit: int = 24) -> str:
-    """A value from the file for a message, quoted and escaped, at most ``limit`` characters of it."""
-    return repr(text if len(text) <= limit else text[: limit - 3] + "...")
-
-
 def _number(text: str, what: str, where: str) -> float:
     try:
         value = float(text)
     except ValueError:
-        raise UserError(f"{where}: {what} {_clip_text(text)} is not a number") from None
+        raise UserError(f"{where}: {what} {quoted(text, 24)} is not a number") from None
     if not math.isfinite(value):
-        raise UserError(f"{where}: {what} must be a finite number, got {_clip_text(text)}")
+        raise UserError(f"{where}: {what} must be a finite number, got {quoted(text, 24)}")
     return value
 
 
@@ -146,7 +141,7 @@ def _header_values(header: dict[str, str], header_lines: dict[str, int], source:
     mhz = _number(header["frequency_mhz"], "frequency_mhz", where)
     if not FREQUENCY_MIN_MHZ <= mhz <= FREQUENCY_MAX_MHZ:
         raise UserError(
-            f"{where}: frequency_mhz {_clip_text(header['frequency_mhz'])} is out of range; allowed {FREQUENCY_MIN_MHZ:g} to "
+            f"{where}: frequency_mhz {quoted(header['frequency_mhz'], 24)} is out of range; allowed {FREQUENCY_MIN_MHZ:g} to "
             f"{FREQUENCY_MAX_MHZ:g} MHz, the link frequencies the noise and atmosphere models are used for"
         )
     values["frequency_hz"] = mhz * 1e6
@@ -254,17 +249,17 @@ def parse_pattern(text: str, *, source: str = "<pattern>", path: Path | None = N
         record = {name: _number(value, name, where) for name, value in zip(columns, fields)}
         el = record["elevation_deg"]
         if not -90.0 <= el <= 90.0:
-            raise UserError(f"{where}: elevation_deg {_clip_text(fields[columns.index('elevation_deg')])} outside -90..90")
+            raise UserError(f"{where}: elevation_deg {quoted(fields[columns.index('elevation_deg')], 24)} outside -90..90")
         az = record.get("azimuth_deg", 0.0)
         if "azimuth_deg" in record and not 0.0 <= az < 360.0:
             raise UserError(
-                f"{where}: azimuth_deg {_clip_text(fields[columns.index('azimuth_deg')])} outside [0, 360) "
+                f"{where}: azimuth_deg {quoted(fields[columns.index('azimuth_deg')], 24)} outside [0, 360) "
                 "(0 and 360 are the same direction: give 0 only)"
             )
         for name in ("gain_rhcp_dbic", "gain_lhcp_dbic"):
             if record[name] > GAIN_CEILING_DBIC:
                 raise UserError(
-                    f"{where}: {name} {_clip_text(fields[columns.index(name)])} above {GAIN_CEILING_DBIC:g} dBic; "
+                    f"{where}: {name} {quoted(fields[columns.index(name)], 24)} above {GAIN_CEILING_DBIC:g} dBic; "
                     f"allowed up to {GAIN_CEILING_DBIC:g} dBic (gains are in dBic)"
                 )
         # Scalar arithmetic in the standard library: a row at a time, numpy's per-call cost would dominate.

@@ -9,7 +9,7 @@ from pathlib import Path
 import typer
 from rich.console import Console
 
-from planner.errors import UserError
+from planner.errors import UserError, quoted
 
 FORMATS = ("table", "csv", "json")
 
@@ -108,11 +108,6 @@ def check_format(value: str) -> str:
     return value
 
 
-def shown(text: str, limit: int = 40) -> str:
-    """A user's option value for a message: quoted, escaped, clipped to ``limit`` characters."""
-    return repr(text if len(text) <= limit else text[: limit - 3] + "...")
-
-
 def parse_utc(option: str, text: str) -> datetime:
     """An ISO 8601 time (naive means UTC) as aware UTC, inside the years every time must lie in.
 
@@ -125,11 +120,11 @@ def parse_utc(option: str, text: str) -> datetime:
     try:
         moment = datetime.fromisoformat(text.replace("Z", "+00:00"))
     except ValueError:
-        raise UserError(f"{option}: {shown(text)} is not an ISO 8601 time; {allowed}") from None
+        raise UserError(f"{option}: {quoted(text)} is not an ISO 8601 time; {allowed}") from None
     if moment.tzinfo is None:
         moment = moment.replace(tzinfo=UTC)
     if not in_supported_years(moment):
-        raise UserError(f"{option}: {shown(text)} is out of range; {allowed}")
+        raise UserError(f"{option}: {quoted(text)} is out of range; {allowed}")
     return moment.astimezone(UTC)
 
 
@@ -142,7 +137,7 @@ def satellite_choice(wanted: str) -> dict:
         return dict(name=wanted)
     if len(digits.lstrip("0")) > len(str(MAX_OMM_CATALOG_NUMBER)):  # before int(): 4300 digits raise
         raise UserError(
-            f"--satellite: {shown(digits)} ({len(digits)} digits) is not a catalog number; "
+            f"--satellite: {quoted(digits)} ({len(digits)} digits) is not a catalog number; "
             f"allowed 1 to {MAX_OMM_CATALOG_NUMBER}, or a satellite name"
         )
     return dict(norad_id=int(digits))

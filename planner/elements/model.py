@@ -55,12 +55,6 @@ class ElementSet:
         return f"{self.name or 'unnamed'} ({self.norad_id})"
 
 
-def _clip(text: str, limit: int = 40) -> str:
-    """A short, single-line rendering of user text for a message."""
-    text = text if len(text) <= limit else text[: limit - 3] + "..."
-    return repr(text)
-
-
 def _utc(moment: datetime) -> datetime:
     return moment.replace(tzinfo=UTC) if moment.tzinfo is None else moment.astimezone(UTC)
 

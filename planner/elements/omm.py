@@ -32,10 +32,10 @@ from planner.elements.model import (
     _check_mean_motion,
     _check_range,
     _check_satrec,
-    _clip,
     _days_since_sgp4_epoch0,
 )
 from planner.errors import UserError
+from planner.errors import quoted as _clip
 
 _OMM_KEYWORDS = frozenset(
     {

@@ -10,9 +10,10 @@ from __future__ import annotations
 import bisect
 import json
 
-from planner.elements.model import ElementSet, _clip
+from planner.elements.model import ElementSet
 from planner.elements.omm import _clean_value, _omm_element_set
 from planner.errors import UserError
+from planner.errors import quoted as _clip
 
 
 def _json_entry_lines(text: str) -> list[int]:
