@@ -98,13 +98,14 @@ def test_robustness_shifts_are_reported(demo_short):
 
 
 def test_calendar_parses_back_with_the_same_passes(demo_short):
-    # RFC 5545 via the icalendar library: parse the file back and find every usable pass
-    # of the recommended set-up, with its first and last usable moment.
+    # RFC 5545 via the icalendar library: parse the file back and find every pass the
+    # one-receiver schedule keeps for the recommended set-up (the schedule the score is, weighted
+    # interval scheduling, Kleinberg & Tardos, Algorithm Design, ch. 6), with its first and last
+    # usable moment. tests/test_calendar.py checks overlaps and the passes left out.
     _, study, result, decision = demo_short
     text = calendar_ics(result.outcomes, study, decision.recommended)
     events = [c for c in Calendar.from_ical(text).walk("VEVENT")]
-    usable = result.outcomes[(result.outcomes["candidate"] == decision.recommended) & result.outcomes["usable"]]
-    usable = usable.sort_values("first_usable_s")
+    usable = decision.schedules[decision.recommended].chosen.sort_values("first_usable_s")
     assert len(events) == len(usable) > 0
     for event, record in zip(events, usable.to_dict("records")):
         start = study.start_utc + timedelta(seconds=record["first_usable_s"])

@@ -127,7 +127,9 @@ def compare(
     candidate: list[str] | None = typer.Option(None, "--candidate", help="Only these candidates; repeatable."),
     format: str = common.FORMAT_TABLE_JSON,
     output: Path | None = common.OUTPUT,
-    calendar: Path | None = typer.Option(None, "--calendar", help="Write the recommended set-up's usable passes as iCalendar."),
+    calendar: Path | None = typer.Option(
+        None, "--calendar", help="Write the passes one receiver takes with the recommended set-up as iCalendar."
+    ),
     figures: Path | None = typer.Option(None, "--figures", help="Write the figures (PNG and SVG) into this folder."),
     report: Path | None = typer.Option(None, "--report", help="Write a report folder: tables, figures, calendar, summary."),
     quiet: bool = common.QUIET,
@@ -221,9 +223,41 @@ def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, r
     console.print(decision.explanation, soft_wrap=False, markup=False)
     for note in decision.model_notes:
         console.print(f"Modelling note: {note}.", soft_wrap=False, markup=False)
+    _print_dropped(console, decision)
     if report is not None:
         console.print(f"Report written to {report}/ (summary.md, tables, figures/, calendar.ics).")
     return decision
+
+
+# Rows of the dropped-pass table shown in the terminal; the JSON and the report have them all.
+_DROPPED_SHOWN = 20
+
+
+def _print_dropped(console, decision) -> None:
+    """The recommended set-up's usable passes one receiver cannot take, and what each clashes with."""
+    rows = decision.dropped_rows()
+    if not rows:
+        console.print(f"One receiver takes every usable pass of {decision.recommended}.")
+        return
+    table = Table(
+        title=f"Usable passes of {decision.recommended} dropped for conflicts (one receiver); times UTC",
+        title_justify="left",
+    )
+    for heading in ("satellite", "AOS", "usable from", "to", "conflicts with", "its AOS", "overlap s"):
+        table.add_column(heading, justify="right" if heading == "overlap s" else "left", no_wrap=True)
+    for row in rows[:_DROPPED_SHOWN]:
+        table.add_row(
+            row["satellite"],
+            row["aos_utc"].replace("T", " ")[:19],
+            row["usable_start_utc"][11:19],
+            row["usable_end_utc"][11:19],
+            row["conflicts_with_satellite"] or "-",
+            (row["conflicts_with_aos_utc"] or "-").replace("T", " ")[:19],
+            "-" if row["overlap_s"] is None else f"{row['overlap_s']:.0f}",
+        )
+    console.print(table)
+    if len(rows) > _DROPPED_SHOWN:
+        console.print(f"... and {len(rows) - _DROPPED_SHOWN} more (all in --format json and the report's dropped.csv).")
 
 
 @app.command()

@@ -13,16 +13,44 @@ from planner.cli import common
 from planner.cli.app import app
 from planner.errors import UserError
 
+# The columns `--candidate` adds after the contract's, in CSV and JSON.
+USABLE_COLUMNS = ("usable_start_utc", "usable_end_utc", "usable_s", "max_margin_db")
 
-def _print_passes_table(study, passes) -> None:
+
+def usable_by_pass(study, candidate: str, numbered) -> list[dict]:
+    """For each of ``numbered``'s passes, in order, the :data:`USABLE_COLUMNS` for one candidate.
+
+    Computed through the forecast (one budget per satellite, the samples summarized and dropped);
+    the values are None for a pass the candidate cannot use (``usable`` false in its outcome).
+    """
+    from planner.decision.forecast import forecast, usable_span_utc
+    from planner.output.export import iso_utc
+
+    outcomes = forecast(study, [candidate], keep_samples=False, numbered=numbered).outcomes
+    firsts, lasts = usable_span_utc(outcomes)
+    by_pass = {}
+    for k, record in enumerate(outcomes.to_dict("records")):
+        usable = bool(record["usable"])
+        by_pass[(record["satellite"], int(record["pass_number"]))] = {
+            "usable_start_utc": iso_utc(firsts[k]) if usable else None,
+            "usable_end_utc": iso_utc(lasts[k]) if usable else None,
+            "usable_s": round(float(record["usable_s"]), 6) if usable else None,
+            "max_margin_db": round(float(record["max_margin_db"]), 2) if usable else None,
+        }
+    empty = dict.fromkeys(USABLE_COLUMNS)
+    return [by_pass.get((p.satellite, number), empty) for number, p in numbered]
+
+
+def _print_passes_table(study, passes, usable=None, candidate=None) -> None:
     from planner.output.export import iso_utc
 
     station = study.station
     title = (
         f"Passes over {station.name} ({station.latitude_deg:.4f}, {station.longitude_deg:.4f}), "
         f"{iso_utc(study.start_utc)} to {iso_utc(study.end_utc)}; times UTC, angles deg"
+        + (f"; usable span and peak margin (dB) with {candidate}" if candidate else "")
     )
-    table = Table(title=title, title_justify="left")
+    table = Table(title=title, title_justify="left", collapse_padding=usable is not None)
     for heading, justify in (
         ("satellite", "left"),
         ("date", "left"),
@@ -34,13 +62,22 @@ def _print_passes_table(study, passes) -> None:
         ("az AOS/TCA/LOS", "right"),
         ("range km", "right"),
         ("clipped", "left"),
+        *((("usable", "left"), ("peak", "right")) if usable else ()),
     ):
         table.add_column(heading, justify=cast(JustifyMethod, justify), no_wrap=True)
-    for p in passes:
+    for k, p in enumerate(passes):
         minutes, seconds = divmod(int(round(p.duration_s)), 60)
         # A pass under way at the window's start or end is cut there.
         notes = [n for n, flag in (("start", p.aos_clipped), ("end", p.los_clipped)) if flag]
         aos = iso_utc(p.aos_utc)
+        extra = []
+        if usable:
+            row = usable[k]
+            extra = (
+                ["-", "-"]
+                if row["usable_s"] is None
+                else [f"{row['usable_start_utc'][11:19]}-{row['usable_end_utc'][11:19]}", f"{row['max_margin_db']:.1f}"]
+            )
         table.add_row(
             p.satellite,
             aos[:10],
@@ -52,6 +89,7 @@ def _print_passes_table(study, passes) -> None:
             f"{common.azimuth(p.aos_azimuth_deg)}/{common.azimuth(p.tca_azimuth_deg)}/{common.azimuth(p.los_azimuth_deg)}",
             f"{p.min_range_km:.0f}",
             "+".join(notes),
+            *extra,
         )
     console = common.stdout()
     console.print(table)
@@ -72,6 +110,9 @@ def passes(
         None, "--satellite", help="Only this satellite (name or catalog number); repeatable."
     ),
     step_s: float = typer.Option(10.0, "--step-s", help="Track step, s (quick look; a scenario sets its own)."),
+    candidate: str | None = typer.Option(
+        None, "--candidate", help="Add each pass's usable start and end and peak margin with this candidate set-up."
+    ),
     station: list[str] | None = common.STATIONS,
     format: str = common.FORMAT_ANY,
     output: Path | None = common.OUTPUT,
@@ -79,6 +120,7 @@ def passes(
     force: bool = common.FORCE,
 ) -> None:
     """Predict every pass over the station, with AOS, TCA, LOS and sky track."""
+    from planner.decision.forecast import numbered_passes
     from planner.output.export import PASS_COLUMNS, pass_row, to_csv, to_json
 
     common.check_format(format)
@@ -102,7 +144,11 @@ def passes(
                 )
                 for study in studies
             ]
+        if candidate is not None:
+            studies[0].candidate(candidate)  # unknown names: one line with the allowed ones
     elif elements is not None:
+        if candidate is not None:
+            raise UserError("--candidate: candidate set-ups come from a scenario's [[candidate]] tables; give a SCENARIO file")
         studies = [common.adhoc_study(elements, lat, lon, alt_m, start, days, min_elevation_deg, step_s, satellite, allow_stale)]
     else:
         raise UserError("passes: give a SCENARIO file, or --elements FILE with --lat and --lon")
@@ -111,11 +157,17 @@ def passes(
     several = len(studies) > 1
     rows = []
     for study in studies:
-        found = study.passes()
+        numbered = numbered_passes(study)
+        found = [p for _, p in numbered]
+        usable = usable_by_pass(study, candidate, numbered) if candidate is not None else None
         if format == "table":
-            _print_passes_table(study, found)
-        rows += common.with_station([pass_row(p) for p in found], study, several)
+            _print_passes_table(study, found, usable, candidate)
+        mine = [pass_row(p) for p in found]
+        if usable is not None:
+            mine = [dict(row, **extra) for row, extra in zip(mine, usable)]
+        rows += common.with_station(mine, study, several)
+    columns = [*PASS_COLUMNS, *(USABLE_COLUMNS if candidate is not None else ()), *(["station"] if several else [])]
     if format == "json":
-        common.emit(to_json(rows), output, rules)
+        common.emit(to_json([{name: row[name] for name in columns} for row in rows]), output, rules)
     elif format == "csv":
-        common.emit(to_csv(rows, [*PASS_COLUMNS, *(["station"] if several else [])]), output, rules)
+        common.emit(to_csv(rows, columns), output, rules)

@@ -26,6 +26,7 @@ The pipeline, all of it vectorized over samples (loops run per pass or per candi
    usable time, per ``criteria.objective``), and :func:`weighted_interval_schedule` picks the
    non-overlapping set of greatest total value exactly (sort by end, binary-search the latest
    compatible predecessor, dynamic programme; Kleinberg & Tardos, *Algorithm Design*, 6.1).
+   :func:`dropped_for_conflicts` lists the passes it leaves out and the kept pass each overlaps.
 
 Local hour is *mean solar time* at the station's longitude (UTC hour + longitude / 15, modulo
 24) at the pass's TCA, as an integer 0..23: the sun's hour angle without the equation of time
@@ -36,7 +37,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
-from datetime import UTC, datetime
+from datetime import UTC, datetime, timedelta
 
 import numpy as np
 import pandas as pd
@@ -613,6 +614,88 @@ def schedule(outcomes: pd.DataFrame) -> ScheduleResult:
         lost_value=unconstrained - best,
         lost_passes=usable.loc[~taken].reset_index(drop=True),
     )
+
+
+DROPPED_COLUMNS = (
+    "satellite",
+    "norad_id",
+    "pass_number",
+    "aos_utc",
+    "usable_start_utc",
+    "usable_end_utc",
+    "usable_s",
+    "value",
+    "conflicts_with_satellite",
+    "conflicts_with_pass_number",
+    "conflicts_with_aos_utc",
+    "overlap_s",
+)
+
+
+def usable_span_utc(rows: pd.DataFrame) -> tuple[list, list]:
+    """(first, last) usable moment of each outcome row as UTC datetimes (None where it has none).
+
+    ``aos_utc - aos_s`` is the window start, so ``aos_utc + (first_usable_s - aos_s)`` is the first
+    usable moment without needing the study.
+    """
+    firsts, lasts = [], []
+    for aos_utc, aos_s, first_s, last_s in zip(rows["aos_utc"], rows["aos_s"], rows["first_usable_s"], rows["last_usable_s"]):
+        usable = np.isfinite(first_s) and np.isfinite(last_s)
+        firsts.append(aos_utc + timedelta(seconds=float(first_s - aos_s)) if usable else None)
+        lasts.append(aos_utc + timedelta(seconds=float(last_s - aos_s)) if usable else None)
+    return firsts, lasts
+
+
+def dropped_for_conflicts(result: ScheduleResult) -> pd.DataFrame:
+    """The usable passes the one-receiver schedule left out, each with the kept pass it overlaps longest.
+
+    Columns :data:`DROPPED_COLUMNS`, in time order.  The kept passes do not overlap, so sorted by
+    start they are sorted by end too, and the kept passes overlapping ``[start, end]`` are the run
+    of those ending after ``start`` and starting before ``end`` (two binary searches).  The
+    ``conflicts_with_*`` columns are empty (None) for a pass that overlaps no kept pass (only a
+    pass worth nothing can be left out so).
+    """
+    kept = result.chosen.sort_values(["first_usable_s", "last_usable_s"], kind="stable").reset_index(drop=True)
+    lost = result.lost_passes.sort_values(["first_usable_s", "last_usable_s"], kind="stable").reset_index(drop=True)
+    kept_start = kept["first_usable_s"].to_numpy(dtype=float)
+    kept_end = kept["last_usable_s"].to_numpy(dtype=float)
+    start = lost["first_usable_s"].to_numpy(dtype=float)
+    end = lost["last_usable_s"].to_numpy(dtype=float)
+    low = np.searchsorted(kept_end, start, side="right")
+    high = np.searchsorted(kept_start, end, side="left")
+    partner: list[int | None] = []
+    overlap_s: list[float | None] = []
+    for i, (a, b) in enumerate(zip(low.tolist(), high.tolist())):  # one step per dropped pass
+        if a >= b:
+            partner.append(None)
+            overlap_s.append(None)
+            continue
+        overlap = np.minimum(kept_end[a:b], end[i]) - np.maximum(kept_start[a:b], start[i])
+        best = int(np.argmax(overlap))
+        partner.append(a + best)
+        overlap_s.append(float(overlap[best]))
+    firsts, lasts = usable_span_utc(lost)
+
+    def of_partner(column: str) -> list:
+        return [None if k is None else kept.at[k, column] for k in partner]
+
+    frame = pd.DataFrame(
+        {
+            "satellite": lost["satellite"].to_numpy(dtype=object),
+            "norad_id": lost["norad_id"].to_numpy(),
+            "pass_number": lost["pass_number"].to_numpy(),
+            "aos_utc": pd.Series(list(lost["aos_utc"]), dtype=object),
+            "usable_start_utc": pd.Series(firsts, dtype=object),
+            "usable_end_utc": pd.Series(lasts, dtype=object),
+            "usable_s": lost["usable_s"].to_numpy(dtype=float),
+            "value": lost["value"].to_numpy(dtype=float),
+            "conflicts_with_satellite": pd.Series(of_partner("satellite"), dtype=object),
+            "conflicts_with_pass_number": pd.Series(of_partner("pass_number"), dtype=object),
+            "conflicts_with_aos_utc": pd.Series(of_partner("aos_utc"), dtype=object),
+            "overlap_s": pd.Series(overlap_s, dtype=object),
+        }
+    )
+    return frame.loc[:, list(DROPPED_COLUMNS)]
 
 
 # ---------------------------------------------------------------------------- bundle

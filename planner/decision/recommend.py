@@ -16,10 +16,18 @@ the scenario) are compared as if matched; the explanation and the ``notes`` say 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from datetime import UTC, datetime, timedelta
 
 import pandas as pd
 
-from planner.decision.forecast import ELEVATION_BANDS_DEG, Forecast, band_table, schedule, summarize_passes
+from planner.decision.forecast import (
+    ELEVATION_BANDS_DEG,
+    Forecast,
+    band_table,
+    dropped_for_conflicts,
+    schedule,
+    summarize_passes,
+)
 
 # A band or satellite difference smaller than this (minutes per week) is not worth a sentence.
 _NOTABLE_MINUTES = 0.5
@@ -76,7 +84,60 @@ class Recommendation:
             "explanation": self.explanation,
             "notes": list(self.notes),
             "model_notes": list(self.model_notes),
+            "dropped_for_conflicts": self.dropped_rows(),
         }
+
+    def dropped_rows(self) -> list[dict]:
+        """The recommended set-up's usable passes one receiver cannot take, with the kept pass each
+        overlaps longest: the ``dropped_for_conflicts`` rows of the contract (and ``dropped.csv``)."""
+        result = self.schedules.get(self.recommended)
+        if result is None:
+            return []
+        rows = []
+        for record in dropped_for_conflicts(result).to_dict("records"):
+            overlap_s = record["overlap_s"]
+            partner = record["conflicts_with_pass_number"]
+            rows.append(
+                {
+                    "satellite": record["satellite"],
+                    "norad_id": int(record["norad_id"]),
+                    "pass_number": int(record["pass_number"]),
+                    "aos_utc": _utc_text(record["aos_utc"]),
+                    "usable_start_utc": _utc_text(record["usable_start_utc"]),
+                    "usable_end_utc": _utc_text(record["usable_end_utc"]),
+                    "usable_s": round(float(record["usable_s"]), 1),
+                    "conflicts_with_satellite": record["conflicts_with_satellite"],
+                    "conflicts_with_pass_number": None if partner is None else int(partner),
+                    "conflicts_with_aos_utc": _utc_text(record["conflicts_with_aos_utc"]),
+                    "overlap_s": None if overlap_s is None else round(float(overlap_s), 1),
+                }
+            )
+        return rows
+
+
+DROPPED_ROW_KEYS = (
+    "satellite",
+    "norad_id",
+    "pass_number",
+    "aos_utc",
+    "usable_start_utc",
+    "usable_end_utc",
+    "usable_s",
+    "conflicts_with_satellite",
+    "conflicts_with_pass_number",
+    "conflicts_with_aos_utc",
+    "overlap_s",
+)
+"""The keys of a ``dropped_for_conflicts`` row, in order (the columns of ``dropped.csv``)."""
+
+
+def _utc_text(moment: datetime | None) -> str | None:
+    """ISO 8601 UTC to the nearest second ending in ``Z``, as every output writes times (the
+    decision stage does not import the output stage, whose ``iso_utc`` writes the same text)."""
+    if moment is None:
+        return None
+    rounded = (moment.astimezone(UTC) + timedelta(microseconds=500_000)).replace(microsecond=0)
+    return rounded.strftime("%Y-%m-%dT%H:%M:%SZ")
 
 
 def _score_unit(objective: str) -> str:

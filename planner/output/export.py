@@ -124,19 +124,24 @@ def week_rows(weekly) -> list[dict]:
 
 
 def calendar_ics(outcomes, study, candidate: str) -> bytes:
-    """RFC 5545 iCalendar of one candidate's usable passes (one event per usable window span).
+    """RFC 5545 iCalendar of the passes one receiver takes with one candidate.
 
-    DTSTART/DTEND are the first and last usable moments of the pass; the UID is stable
-    for the same satellite and AOS, so re-importing a calendar updates rather than duplicates.
+    The events are the one-receiver schedule's kept passes (``planner.decision.forecast.schedule``),
+    so no two overlap; the passes it drops for a conflict are not in the calendar (the comparison
+    lists them). DTSTART/DTEND are the first and last usable moments of the pass, cut to the whole
+    second (both are cut alike, so passes that do not overlap still do not). The UID is stable for
+    the same satellite and AOS, so re-importing a calendar updates rather than duplicates.
     """
     from icalendar import Calendar, Event
+
+    from planner.decision.forecast import schedule
 
     calendar = Calendar()
     calendar.add("prodid", "-//planner//ground-station pass plan//EN")
     calendar.add("version", "2.0")
-    calendar.add("x-wr-calname", f"{study.station.name}: usable passes ({candidate})")
-    rows = outcomes[(outcomes["candidate"] == candidate) & outcomes["usable"]].sort_values("first_usable_s")
-    for record in rows.to_dict("records"):
+    calendar.add("x-wr-calname", f"{study.station.name}: one-receiver plan ({candidate})")
+    kept = schedule(outcomes[outcomes["candidate"] == candidate]).chosen.sort_values("first_usable_s", kind="stable")
+    for record in kept.to_dict("records"):
         start = study.start_utc + timedelta(seconds=float(record["first_usable_s"]))
         end = study.start_utc + timedelta(seconds=float(record["last_usable_s"]))
         event = Event()
@@ -148,10 +153,11 @@ def calendar_ics(outcomes, study, candidate: str) -> bytes:
         event.add("location", study.station.name)
         event.add(
             "description",
-            f"Candidate {candidate}. AOS {iso_utc(record['aos_utc'])}, TCA {iso_utc(record['tca_utc'])}, "
-            f"LOS {iso_utc(record['los_utc'])}. Usable {record['usable_s']:.0f} s, margin "
-            f"{record['min_margin_db']:.1f}/{record['median_margin_db']:.1f}/{record['max_margin_db']:.1f} dB "
-            f"(min/median/max), {record['dropouts']} dropouts, {record['data_volume_bit'] / 1e6:.2f} Mbit.",
+            f"Candidate {candidate}. Peak margin {record['max_margin_db']:.1f} dB "
+            f"(min {record['min_margin_db']:.1f}, median {record['median_margin_db']:.1f} dB). "
+            f"AOS {iso_utc(record['aos_utc'])}, TCA {iso_utc(record['tca_utc'])}, LOS {iso_utc(record['los_utc'])}. "
+            f"Usable {iso_utc(start)} to {iso_utc(end)} ({record['usable_s']:.0f} s), {record['dropouts']} dropouts, "
+            f"{record['data_volume_bit'] / 1e6:.2f} Mbit.",
         )
         calendar.add_component(event)
     return calendar.to_ical()
@@ -223,7 +229,17 @@ def write_figures(folder, study, forecast, recommendation, *, rules=None) -> lis
 
 FIGURE_STEMS = ("elevation-cuts", "pass-margins", "usable-minutes", "margin-by-band")
 """The figures of every comparison; each satellite adds its sky chart, ``sky-<name>``."""
-REPORT_FILES = ("weekly.csv", "passes.csv", "bands.csv", "hours.csv", "ranking.csv", "compare.json", "calendar.ics", "summary.md")
+REPORT_FILES = (
+    "weekly.csv",
+    "passes.csv",
+    "bands.csv",
+    "hours.csv",
+    "ranking.csv",
+    "dropped.csv",
+    "compare.json",
+    "calendar.ics",
+    "summary.md",
+)
 
 
 def figure_file_names(satellites: Sequence[str]) -> list[str]:
@@ -255,6 +271,7 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
     from pathlib import Path
 
     from planner.decision.forecast import band_table, hour_table
+    from planner.decision.recommend import DROPPED_ROW_KEYS
     from planner.fileio import REPLACE_ANY, ensure_folder, write_atomically
     from planner.link.safety import STATION_CAUTIONS
 
@@ -268,6 +285,7 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
         "bands.csv": (_records(band_table(forecast.outcomes)), None),
         "hours.csv": (_records(hour_table(forecast.outcomes)), None),
         "ranking.csv": (recommendation.to_contract()["ranking"], None),
+        "dropped.csv": (recommendation.dropped_rows(), DROPPED_ROW_KEYS),
     }
     for name, (rows, columns) in tables.items():
         columns = columns or (list(rows[0]) if rows else [])
@@ -310,7 +328,9 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
         "## Files",
         "",
         "- `weekly.csv`, `passes.csv`, `bands.csv`, `hours.csv`, `ranking.csv`, `compare.json`",
-        f"- `calendar.ics`: the usable passes of {recommendation.recommended} (RFC 5545)",
+        f"- `calendar.ics`: the passes one receiver takes with {recommendation.recommended} (RFC 5545)",
+        f"- `dropped.csv`: the usable passes of {recommendation.recommended} left out for a conflict, "
+        "each with the kept pass it overlaps",
         "- `figures/`: " + ", ".join(sorted({Path(p).stem for p in figures})) + " (PNG and SVG)",
         "",
         *(["## Modelling notes", "", *[f"- {n}." for n in recommendation.model_notes], ""] if recommendation.model_notes else []),
