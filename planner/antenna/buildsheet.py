@@ -257,6 +257,15 @@ def template_parameters(header: dict[str, str], source: str) -> tuple[str, dict[
     return template, params
 
 
+def has_build_data(header: dict[str, str]) -> bool:
+    """Whether the table names a wire template (``builder``) whose geometry can be rebuilt."""
+    from planner.antenna.synth.templates import TEMPLATES
+    from planner.antenna.tablefile import BUILDER_ALIASES
+
+    builder = header.get("builder", "")
+    return BUILDER_ALIASES.get(builder, builder) in TEMPLATES
+
+
 def _path_length_m(points: np.ndarray) -> float:
     return float(np.sum(np.linalg.norm(np.diff(points, axis=0), axis=1)))
 
@@ -650,11 +659,11 @@ def build_sheet(
         cautions=_cautions(),
         **facts,
     )
-    if "builder" not in header:
+    if not has_build_data(header):
         model = header.get("model", "no model named")
         return replace(
             base,
-            summary=f"no build data: the pattern table ({model}) has no wire template to build from; "
+            summary=f"no build data: the pattern table ({model}) names no wire template to build from; "
             "the feedline, connectors and LNA position below are what the scenario gives",
             feed_vswr=table.feed_vswr,
             feed_impedance_ohm=table.feed_impedance_ohm,
