@@ -185,3 +185,31 @@ def test_sheet_command_writes_the_named_candidate_as_json(tmp_path):
     assert document["candidate"] == "turnstile-close" and document["template"] == "turnstile"
     assert document["selection"].endswith("as asked (--candidate).")
     assert document["lna_position"] == "antenna"  # the demo's [receiver] default
+
+
+def test_a_broken_trimmed_line_is_one_error_naming_it_and_the_report_goes_on(tmp_path):
+    import warnings
+    from dataclasses import replace
+    from types import SimpleNamespace
+
+    from planner.antenna.buildsheet import study_sheet
+    from planner.errors import UserError
+
+    candidate = _candidate(LOOPS)
+    header = dict(candidate.pattern.header, trimmed="circumference_wavelengths about-one")
+    broken = replace(candidate, pattern=replace(candidate.pattern, header=header))
+    with pytest.raises(UserError, match="trimmed") as error:
+        build_sheet(broken, tolerances=False)
+    assert "loops-tall-far.csv" in str(error.value) and "\n" not in str(error.value)
+    study = SimpleNamespace(
+        candidate=lambda name: broken,
+        station=SimpleNamespace(mask=SimpleNamespace(lowest_deg=0.0)),
+        receiver=SimpleNamespace(lna_position="antenna"),
+    )
+    with pytest.raises(UserError):
+        study_sheet(study, "under-test")
+    with warnings.catch_warnings(record=True) as said:
+        warnings.simplefilter("always")
+        sheet = study_sheet(study, "under-test", strict=False)
+    assert not sheet.build_data and "trimmed" in sheet.summary and sheet.feedline
+    assert any("build sheet of under-test" in str(w.message) for w in said)

@@ -765,12 +765,30 @@ def render_markdown(sheet: BuildSheet) -> str:
     return "\n".join(body) + "\n"
 
 
-def study_sheet(study, candidate_name: str, *, selection: str = "", tolerances: bool = True) -> BuildSheet:
-    """The sheet of a study's candidate, at its station's horizon mask and receiver."""
-    return build_sheet(
-        study.candidate(candidate_name),
-        lowest_elevation_deg=study.station.mask.lowest_deg,
-        selection=selection,
-        default_lna_position=study.receiver.lna_position,
-        tolerances=tolerances,
-    )
+def study_sheet(study, candidate_name: str, *, selection: str = "", tolerances: bool = True, strict: bool = True) -> BuildSheet:
+    """The sheet of a study's candidate, at its station's horizon mask and receiver.
+
+    ``strict=False`` (the report, written after a whole comparison) turns a table whose build data
+    cannot be rebuilt into a warning and a sheet with the feedline facts only, instead of an error.
+    """
+    candidate = study.candidate(candidate_name)
+    try:
+        return build_sheet(
+            candidate,
+            lowest_elevation_deg=study.station.mask.lowest_deg,
+            selection=selection,
+            default_lna_position=study.receiver.lna_position,
+            tolerances=tolerances,
+        )
+    except UserError as error:
+        if strict:
+            raise
+        warn(f"build sheet of {candidate_name}: {error}; the sheet lists the feedline only")
+        return replace(
+            build_sheet(
+                replace(candidate, pattern=replace(candidate.pattern, header={})),
+                selection=selection,
+                default_lna_position=study.receiver.lna_position,
+            ),
+            summary=f"no build data: {error}",
+        )

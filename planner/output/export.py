@@ -356,6 +356,7 @@ def _write_build_sheet(folder, study, recommendation, rules) -> list:
         study,
         recommendation.recommended,
         selection=f"Candidate {recommendation.recommended}: recommended by this comparison.",
+        strict=False,
     )
     return [
         write_atomically(folder / "build_sheet.md", render_markdown(sheet), rules=rules),
