@@ -73,7 +73,8 @@ class Recommendation:
     notes: list[str] = field(default_factory=list)  # e.g. candidates charged no feed mismatch
     model_notes: list[str] = field(default_factory=list)  # models used beyond their stated range
     usable_rule: str = ""  # which margin decides "usable", per satellite
-    lead_db: float | None = None  # dB the leader's budget alone can lose and stay first (None: one candidate)
+    # dB the leader's budget alone can lose and stay first, at most _LEAD_CAP_DB (None: no lead to measure)
+    lead_db: float | None = None
     checks: list[dict] = field(default_factory=list)  # the uncertain terms worth checking (uncertain_terms)
 
     def to_contract(self) -> dict:
@@ -245,7 +246,8 @@ def recommend(forecast: Forecast, satellites, candidates) -> Recommendation:
         shifted = summarize_passes(forecast.samples, forecast.passes, criteria, satellites, margin_shift_db=shift)
         winners[shift] = score_candidates(shifted, objective, forecast.candidates)[0][0].candidate
     robust = all(name == best.candidate for name in winners.values())
-    lead_db = lead_in_db(forecast, satellites, ranking) if len(ranking) > 1 else None
+    # No lead in dB without a runner-up, or when the leader collects nothing (there is no lead).
+    lead_db = lead_in_db(forecast, satellites, ranking) if len(ranking) > 1 and best.score > 0 else None
     checks = uncertain_terms(forecast, satellites, candidates, ranking, winners, lead_db)
     notes = feed_data_notes([candidates[name] for name in forecast.candidates])
     usable_rule = usable_rule_text(criteria, satellites)
