@@ -87,13 +87,15 @@ def week(
 
 
 def _print_week(study, result) -> None:
-    from planner.decision.forecast import band_table
+    from planner.decision.forecast import NO_RECEIVER_LIMIT_TEXT, band_table, usable_rule_text
+    from planner.decision.recommend import voice_satellites, voice_text
 
     console = common.stdout()
     table = Table(
-        title=f"{result.days:g}-day forecast at {study.station.name} (usable: margin >= "
-        f"{study.scenario.criteria.min_margin_db:g} dB for >= {study.scenario.criteria.min_usable_s:g} s)",
+        title=f"{result.days:g}-day forecast at {study.station.name}, every usable pass (no one-receiver limit)",
         title_justify="left",
+        caption=NO_RECEIVER_LIMIT_TEXT,
+        caption_justify="left",
     )
     for heading in ("candidate", "satellite", "passes", "usable", "usable min", "min/day", "Mbit", "Mbit/day", "dropouts"):
         table.add_column(heading, justify="left" if heading in ("candidate", "satellite") else "right")
@@ -119,6 +121,15 @@ def _print_week(study, result) -> None:
     for name, values in pivot.iterrows():
         band_view.add_row(str(name), *[f"{v:.1f}" for v in values])
     console.print(band_view)
+    console.print(usable_rule_text(study.scenario.criteria, study.satellites), soft_wrap=False, markup=False)
+    console.print(
+        "Dropouts: below-threshold gaps between the usable windows of a usable pass (a pattern null or a fade mid-pass).",
+        soft_wrap=False,
+        markup=False,
+    )
+    voice = voice_text(voice_satellites(study.satellites), study.scenario.criteria.objective)
+    if voice:
+        console.print(voice, soft_wrap=False, markup=False)
 
 
 @app.command()
@@ -195,8 +206,15 @@ def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, r
         write_report(report, study, result, decision, rules=rules)
     if format == "json":
         return decision
+    from planner.decision.forecast import ONE_RECEIVER_LIMIT_TEXT
+
     console = common.stdout()
-    table = Table(title=f"Candidates at {study.station.name}, one receiver, {result.days:g} days", title_justify="left")
+    table = Table(
+        title=f"Candidates at {study.station.name}, one receiver, {result.days:g} days",
+        title_justify="left",
+        caption=ONE_RECEIVER_LIMIT_TEXT,
+        caption_justify="left",
+    )
     for heading in (
         "rank",
         "candidate",

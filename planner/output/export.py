@@ -118,6 +118,7 @@ def week_rows(weekly) -> list[dict]:
                 "usable_minutes": round(float(record["usable_minutes"]), 2),
                 "data_volume_mbit": round(float(record["data_volume_mbit"]), 3),
                 "dropouts": int(record["dropouts"]),
+                "one_receiver_limit": False,  # every usable pass counts, overlapping or not
             }
         )
     return rows
@@ -272,7 +273,7 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
     """A report folder: tables as CSV, figures, the recommended set-up's calendar, summary.md."""
     from pathlib import Path
 
-    from planner.decision.forecast import band_table, hour_table
+    from planner.decision.forecast import NO_RECEIVER_LIMIT_TEXT, ONE_RECEIVER_LIMIT_TEXT, band_table, hour_table
     from planner.decision.recommend import DROPPED_ROW_KEYS
     from planner.fileio import REPLACE_ANY, ensure_folder, write_atomically
     from planner.link.safety import STATION_CAUTIONS
@@ -306,7 +307,10 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
             "usable passes": s.usable_passes,
             "usable minutes": f"{s.usable_minutes:.1f}",
             "data volume (Mbit)": f"{s.data_volume_mbit:.1f}",
+            "dropouts": s.dropouts,
             "lost to conflicts": f"{s.lost_to_conflicts:.2f}",
+            "usable passes, no limit": s.all_usable_passes,
+            "dropouts, no limit": s.all_dropouts,
         }
         for s in recommendation.ranking
     ]
@@ -324,10 +328,14 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
         "",
         "## Ranking (one receiver)",
         "",
-        _markdown_table(ranking),
-        "## Per candidate and satellite",
+        ONE_RECEIVER_LIMIT_TEXT + ' The "no limit" columns count every usable pass, as planner week does.',
         "",
-        _markdown_table(week_rows(forecast.weekly)),
+        _markdown_table(ranking),
+        "## Per candidate and satellite (no one-receiver limit)",
+        "",
+        NO_RECEIVER_LIMIT_TEXT,
+        "",
+        _markdown_table([{k: v for k, v in row.items() if k != "one_receiver_limit"} for row in week_rows(forecast.weekly)]),
         "## Files",
         "",
         "- `weekly.csv`, `passes.csv`, `bands.csv`, `hours.csv`, `ranking.csv`, `compare.json`",
