@@ -245,7 +245,7 @@ def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, r
     if report is not None:
         console.print(f"Report written to {report}/ (summary.md, build_sheet.md, tables, figures/, calendar.ics).")
     console.print(
-        f"What to cut and assemble for {decision.recommended}: planner sheet {study.scenario.source_path or 'SCENARIO'}",
+        f"What to cut and assemble for {decision.recommended}: planner sheet {common.shown_path(study.scenario.source_path)}",
         soft_wrap=True,
         markup=False,
     )
