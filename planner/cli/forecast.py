@@ -119,6 +119,26 @@ def _print_week(study, result) -> None:
     for name, values in pivot.iterrows():
         band_view.add_row(str(name), *[f"{v:.1f}" for v in values])
     console.print(band_view)
+    _print_hours(console, study, result)
+
+
+def _print_hours(console, study, result) -> None:
+    """Usable minutes per local hour of TCA on the station's clock; hours without passes left out."""
+    from planner.decision.forecast import hour_table
+    from planner.timezones import zone_label
+
+    label = zone_label(study.station.time_zone, study.station.longitude_deg)
+    hours = hour_table(result.outcomes, label)
+    pivot = hours.pivot_table(index="local_hour", columns="candidate", values="usable_minutes", aggfunc="sum", fill_value=0.0)
+    with_passes = hours.groupby("local_hour")["passes"].sum()
+    view = Table(title=f"usable minutes by local hour of TCA ({label})", title_justify="left")
+    view.add_column("hour", justify="right")
+    for name in pivot.columns:
+        view.add_column(str(name), justify="right")
+    for hour, values in pivot.iterrows():
+        if with_passes.get(hour, 0) > 0:
+            view.add_row(f"{int(hour):02d}", *[f"{v:.1f}" for v in values])
+    console.print(view)
 
 
 @app.command()
