@@ -15,9 +15,11 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 from datetime import UTC, datetime, timedelta, tzinfo
+from typing import TYPE_CHECKING
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
-import numpy as np
+if TYPE_CHECKING:  # numpy is imported where hours are computed: loading a scenario needs none
+    import numpy as np
 
 DEFAULT_TIME_ZONE = "UTC"
 LOCAL_MEAN_SOLAR = "local-mean-solar"
@@ -76,6 +78,8 @@ def local_hours(times_utc: Iterable[datetime], name: str, longitude_deg: float) 
     For an IANA zone it is the civil hour (daylight saving applied per instant); for
     ``local-mean-solar`` the floor of (UTC hours + longitude / 15) modulo 24.
     """
+    import numpy as np
+
     times = list(times_utc)
     if is_mean_solar(name):
         utc_hours = np.array([_hours_of_day(t.astimezone(UTC)) for t in times], dtype=float)
