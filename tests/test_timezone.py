@@ -1,9 +1,9 @@
 """The station's time zone: local hours of passes, the hour table and the calendar.
 
-Sources: the IANA time zone database as Python's zoneinfo reads it (Python docs, ``zoneinfo``);
+Sources (docs/references.md, "Time zones and clocks"): the IANA time zone database as zoneinfo reads it;
 EU summer time starts on the last Sunday of March at 01:00 UTC (Directive 2000/84/EC, art. 2);
 New Zealand daylight time ends on the first Sunday of April at 03:00 NZDT (New Zealand Daylight
-Time Order 2007); mean solar time is UT + east longitude / 15 h (Explanatory Supplement to the
+Time Order 2007; both rules from memory, and checked against zoneinfo too); mean solar time is UT + east longitude / 15 h (Explanatory Supplement to the
 Astronomical Almanac, local mean time); RFC 5545 for the calendar (TZID, VTIMEZONE, UTC "Z").
 """
 
@@ -217,3 +217,23 @@ def test_calendar_in_utc_keeps_the_z_form(london, time_zone):
         offset_h = study.station.longitude_deg / 15.0
         first_aos = expected[0][2].aos_utc.astimezone(UTC) + timedelta(hours=offset_h)
         assert f"AOS {first_aos:%Y-%m-%d %H:%M:%S} LMST" in str(events[0]["DESCRIPTION"])
+
+
+# ------------------------------------------------------------------ terminal
+
+
+def test_week_prints_the_hour_table_on_the_station_clock(london):
+    from rich.console import Console
+
+    from planner.cli.forecast import _print_hours
+
+    study, _, result = london
+    console = Console(record=True, width=200)
+    _print_hours(console, study, result)
+    text = console.export_text()
+    assert f"usable minutes by local hour of TCA ({LONDON})" in " ".join(text.split())  # the title may wrap
+    rows = [line.strip("│ ").split("│") for line in text.splitlines() if line.startswith("│")]
+    printed_hours = [int(cells[0]) for cells in rows]
+    assert printed_hours == sorted(set(result.outcomes["local_hour"]))  # every hour with a pass, once
+    minutes = sum(float(cells[1]) for cells in rows)
+    assert minutes == pytest.approx(result.weekly["usable_minutes"].sum(), abs=0.05 * len(rows))  # 0.1 min rounding
