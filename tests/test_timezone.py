@@ -237,3 +237,37 @@ def test_week_prints_the_hour_table_on_the_station_clock(london):
     assert printed_hours == sorted(set(result.outcomes["local_hour"]))  # every hour with a pass, once
     minutes = sum(float(cells[1]) for cells in rows)
     assert minutes == pytest.approx(result.weekly["usable_minutes"].sum(), abs=0.05 * len(rows))  # 0.1 min rounding
+
+
+# ------------------------------------------------------------------ network stations
+
+PARTNER = """
+[[network_station]]
+name = "Antipodes partner site"
+latitude_deg = -41.3
+longitude_deg = 174.8
+time_zone = "{zone}"
+"""
+
+
+def network_scenario(tmp_path, zone: str):
+    path = tmp_path / "network.toml"
+    path.write_text(DEMO.read_text().replace('"../', f'"{ROOT}/') + PARTNER.format(zone=zone))
+    return path
+
+
+def test_each_network_station_keeps_its_own_zone(tmp_path):
+    scenario = load_scenario(network_scenario(tmp_path, "Pacific/Auckland"))
+    home = Study.from_scenario(scenario, allow_stale=True)
+    partner = home.at_station("Antipodes partner site")
+    assert (home.station.time_zone, partner.station.time_zone) == ("UTC", "Pacific/Auckland")
+    # 4 January 2027 00:00 UTC is 13:00 NZDT (UTC + 13, New Zealand daylight time; from memory).
+    assert local_hours([home.start_utc], partner.station.time_zone, partner.station.longitude_deg).tolist() == [13]
+
+
+def test_unknown_zone_of_a_network_station_names_that_station(tmp_path):
+    path = network_scenario(tmp_path, "Pacific/Nowhere")
+    with pytest.raises(UserError) as info:
+        load_scenario(path)
+    message = str(info.value)
+    assert "network_station" in message and "time_zone" in message and "'Pacific/Nowhere'" in message, message
