@@ -162,6 +162,11 @@ def test_report_folder_holds_tables_figures_and_summary(demo_short, tmp_path):
     assert sum(stem.startswith("sky-") for stem in pngs) == 5
     assert "Recommended" in (report / "summary.md").read_text()
     assert (tmp_path / "plan.ics").read_bytes().startswith(b"BEGIN:VCALENDAR")
+    # hours.csv names its clock: the demo station gives no time_zone, so UTC.
+    hours = (report / "hours.csv").read_text().splitlines()
+    assert hours[0].split(",")[:2] == ["candidate", "local_hour"] and hours[0].endswith(",time_zone")
+    assert len(hours) > 1 and all(line.endswith(",UTC") for line in hours[1:])
+    assert "calendar times: UTC" in (report / "summary.md").read_text()
 
 
 def test_compare_needs_candidates(tmp_path):

@@ -380,6 +380,7 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
         "",
         "- `weekly.csv`, `passes.csv`, `bands.csv`, `hours.csv`, `ranking.csv`, `compare.json`",
         f"- `calendar.ics`: the passes one receiver takes with {recommendation.recommended} (RFC 5545)",
+        f"- local hours (`hours.csv`, `local_hour` in `passes.csv`) and calendar times: {_hours_zone(study)}",
         f"- `dropped.csv`: the usable passes of {recommendation.recommended} left out for a conflict, "
         "each with the kept pass it overlaps",
         "- `figures/`: " + ", ".join(sorted({Path(p).stem for p in figures})) + " (PNG and SVG)",
