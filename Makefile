@@ -30,8 +30,9 @@ lint: $(TEST_STAMP)
 	$(BIN)/ruff format --check $(CHECKED)
 	$(BIN)/mypy
 
+# One test process per core (pytest-xdist); the tests share no files, each has its own tmp_path.
 test: lint
-	$(BIN)/python -m pytest
+	$(BIN)/python -m pytest -n auto
 
 bench: $(STAMP)
 	$(BIN)/python benchmarks/passes.py

@@ -36,6 +36,8 @@ def test_pattern_build_makes_crossed_loops_over_a_reflector(tmp_path):
     assert table.sense(0.0, 90.0) == 1 and table.axial_ratio_db(0.0, 90.0) < 1.0
     show = run("pattern", "show", out, "--step-deg", "30")
     assert show.returncode == 0 and "axial ratio" in show.stdout and "feed_impedance_ohm" in show.stdout
+    magnitude, _, phase = table.header["current_ratio_b_over_a"].partition(" at ")
+    assert f"current ratio I_b / I_a: amplitude {magnitude}, phase {phase.split()[0]} deg" in show.stdout
 
 
 def test_pattern_build_refuses_bad_parameters(tmp_path):
@@ -58,6 +60,7 @@ def test_harness_quarter_wave_and_implied_velocity_factor():
     assert 0.13 <= report["quarter_wave_length_m"] <= 0.14
     measured = json.loads(run("harness", "--frequency-mhz", "435", "--measured-length-m", "0.092", "--format", "json").stdout)
     assert 0.5 <= measured["velocity_factor_measured"] <= 0.6
+    assert any("equal element currents" in note for note in report["notes"])
 
 
 def test_sweep_names_the_best_spacing_of_a_solver_pattern(tmp_path):

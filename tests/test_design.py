@@ -344,8 +344,15 @@ def test_harness_command_reports_cut_errors_of_a_harness_table(harness_table, ta
     assert ("matching section", 5.0) in parts or ("L-network parts", 5.0) in parts
     nominal = [r for r in report["rows"] if r["part"] == "phasing line" and r["error"] == 0][0]
     assert nominal["axial_ratio_db"] == pytest.approx(harness.state.axial_ratio_db, abs=1e-6)
+    # The current-ratio rows start from the table's own ratio, not the ideal 1 at -90 deg.
+    header = load_pattern(harness_table).header["current_ratio_b_over_a"]
+    start = report["current_ratio"]
+    assert header.startswith(f"{start['magnitude']:.4f} at {start['phase_deg']:.2f} deg")
+    zero = [r for r in report["current_ratio_rows"] if r["length_error_m"] == 0][0]
+    assert zero["current_ratio_phase_deg"] == pytest.approx(start["phase_deg"])
     text = run("harness", "--pattern", harness_table)
     assert text.returncode == 0 and "margin change dB" in text.stdout
+    assert "the table's current ratio" in " ".join(text.stdout.split())
     refused = run("harness", "--pattern", harness_table, "--frequency-mhz", "435")
     assert refused.returncode == 2 and "--pattern" in refused.stderr
 

@@ -238,3 +238,48 @@ def test_bad_inputs_are_one_line_user_errors(kwargs, word):
         harness_report(**kwargs)
     message = str(info.value)
     assert "\n" not in message and word in message
+
+
+# --------------------------------------------------------------------- the table's current ratio
+
+
+def balanis_axial_ratio_db(ex0: float, ey0: float, delta_rad: float) -> float:
+    """Axial ratio of E_x = ex0, E_y = ey0 e^{j delta} from the polarization ellipse's semi-axes
+    (Balanis, Antenna Theory, sec. 2.12, eqs. 2-66 and 2-67; from memory):
+    OA, OB = sqrt(1/2 (ex0^2 + ey0^2 +/- sqrt(ex0^4 + ey0^4 + 2 ex0^2 ey0^2 cos(2 delta))))."""
+    root = math.sqrt(ex0**4 + ey0**4 + 2.0 * ex0**2 * ey0**2 * math.cos(2.0 * delta_rad))
+    major = math.sqrt(0.5 * (ex0**2 + ey0**2 + root))
+    minor = math.sqrt(max(0.5 * (ex0**2 + ey0**2 - root), 0.0))
+    return math.inf if minor == 0 else 20.0 * math.log10(major / minor)
+
+
+def test_zero_error_axial_ratio_starts_from_the_tables_current_ratio():
+    from planner.antenna import load_pattern
+    from planner.antenna.harness import axial_ratio_db_from_current_ratio, current_ratio_from_header, ratio_cut_effects
+    from tests.conftest import ROOT
+
+    # The round loops' harness leaves an amplitude ratio near 2 (their header says so): far from ideal.
+    header = load_pattern(ROOT / "patterns" / "loops-round-close.csv").header
+    magnitude, phase_deg = current_ratio_from_header(header)
+    assert magnitude > 1.5 and header["current_ratio_b_over_a"].startswith(f"{magnitude:.4f} at {phase_deg:.2f} deg")
+    rows = ratio_cut_effects(magnitude, phase_deg, 436e6, 0.82, [-0.005, 0.0, 0.005])
+    nominal = rows[1]
+    expected = balanis_axial_ratio_db(1.0, magnitude, math.radians(phase_deg))
+    assert nominal["axial_ratio_db"] == pytest.approx(expected, abs=0.05)
+    assert float(axial_ratio_db_from_current_ratio(magnitude, phase_deg)) == pytest.approx(expected, abs=0.05)
+    assert nominal["axial_ratio_db"] > float(axial_ratio_db_from_phase_error(0.0)) + 3.0  # not the ideal start
+    # A line 5 mm long delays b by 360 x 5 mm / (vf c / f) more (guided wavelength, Pozar sec. 2.1).
+    lag_deg = 360.0 * 0.005 / (0.82 * C_M_S / 436e6)
+    assert rows[2]["current_ratio_phase_deg"] == pytest.approx(phase_deg - lag_deg, abs=1e-9)
+    assert rows[2]["axial_ratio_db"] == pytest.approx(
+        balanis_axial_ratio_db(1.0, magnitude, math.radians(phase_deg - lag_deg)), abs=0.05
+    )
+
+
+def test_current_ratio_header_line_errors_name_the_line():
+    from planner.antenna.harness import current_ratio_from_header
+
+    assert current_ratio_from_header({}) is None
+    with pytest.raises(UserError, match="current_ratio_b_over_a") as error:
+        current_ratio_from_header({"current_ratio_b_over_a": "about one"}, "x.csv")
+    assert "x.csv" in str(error.value) and "\n" not in str(error.value)

@@ -167,6 +167,14 @@ def test_report_folder_holds_tables_figures_and_summary(demo_short, tmp_path):
     assert hours[0].split(",")[:2] == ["candidate", "local_hour"] and hours[0].endswith(",time_zone")
     assert len(hours) > 1 and all(line.endswith(",UTC") for line in hours[1:])
     assert "calendar times: UTC" in (report / "summary.md").read_text()
+    # The recommended set-up's build sheet, and the terminal output's last line points to the command.
+    sheet = json.loads((report / "build_sheet.json").read_text())
+    recommended = json.loads((report / "compare.json").read_text())["recommended"]
+    assert sheet["candidate"] == recommended and sheet["build_data"] is True
+    assert sheet["phasing_line"]["cut_cm"] > 0 and sheet["cut_tolerances"]
+    markdown = (report / "build_sheet.md").read_text()
+    assert markdown.startswith(f"# Build sheet: {recommended}") and "Cut tolerances" in markdown
+    assert result.stdout.strip().splitlines()[-1].startswith(f"What to cut and assemble for {recommended}: planner sheet ")
 
 
 def test_compare_needs_candidates(tmp_path):

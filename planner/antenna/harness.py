@@ -68,7 +68,17 @@ __all__ = [
     "axial_ratio_db_from_circular",
     "harness_report",
     "HARNESS_UNITS",
+    "EQUAL_CURRENTS_NOTE",
+    "current_ratio_from_header",
+    "axial_ratio_db_from_current_ratio",
+    "ratio_cut_effects",
 ]
+
+EQUAL_CURRENTS_NOTE = (
+    "the axial ratio and polarization loss here assume equal element currents (|I_b / I_a| = 1) and two "
+    "orthogonal elements with equal patterns; only the phase error comes from the line"
+)
+"""Said with every ``planner harness`` report that starts from the ideal ratio 1 at -90 deg."""
 
 
 def _finite(name: str, value: Any) -> float:
@@ -285,3 +295,62 @@ def harness_report(
             report["zenith_axial_ratio_db"] = float(axial_ratio_db_from_circular(math.sqrt(g_r), math.sqrt(g_l)))
             report["zenith_polarization_loss_db"] = float(_loss_against_rhcp_db(math.sqrt(g_r), math.sqrt(g_l)))
     return report
+
+
+def current_ratio_from_header(header, source: str = "pattern table") -> tuple[float, float] | None:
+    """(|I_b / I_a|, phase deg) from a table's ``current_ratio_b_over_a = 1.0773 at -91.49 deg (...)``
+    header line, or None when the table has none (one-port and closed-form tables)."""
+    text = header.get("current_ratio_b_over_a")
+    if text is None:
+        return None
+    magnitude, sep, rest = text.partition(" at ")
+    try:
+        values = (float(magnitude), float(rest.split()[0]))
+    except (IndexError, ValueError):
+        values = (math.nan, math.nan)
+    if not sep or not all(math.isfinite(v) for v in values) or values[0] < 0:
+        raise UserError(
+            f"{source}: header line current_ratio_b_over_a = {text!r} is not '<magnitude> at <phase> deg' (e.g. 1.0773 at -91.49 deg)"
+        )
+    return values
+
+
+def axial_ratio_db_from_current_ratio(ratio_magnitude, ratio_phase_deg):
+    """Axial ratio (dB) of ``x + rho exp(j phi) y``: element b's field over a's is the current ratio
+    (orthogonal elements with equal patterns); the same as :func:`axial_ratio_db_from_phase_error`
+    with ``d = -90 - phi``."""
+    return axial_ratio_db_from_phase_error(-90.0 - np.asarray(ratio_phase_deg, dtype=float), ratio_magnitude)
+
+
+def ratio_cut_effects(
+    ratio_magnitude: float, ratio_phase_deg: float, frequency_hz: float, velocity_factor: float, errors_m
+) -> list[dict[str, float]]:
+    """What a phasing line cut ``errors_m`` long (+) or short (-) does, starting from the current
+    ratio ``ratio_magnitude`` at ``ratio_phase_deg`` instead of the ideal 1 at -90 deg.
+
+    A longer line delays element b by ``360 dl / lambda_g`` more (the ratio's phase falls by that);
+    the amplitude ratio is kept (a line whose impedance matches the element's changes only the
+    phase, module docstring). Rows: ``length_error_m``, ``current_ratio_magnitude``,
+    ``current_ratio_phase_deg``, ``phase_error_deg`` (from quadrature), ``axial_ratio_db``,
+    ``polarization_loss_db`` (against RHCP).
+    """
+    rho = _finite("current ratio magnitude", ratio_magnitude)
+    if rho < 0:
+        raise UserError(f"current ratio magnitude: must be >= 0, got {ratio_magnitude!r}")
+    phase0 = _finite("current ratio phase", ratio_phase_deg)
+    rows = []
+    for error in np.atleast_1d(np.asarray(errors_m, dtype=float)):
+        phase = phase0 - float(phase_error_deg(float(error), frequency_hz, velocity_factor))
+        phase = (phase + 180.0) % 360.0 - 180.0
+        d = (-90.0 - phase + 180.0) % 360.0 - 180.0
+        rows.append(
+            {
+                "length_error_m": float(error),
+                "current_ratio_magnitude": rho,
+                "current_ratio_phase_deg": phase,
+                "phase_error_deg": d,
+                "axial_ratio_db": float(axial_ratio_db_from_phase_error(d, rho)),
+                "polarization_loss_db": float(polarization_loss_db_from_phase_error(d, rho)),
+            }
+        )
+    return rows

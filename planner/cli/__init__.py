@@ -13,7 +13,7 @@ import warnings
 
 # Importing a command module registers its commands, in the order `planner --help` lists them.
 # isort: off
-from planner.cli import passes, budget, forecast, sweep, pattern, harness  # noqa: F401
+from planner.cli import passes, budget, forecast, sweep, pattern, harness, sheet  # noqa: F401
 
 # isort: on
 from planner.cli.app import app
@@ -38,9 +38,22 @@ def _warning_printer():
     return show
 
 
+def _only_planner_warnings() -> None:
+    """Show the program's own warnings and nothing from the libraries underneath.
+
+    A library's warning (a deprecation, a figure-layout note) is about our code, not about the
+    user's input, and the user can do nothing about it; the test suite turns such warnings into
+    errors instead (``filterwarnings`` in pyproject.toml). A developer who asks for them with
+    ``python -W`` or ``PYTHONWARNINGS`` still gets them.
+    """
+    if not sys.warnoptions:
+        warnings.simplefilter("ignore")
+    warnings.simplefilter("always", PlannerWarning)
+
+
 def main() -> None:
     """Entry point: user errors -> one line and exit code 2; bugs -> exit code 1."""
-    warnings.simplefilter("always", PlannerWarning)
+    _only_planner_warnings()
     warnings.showwarning = _warning_printer()
     try:
         # Not standalone, so typer's own usage errors come here and are reported in one line too.

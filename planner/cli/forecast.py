@@ -245,7 +245,12 @@ def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, r
         console.print(f"Modelling note: {note}.", soft_wrap=False, markup=False)
     _print_dropped(console, decision)
     if report is not None:
-        console.print(f"Report written to {report}/ (summary.md, tables, figures/, calendar.ics).")
+        console.print(f"Report written to {report}/ (summary.md, build_sheet.md, tables, figures/, calendar.ics).")
+    console.print(
+        f"What to cut and assemble for {decision.recommended}: planner sheet {study.scenario.source_path or 'SCENARIO'}",
+        soft_wrap=True,
+        markup=False,
+    )
     return decision
 
 

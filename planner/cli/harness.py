@@ -41,7 +41,7 @@ def harness(
     ),
 ) -> None:
     """Phasing-harness arithmetic: quarter-wave length, implied velocity factor, and what a cutting error costs."""
-    from planner.antenna.harness import HARNESS_UNITS, harness_report
+    from planner.antenna.harness import EQUAL_CURRENTS_NOTE, HARNESS_UNITS, harness_report
     from planner.output.export import to_json
 
     if format not in ("table", "json"):
@@ -71,7 +71,7 @@ def harness(
     )
     if format == "json":
         clean = {k: ({"re": v.real, "im": v.imag} if isinstance(v, complex) else v) for k, v in report.items()}
-        sys.stdout.write(to_json(clean))
+        sys.stdout.write(to_json({**clean, "notes": [EQUAL_CURRENTS_NOTE]}))
         return
     table = Table(title=f"Phasing harness at {frequency_mhz:g} MHz", title_justify="left")
     for heading, justify in (("quantity", "left"), ("value", "right"), ("unit", "left")):
@@ -84,12 +84,15 @@ def harness(
         else:
             text = str(value)
         table.add_row(key, text, HARNESS_UNITS.get(key, ""))
-    common.stdout().print(table)
+    console = common.stdout()
+    console.print(table)
+    console.print(f"Note: {EQUAL_CURRENTS_NOTE}.", soft_wrap=True, markup=False)
 
 
 def _harness_sensitivity(pattern: Path, cut_error_mm: float, format: str) -> None:
     """``planner harness --pattern FILE``: the table's harness rebuilt and cut wrong."""
     from planner.antenna import load_pattern
+    from planner.antenna.harness import ratio_cut_effects
     from planner.antenna.synth.design import cut_sensitivity
     from planner.antenna.synth.tables import harness_from_header
     from planner.output.export import to_json
@@ -101,6 +104,8 @@ def _harness_sensitivity(pattern: Path, cut_error_mm: float, format: str) -> Non
     error_m = cut_error_mm / 1000.0
     rows = cut_sensitivity(design, (-error_m, 0.0, error_m))
     sense = design.sense.upper()
+    start, start_text = _starting_ratio(table.header, str(pattern), design.sense)
+    ratio_rows = ratio_cut_effects(*start, design.frequency_hz, design.phasing.cable.velocity_factor, (-error_m, 0.0, error_m))
     if format == "json":
         sys.stdout.write(
             to_json(
@@ -111,6 +116,8 @@ def _harness_sensitivity(pattern: Path, cut_error_mm: float, format: str) -> Non
                     "phasing_line": design.phasing.describe(),
                     "matching_section": design.match.describe(),
                     "rows": rows,
+                    "current_ratio": {"magnitude": start[0], "phase_deg": start[1], "source": start_text},
+                    "current_ratio_rows": ratio_rows,
                 }
             )
         )
@@ -138,5 +145,37 @@ def _harness_sensitivity(pattern: Path, cut_error_mm: float, format: str) -> Non
             f"{r['gain_change_db']:+.3f}",
             f"{r['mismatch_change_db']:+.3f}",
             f"{r['margin_change_db']:+.3f}",
+        )
+    console.print(out)
+    _print_ratio_rows(console, ratio_rows, start_text)
+
+
+def _starting_ratio(header, source: str, sense: str) -> tuple[tuple[float, float], str]:
+    """The current ratio the ratio arithmetic starts from: the table's, or the ideal when it has none."""
+    from planner.antenna.harness import current_ratio_from_header
+
+    ratio = current_ratio_from_header(header, source)
+    if ratio is not None:
+        return ratio, f"the table's current ratio {ratio[0]:.4f} at {ratio[1]:.2f} deg (current_ratio_b_over_a)"
+    ideal = -90.0 if sense == "rhcp" else 90.0
+    return (1.0, ideal), f"the ideal 1 at {ideal:g} deg (the table has no current_ratio_b_over_a line)"
+
+
+def _print_ratio_rows(console, rows: list[dict], start_text: str) -> None:
+    """The phasing-line rows computed from the current ratio alone (orthogonal elements, equal patterns)."""
+    out = Table(
+        title=f"Phasing-line cut errors from {start_text}; orthogonal elements with equal patterns",
+        title_justify="left",
+    )
+    for heading in ("error", "|I_b/I_a|", "phase deg", "phase error deg", "axial ratio dB", "loss vs RHCP dB"):
+        out.add_column(heading, justify="right")
+    for r in rows:
+        out.add_row(
+            f"{r['length_error_m'] * 1e3:+g} mm",
+            f"{r['current_ratio_magnitude']:.4f}",
+            f"{r['current_ratio_phase_deg']:.2f}",
+            f"{r['phase_error_deg']:+.2f}",
+            f"{r['axial_ratio_db']:.2f}",
+            f"{r['polarization_loss_db']:.3f}",
         )
     console.print(out)

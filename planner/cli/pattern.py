@@ -106,6 +106,7 @@ def pattern_show(
 ) -> None:
     """Elevation cut, axial ratio against elevation, and the feed data a pattern table carries."""
     from planner.antenna import load_pattern
+    from planner.antenna.harness import current_ratio_from_header
     from planner.output import plots
 
     if not 0.5 <= step_deg <= 90:
@@ -119,6 +120,9 @@ def pattern_show(
     for key in ("model", "parameters", "feed_impedance_ohm", "feed_vswr", "radiation_efficiency", "generated_by"):
         if key in table.header:
             console.print(f"{key}: {table.header[key]}", soft_wrap=True)
+    ratio = current_ratio_from_header(table.header, str(file))
+    if ratio is not None:
+        console.print(f"current ratio I_b / I_a: amplitude {ratio[0]:.4f}, phase {ratio[1]:.2f} deg (ideal RHCP: 1 at -90 deg)")
     console.print(f"frequency: {table.frequency_hz / 1e6:g} MHz; {'azimuth-symmetric' if table.symmetric else 'with azimuth'}")
     elevation = np.arange(-90.0, 90.0 + 1e-9, step_deg)
     azimuth = np.full_like(elevation, azimuth_deg % 360.0)

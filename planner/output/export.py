@@ -283,6 +283,8 @@ REPORT_FILES = (
     "compare.json",
     "calendar.ics",
     "summary.md",
+    "build_sheet.md",
+    "build_sheet.json",
 )
 
 
@@ -347,6 +349,7 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
     )
     figures = write_figures(folder / "figures", study, forecast, recommendation, rules=rules)
     written += figures
+    written += _write_build_sheet(folder, study, recommendation, rules)
     ranking = [
         {
             "candidate": s.candidate,
@@ -383,6 +386,7 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
         f"- local hours (`hours.csv`, `local_hour` in `passes.csv`) and calendar times: {_hours_zone(study)}",
         f"- `dropped.csv`: the usable passes of {recommendation.recommended} left out for a conflict, "
         "each with the kept pass it overlaps",
+        f"- `build_sheet.md`, `build_sheet.json`: what to cut and assemble for {recommendation.recommended}",
         "- `figures/`: " + ", ".join(sorted({Path(p).stem for p in figures})) + " (PNG and SVG)",
         "",
         *(["## Modelling notes", "", *[f"- {n}." for n in recommendation.model_notes], ""] if recommendation.model_notes else []),
@@ -393,6 +397,23 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
     ]
     written.append(write_atomically(folder / "summary.md", "\n".join(summary), rules=rules))
     return written
+
+
+def _write_build_sheet(folder, study, recommendation, rules) -> list:
+    """The recommended set-up's build sheet as Markdown and JSON (``planner.antenna.buildsheet``)."""
+    from planner.antenna.buildsheet import render_markdown, study_sheet
+    from planner.fileio import write_atomically
+
+    sheet = study_sheet(
+        study,
+        recommendation.recommended,
+        selection=f"Candidate {recommendation.recommended}: recommended by this comparison.",
+        strict=False,
+    )
+    return [
+        write_atomically(folder / "build_sheet.md", render_markdown(sheet), rules=rules),
+        write_atomically(folder / "build_sheet.json", to_json(sheet.to_dict()), rules=rules),
+    ]
 
 
 def _records(frame) -> list[dict]:

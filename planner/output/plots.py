@@ -791,5 +791,4 @@ def sweep_chart(
         fontsize=8,
     )
     ax.grid(True, alpha=0.3)
-    fig.tight_layout()
     return fig
