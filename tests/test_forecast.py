@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import itertools
 import warnings
-from datetime import timedelta
+from datetime import UTC, timedelta
 from math import log10
 
 import numpy as np
@@ -255,11 +255,11 @@ def test_progress_is_reported_per_candidate_and_satellite(study):
 
 
 def test_pass_table_local_hour_and_band(day, study):
-    # Local mean solar time = UT + east longitude / 15 h (Explanatory Supplement to the
-    # Astronomical Almanac, local mean time); recomputed here with datetime arithmetic.
-    longitude = study.scenario.station.longitude_deg
+    # The demo station names no time_zone, so local hours are UTC hours at TCA (the default;
+    # other zones and mean solar time: tests/test_timezone.py).
+    assert study.station.time_zone == "UTC"
     for row in day.passes.itertuples():
-        assert row.local_hour == (row.tca_utc + timedelta(hours=longitude / 15.0)).hour
+        assert row.local_hour == row.tca_utc.astimezone(UTC).hour
         low, high = ELEVATION_BANDS_DEG[ELEVATION_BAND_LABELS.index(row.elevation_band)]
         assert low <= row.max_elevation_deg < high or (high == 90 and row.max_elevation_deg <= 90)
         assert row.aos_s == pytest.approx((row.aos_utc - study.start_utc).total_seconds(), abs=1e-6)

@@ -121,6 +121,7 @@ def _print_week(study, result) -> None:
     for name, values in pivot.iterrows():
         band_view.add_row(str(name), *[f"{v:.1f}" for v in values])
     console.print(band_view)
+    _print_hours(console, study, result)
     console.print(usable_rule_text(study.scenario.criteria, study.satellites), soft_wrap=False, markup=False)
     console.print(
         "Dropouts: below-threshold gaps between the usable windows of a usable pass (a pattern null or a fade mid-pass).",
@@ -130,6 +131,25 @@ def _print_week(study, result) -> None:
     voice = voice_text(voice_satellites(study.satellites), study.scenario.criteria.objective)
     if voice:
         console.print(voice, soft_wrap=False, markup=False)
+
+
+def _print_hours(console, study, result) -> None:
+    """Usable minutes per local hour of TCA on the station's clock; hours without passes left out."""
+    from planner.decision.forecast import hour_table
+    from planner.timezones import zone_label
+
+    label = zone_label(study.station.time_zone, study.station.longitude_deg)
+    hours = hour_table(result.outcomes, label)
+    pivot = hours.pivot_table(index="local_hour", columns="candidate", values="usable_minutes", aggfunc="sum", fill_value=0.0)
+    with_passes = hours.groupby("local_hour")["passes"].sum()
+    view = Table(title=f"usable minutes by local hour of TCA ({label})", title_justify="left")
+    view.add_column("hour", justify="right")
+    for name in pivot.columns:
+        view.add_column(str(name), justify="right", overflow="fold")  # long names wrap, never cut
+    for hour, values in pivot.iterrows():
+        if with_passes.get(hour, 0) > 0:
+            view.add_row(f"{int(hour):02d}", *[f"{v:.1f}" for v in values])
+    console.print(view)
 
 
 @app.command()

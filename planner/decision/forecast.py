@@ -27,16 +27,17 @@ The pipeline, all of it vectorized over samples (loops run per pass or per candi
    compatible predecessor, dynamic programme; Kleinberg & Tardos, *Algorithm Design*, 6.1).
    :func:`dropped_for_conflicts` lists the passes it leaves out and the kept pass each overlaps.
 
-Local hour is *mean solar time* at the station's longitude (UTC hour + longitude / 15, modulo
-24) at the pass's TCA, as an integer 0..23: the sun's hour angle without the equation of time
-(within about 16 minutes of apparent solar time), and independent of civil time zones.
+Local hour is the hour (0..23) at the pass's TCA on the station's clock, its ``time_zone``
+(:mod:`planner.timezones`): the civil hour of an IANA zone, daylight saving included (UTC by
+default), or, for ``local-mean-solar``, mean solar time at the station's longitude (UTC hour +
+longitude / 15, modulo 24).
 """
 
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
-from datetime import UTC, datetime, timedelta
+from datetime import datetime, timedelta
 
 import numpy as np
 import pandas as pd
@@ -44,6 +45,7 @@ import pandas as pd
 from planner.link.budget import candidate_antenna_noise, downlink_setup, evaluate
 from planner.passes import Pass, joined_time_s
 from planner.scenario import CriteriaConfig
+from planner.timezones import DEFAULT_TIME_ZONE, LOCAL_MEAN_SOLAR, local_hours
 
 ELEVATION_BANDS_DEG = ((0, 10), (10, 30), (30, 60), (60, 90))
 ELEVATION_BAND_LABELS = tuple(f"{low}-{high}" for low, high in ELEVATION_BANDS_DEG)
@@ -172,20 +174,19 @@ def elevation_band(max_elevation_deg) -> np.ndarray:
 
 def local_mean_solar_hour(time_utc: datetime, longitude_deg: float) -> int:
     """Hour (0..23) of local mean solar time: UTC hour + longitude / 15, modulo 24."""
-    utc = time_utc.astimezone(UTC)
-    hours = utc.hour + utc.minute / 60.0 + (utc.second + utc.microsecond * 1e-6) / 3600.0
-    return int(np.floor(np.mod(hours + longitude_deg / 15.0, 24.0))) % 24
+    return int(local_hours([time_utc], LOCAL_MEAN_SOLAR, longitude_deg)[0])
 
 
 def pass_table(study, numbered: list | None = None) -> pd.DataFrame:
     """One row per (satellite, pass_number), satellites in scenario order, passes in AOS order.
 
     ``aos_utc``/``tca_utc``/``los_utc`` are timezone-aware python datetimes (UTC);
-    ``aos_s``/``los_s`` are seconds from ``study.start_utc``; ``local_hour`` is the hour of
-    local mean solar time (UTC + longitude / 15) at TCA, 0..23; ``elevation_band`` labels the
-    culmination elevation with :data:`ELEVATION_BANDS_DEG`.
+    ``aos_s``/``los_s`` are seconds from ``study.start_utc``; ``local_hour`` is the hour at TCA,
+    0..23, on the station's clock (``study.station.time_zone``, see :mod:`planner.timezones`);
+    ``elevation_band`` labels the culmination elevation with :data:`ELEVATION_BANDS_DEG`.
     """
     longitude_deg = float(study.station.longitude_deg)
+    time_zone = study.station.time_zone
     order = {s.name: i for i, s in enumerate(study.satellites)}
     numbered = sorted(
         numbered_passes(study) if numbered is None else numbered,
@@ -205,7 +206,7 @@ def pass_table(study, numbered: list | None = None) -> pd.DataFrame:
         "max_elevation_deg": np.array([p.max_elevation_deg for _, p in numbered], dtype=float),
     }
     rows["elevation_band"] = elevation_band(rows["max_elevation_deg"])
-    rows["local_hour"] = np.array([local_mean_solar_hour(p.tca_utc, longitude_deg) for _, p in numbered], dtype=np.int64)
+    rows["local_hour"] = local_hours([p.tca_utc for _, p in numbered], time_zone, longitude_deg)
     rows["aos_clipped"] = np.array([p.aos_clipped for _, p in numbered], dtype=bool)
     rows["los_clipped"] = np.array([p.los_clipped for _, p in numbered], dtype=bool)
     return pd.DataFrame({column: pd.Series(rows[column]).reset_index(drop=True) for column in PASS_COLUMNS})
@@ -586,12 +587,18 @@ def band_table(outcomes: pd.DataFrame) -> pd.DataFrame:
     return totals.loc[:, by + list(TOTAL_COLUMNS)]
 
 
-def hour_table(outcomes: pd.DataFrame) -> pd.DataFrame:
-    """Per (candidate, local_hour 0..23, mean solar time at TCA), every hour listed: as :func:`band_table`."""
+def hour_table(outcomes: pd.DataFrame, time_zone: str = DEFAULT_TIME_ZONE) -> pd.DataFrame:
+    """Per (candidate, local_hour 0..23 at TCA), every hour listed: as :func:`band_table`.
+
+    ``time_zone`` names the clock the outcomes' ``local_hour`` was computed on (the station's,
+    :func:`planner.timezones.zone_label`); it fills a last ``time_zone`` column so a table on
+    its own says which hours it counts.
+    """
     by = ["candidate", "local_hour"]
     totals = _full_grid(_totals(outcomes, by), by, [list(pd.unique(outcomes["candidate"])), list(HOURS)])
     totals["local_hour"] = totals["local_hour"].astype(np.int64)
-    return totals.loc[:, by + list(TOTAL_COLUMNS)]
+    totals["time_zone"] = time_zone
+    return totals.loc[:, by + list(TOTAL_COLUMNS) + ["time_zone"]]
 
 
 # ---------------------------------------------------------------------------- schedule
