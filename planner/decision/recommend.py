@@ -182,7 +182,7 @@ def score_candidates(
 def feed_data_notes(candidates) -> list[str]:
     """One sentence naming the candidates (planner.study.Candidate) charged no feed mismatch for lack
     of feed data (or none)."""
-    unmatched = [c.name for c in candidates if c.feed_vswr_source is None]
+    unmatched = [c.name for c in candidates if any(b.feed_vswr_source is None for b in c.band_list)]
     if not unmatched:
         return []
     one = len(unmatched) == 1
