@@ -60,6 +60,7 @@ class Recommendation:
     schedules: dict = field(default_factory=dict)  # candidate -> ScheduleResult
     notes: list[str] = field(default_factory=list)  # e.g. candidates charged no feed mismatch
     model_notes: list[str] = field(default_factory=list)  # models used beyond their stated range
+    pattern_tables: list[dict] = field(default_factory=list)  # {candidate, satellite, pattern_table}
 
     def to_contract(self) -> dict:
         """The `planner compare --format json` document (its contract keys plus a few extra)."""
@@ -85,6 +86,7 @@ class Recommendation:
             "notes": list(self.notes),
             "model_notes": list(self.model_notes),
             "dropped_for_conflicts": self.dropped_rows(),
+            "pattern_tables": list(self.pattern_tables),
         }
 
     def dropped_rows(self) -> list[dict]:
@@ -227,7 +229,15 @@ def recommend(forecast: Forecast, satellites, candidates) -> Recommendation:
         schedules=schedules,
         notes=notes,
         model_notes=list(forecast.model_notes),
+        pattern_tables=_pattern_tables(forecast.weekly),
     )
+
+
+def _pattern_tables(weekly: pd.DataFrame) -> list[dict]:
+    """The table each candidate uses for each satellite (a candidate of several bands has one per band)."""
+    if "pattern_table" not in weekly:
+        return []
+    return weekly.loc[:, ["candidate", "satellite", "pattern_table"]].to_dict("records")
 
 
 def _band_minutes(outcomes: pd.DataFrame) -> pd.DataFrame:

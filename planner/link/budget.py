@@ -188,7 +188,8 @@ def _threshold_terms(sat, required, theory, required_cn0) -> dict:
     )
 
 
-def _pattern_name(pattern) -> str:
+def pattern_file_name(pattern) -> str:
+    """The table's file name, as the screens name it."""
     path = getattr(pattern, "path", None)
     return path.name if path else "(built in memory)"
 
@@ -200,7 +201,7 @@ def check_pattern_frequency(candidate, sat, frequency_hz: float, source: str = "
     if offset <= PATTERN_FREQUENCY_WARNING:
         return
     said = (
-        f"candidate {candidate.name}: pattern table {_pattern_name(pattern)} was computed at "
+        f"candidate {candidate.name}: pattern table {pattern_file_name(pattern)} was computed at "
         f"{pattern.frequency_hz / 1e6:g} MHz, but {sat.name} transmits on {frequency_hz / 1e6:g} MHz "
         f"({100.0 * offset:.1f} % away)"
     )
@@ -238,7 +239,7 @@ def band_for(candidate, sat, frequency_hz: float, source: str = "scenario"):
     band = nearest_band(candidate, frequency_hz)
     bands = getattr(candidate, "band_list", (candidate,))
     if len(bands) > 1 and _frequency_offset(band.pattern, frequency_hz) > PATTERN_FREQUENCY_LIMIT:
-        have = ", ".join(f"{_pattern_name(b.pattern)} at {b.pattern.frequency_hz / 1e6:g} MHz" for b in bands)
+        have = ", ".join(f"{pattern_file_name(b.pattern)} at {b.pattern.frequency_hz / 1e6:g} MHz" for b in bands)
         raise UserError(
             f"{source}: candidate {candidate.name} has no band for {sat.name} on {frequency_hz / 1e6:g} MHz; "
             f"allowed: a satellite within {100 * PATTERN_FREQUENCY_LIMIT:g} % of one of its bands ({have}); "
@@ -253,7 +254,7 @@ def no_feed_data_note(candidate) -> str | None:
     if candidate.feed_vswr_source is not None:
         return None
     return (
-        f"no feed mismatch charged for {candidate.name}: its pattern table {_pattern_name(candidate.pattern)} "
+        f"no feed mismatch charged for {candidate.name}: its pattern table {pattern_file_name(candidate.pattern)} "
         "has no feed_vswr in its header and the scenario gives none, so the feed is taken as matched "
         "(give feed_vswr in the [[candidate]] table to charge one)"
     )
