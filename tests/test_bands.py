@@ -74,6 +74,15 @@ def test_single_table_form_is_one_band():
     assert candidate.band_list == (candidate,)
 
 
+def test_a_two_band_scenario_survives_a_dump_and_reload():
+    # pydantic's model_dump writes every key (None for pattern in the band form); reading the dump
+    # back must give the same bands (pydantic documentation, "Serialization").
+    scenario = load_scenario(TWO_BAND)
+    rebuilt = type(scenario).model_validate(scenario.model_dump())
+    assert [band.pattern for band in rebuilt.candidate[0].bands] == [band.pattern for band in scenario.candidate[0].bands]
+    assert rebuilt.candidate[0].pattern is None
+
+
 def test_a_frequency_no_band_covers_is_one_line_naming_everything(tmp_path):
     # 300 MHz lies more than 20 % from both 145.9 MHz (175.08 MHz top) and 436 MHz (348.8 MHz
     # bottom): arithmetic on the limit the project applies (PATTERN_FREQUENCY_LIMIT).

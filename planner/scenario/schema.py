@@ -351,8 +351,9 @@ class CandidateConfig(BaseModel):
 
     @field_validator("pattern", mode="plain")
     @classmethod
-    def _pattern(cls, value: Any, info: ValidationInfo) -> Path:
-        return _resolve_file(value, info, _ALLOWED_PATTERN)
+    def _pattern(cls, value: Any, info: ValidationInfo) -> Path | None:
+        # None: the band form (a dumped scenario carries the key); _one_form checks the forms.
+        return None if value is None else _resolve_file(value, info, _ALLOWED_PATTERN)
 
     @model_validator(mode="before")
     @classmethod
