@@ -61,6 +61,14 @@ class Candidate:
     pre_lna_feedline: tuple = ()  # ((Cable, length_m), ...) between antenna and LNA
     pre_lna_connectors: int = 0
     pre_lna_loss_db: float = 0.0  # switch, bias-tee (dB)
+    # A set-up with one antenna per band: one single-band Candidate (same name) per band, and the
+    # fields above are the first band's. Empty for a one-antenna set-up.
+    bands: tuple[Candidate, ...] = ()
+
+    @property
+    def band_list(self) -> tuple[Candidate, ...]:
+        """The single-band set-ups this candidate is made of (itself when it has one antenna)."""
+        return self.bands or (self,)
 
     @property
     def feed_vswr(self) -> float | None:
@@ -274,23 +282,33 @@ def _runs(scenario: Scenario, user_cables: dict, runs: list[FeedlineRun], key: s
 
 
 def _candidate(scenario: Scenario, config: CandidateConfig, position: int, cables: dict) -> Candidate:
-    """A candidate with its pattern table read and its cables resolved."""
+    """A candidate with every band's pattern table read and its cables resolved."""
     from planner.antenna import load_pattern
 
     receiver = scenario.receiver
     where = f"candidate #{position} ({config.name})"
-    return Candidate(
-        name=config.name,
-        pattern=load_pattern(config.pattern),
-        feedline=_runs(scenario, cables, config.feedline, f"{where}.feedline"),
-        connectors=config.connectors,
-        connector_loss_db=config.connector_loss_db,
-        lna_position=config.lna_position,
-        feed_vswr_override=config.feed_vswr,
-        pre_lna_feedline=_runs(scenario, cables, config.pre_lna_feedline, f"{where}.pre_lna_feedline"),
-        pre_lna_connectors=config.pre_lna_connectors if config.pre_lna_connectors is not None else receiver.pre_lna_connectors,
-        pre_lna_loss_db=config.pre_lna_loss_db if config.pre_lna_loss_db is not None else receiver.pre_lna_loss_db,
-    )
+    bands = []
+    for number, band in enumerate(config.bands, start=1):
+        at = where if not config.band else f"{where}.band #{number}"
+        bands.append(
+            Candidate(
+                name=config.name,
+                pattern=load_pattern(band.pattern),
+                feedline=_runs(scenario, cables, band.feedline, f"{at}.feedline"),
+                connectors=band.connectors,
+                connector_loss_db=config.connector_loss_db,
+                lna_position=band.lna_position or config.lna_position,
+                feed_vswr_override=band.feed_vswr,
+                pre_lna_feedline=_runs(scenario, cables, config.pre_lna_feedline, f"{where}.pre_lna_feedline"),
+                pre_lna_connectors=config.pre_lna_connectors
+                if config.pre_lna_connectors is not None
+                else receiver.pre_lna_connectors,
+                pre_lna_loss_db=config.pre_lna_loss_db if config.pre_lna_loss_db is not None else receiver.pre_lna_loss_db,
+            )
+        )
+    if len(bands) == 1:
+        return bands[0]
+    return replace(bands[0], bands=tuple(bands))
 
 
 def _catalog_targets(scenario: Scenario, taken_ids: set[int]) -> tuple[list[Target], list[SatelliteConfig]]:

@@ -774,6 +774,18 @@ def render_markdown(sheet: BuildSheet) -> str:
     return "\n".join(body) + "\n"
 
 
+def _other_bands_line(candidate) -> str:
+    """For a candidate of several bands: the sheet is the first band's; say so and name the others."""
+    bands = getattr(candidate, "band_list", (candidate,))
+    if len(bands) < 2:
+        return ""
+    others = ", ".join(str(getattr(b.pattern, "path", None) or "(built in memory)") for b in bands[1:])
+    return (
+        f"This sheet is for the first of its {len(bands)} bands; the others ({others}) need their own "
+        "sheet: make a one-table candidate of each."
+    )
+
+
 def study_sheet(study, candidate_name: str, *, selection: str = "", tolerances: bool = True, strict: bool = True) -> BuildSheet:
     """The sheet of a study's candidate, at its station's horizon mask and receiver.
 
@@ -781,6 +793,7 @@ def study_sheet(study, candidate_name: str, *, selection: str = "", tolerances: 
     cannot be rebuilt into a warning and a sheet with the feedline facts only, instead of an error.
     """
     candidate = study.candidate(candidate_name)
+    selection = " ".join(filter(None, [selection, _other_bands_line(candidate)]))
     try:
         return build_sheet(
             candidate,

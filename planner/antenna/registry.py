@@ -83,6 +83,7 @@ def rebuild_pattern(builder: str, parameters: dict[str, str], source: str = "pat
 # The demo station's candidates as a careful builder would make them (planner.antenna.synth): elements
 # trimmed to resonance, a designed phasing line and matching section, a four-rod reflector and a
 # 4 m mast over the medium dry ground of the demo site. One table keeps a common mistake.
+VHF_FREQUENCY_HZ = 145.9e6  # the VHF table of the two-band example (scenarios/two-band.toml)
 _DEMO_MAST = {"frequency_hz": DEMO_FREQUENCY_HZ, "ground": "medium-dry-ground", "mast_height_m": 4.0}
 _BUILT = {**_DEMO_MAST, "trim": "resonance", "feed": "harness"}
 _TALL = {"width_to_height": 0.5, "exponent": 6.0}
@@ -115,6 +116,11 @@ SHIPPED_PATTERNS: dict[str, tuple[Callable[..., PatternTable], dict[str, Any]]] 
         {**_DEMO_MAST, **_TALL, "reflector": "rods", "spacing_wavelengths": 0.6, "feed": "line", "velocity_factor": 0.66},
     ),
     "isotropic-rhcp.csv": (isotropic_rhcp, {"frequency_hz": DEMO_FREQUENCY_HZ}),
+    # The VHF antenna of the two-band example: the close turnstile built for 145.9 MHz.
+    "turnstile-vhf-close.csv": (
+        lambda **kw: _wire_table("turnstile", **kw),
+        {**_BUILT, "frequency_hz": VHF_FREQUENCY_HZ, "reflector": "rods", "spacing_wavelengths": 0.25},
+    ),
 }
 """File name -> (builder, keyword arguments) of every table shipped in patterns/."""
 

@@ -72,7 +72,7 @@ def budget(
     force: bool = common.FORCE,
 ) -> None:
     """Print the link budget as a ladder of terms, each one recomputable by hand."""
-    from planner.link.budget import LADDER, evaluate, ladder_values, pass_budget, pass_summary
+    from planner.link.budget import LADDER, evaluate, ladder_values, pass_budget, pass_summary, pattern_file_name
     from planner.link.geometry import budget_geometry
     from planner.output.export import to_json
 
@@ -104,6 +104,7 @@ def budget(
             "satellite": sat_name,
             "direction": direction,
             "candidate": setup.candidate,
+            "pattern_table": None if setup.pattern is None else pattern_file_name(setup.pattern),
             "geometry": label,
             **values,
             "noise": setup.noise_terms,
@@ -137,6 +138,12 @@ def budget(
     console.print(table)
     noise = ", ".join(f"{k} {v:.1f}" for k, v in setup.noise_terms.items())
     console.print(f"noise temperatures (K): {noise}")
+    if setup.pattern is not None:
+        console.print(
+            f"antenna: pattern table {pattern_file_name(setup.pattern)} ({setup.pattern.frequency_hz / 1e6:g} MHz)",
+            soft_wrap=True,
+            markup=False,
+        )
     for note in setup.notes:
         console.print(f"note: {note}", soft_wrap=True, markup=False)
     for note in setup.model_notes:

@@ -86,6 +86,20 @@ def week(
         common.emit(to_json(rows), output, rules)
 
 
+def _band_lines(study, weekly) -> list[str]:
+    """For each candidate of several bands, which table hears which satellite."""
+    import pandas as pd
+
+    lines = []
+    for name in pd.unique(weekly["candidate"]):
+        if len(study.candidate(name).band_list) < 2:
+            continue
+        mine = weekly[weekly["candidate"] == name]
+        heard = "; ".join(f"{s} on {t}" for s, t in zip(mine["satellite"], mine["pattern_table"], strict=True))
+        lines.append(f"{name} has {len(study.candidate(name).band_list)} bands: {heard}")
+    return lines
+
+
 def _print_week(study, result) -> None:
     from planner.decision.forecast import NO_RECEIVER_LIMIT_TEXT, band_table, usable_rule_text
     from planner.decision.recommend import voice_satellites, voice_text
@@ -112,6 +126,8 @@ def _print_week(study, result) -> None:
             str(record["dropouts"]),
         )
     console.print(table)
+    for line in _band_lines(study, result.weekly):
+        console.print(line, soft_wrap=True, markup=False)
     bands = band_table(result.outcomes)
     pivot = bands.pivot_table(index="candidate", columns="elevation_band", values="usable_minutes", aggfunc="sum", fill_value=0.0)
     band_view = Table(title="usable minutes by maximum elevation of the pass (deg)", title_justify="left")

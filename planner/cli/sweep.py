@@ -32,7 +32,7 @@ def sweep(
     """Weekly usable minutes and data volume against reflector spacing; names the best spacing."""
     from rich.progress import BarColumn, Progress, TextColumn
 
-    from planner.decision.sweep import parse_spacing_range, sweep_reflector
+    from planner.decision.sweep import parse_spacing_range, single_band, sweep_reflector
     from planner.output import plots
     from planner.output.export import to_csv, to_json
 
@@ -41,7 +41,7 @@ def sweep(
     rules = common.write_rules(force, scenario=study.scenario, inputs=(scenario,))
     common.check_outputs(rules, {"--output": output})
     figure_at = None if figure is None else common.figure_target("--figure", figure, rules)
-    base = study.candidate(candidate)
+    base = single_band(study, candidate)
     spacings = parse_spacing_range(reflector_spacing, base.pattern.frequency_hz)
     if quiet:
         result = sweep_reflector(study, candidate, spacings)

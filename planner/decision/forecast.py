@@ -42,7 +42,7 @@ from datetime import datetime, timedelta
 import numpy as np
 import pandas as pd
 
-from planner.link.budget import candidate_antenna_noise, downlink_setup, evaluate
+from planner.link.budget import candidate_antenna_noise, downlink_setup, evaluate, nearest_band, pattern_file_name
 from planner.passes import Pass, joined_time_s
 from planner.scenario import CriteriaConfig
 from planner.timezones import DEFAULT_TIME_ZONE, LOCAL_MEAN_SOLAR, local_hours
@@ -580,6 +580,18 @@ def weekly_table(
     return totals.loc[:, list(WEEKLY_COLUMNS)].reset_index(drop=True)
 
 
+def tables_used(study, weekly: pd.DataFrame) -> list[str]:
+    """The file name of the pattern table each (candidate, satellite) row of ``weekly`` uses.
+
+    A candidate of several bands hears each satellite on the band nearest its downlink
+    frequency (planner.link.budget.nearest_band), so the screens name that table.
+    """
+    return [
+        pattern_file_name(nearest_band(study.candidate(c), study.satellite_config(s).downlink_frequency_hz).pattern)
+        for c, s in zip(weekly["candidate"], weekly["satellite"], strict=True)
+    ]
+
+
 def band_table(outcomes: pd.DataFrame) -> pd.DataFrame:
     """Per (candidate, elevation_band), every band listed: passes, usable_passes, usable_minutes, data_volume_mbit."""
     by = ["candidate", "elevation_band"]
@@ -821,6 +833,7 @@ def forecast(
         samples = _empty_samples()
         outcomes = _summarized_in_batches(study, names, passes, progress, numbered, model_notes)
     weekly = weekly_table(outcomes, study.days, candidates=names, satellites=[s.name for s in study.satellites])
+    weekly["pattern_table"] = tables_used(study, weekly)
     return Forecast(
         samples=samples,
         passes=passes,

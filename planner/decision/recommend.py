@@ -76,6 +76,7 @@ class Recommendation:
     # dB the leader's budget alone can lose and stay first, at most _LEAD_CAP_DB (None: no lead to measure)
     lead_db: float | None = None
     checks: list[dict] = field(default_factory=list)  # the uncertain terms worth checking (uncertain_terms)
+    pattern_tables: list[dict] = field(default_factory=list)  # {candidate, satellite, pattern_table}
 
     def to_contract(self) -> dict:
         """The `planner compare --format json` document (its contract keys plus a few extra)."""
@@ -110,6 +111,7 @@ class Recommendation:
             "notes": list(self.notes),
             "model_notes": list(self.model_notes),
             "dropped_for_conflicts": self.dropped_rows(),
+            "pattern_tables": list(self.pattern_tables),
         }
 
     def dropped_rows(self) -> list[dict]:
@@ -213,7 +215,7 @@ def score_candidates(
 def feed_data_notes(candidates) -> list[str]:
     """One sentence naming the candidates (planner.study.Candidate) charged no feed mismatch for lack
     of feed data (or none)."""
-    unmatched = [c.name for c in candidates if c.feed_vswr_source is None]
+    unmatched = [c.name for c in candidates if any(b.feed_vswr_source is None for b in c.band_list)]
     if not unmatched:
         return []
     one = len(unmatched) == 1
@@ -271,7 +273,15 @@ def recommend(forecast: Forecast, satellites, candidates) -> Recommendation:
         usable_rule=usable_rule,
         lead_db=lead_db,
         checks=checks,
+        pattern_tables=_pattern_tables(forecast.weekly),
     )
+
+
+def _pattern_tables(weekly: pd.DataFrame) -> list[dict]:
+    """The table each candidate uses for each satellite (a candidate of several bands has one per band)."""
+    if "pattern_table" not in weekly:
+        return []
+    return weekly.loc[:, ["candidate", "satellite", "pattern_table"]].to_dict("records")
 
 
 # The lead in dB is found to this resolution, up to this many dB (a larger lead is "more than").

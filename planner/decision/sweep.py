@@ -127,9 +127,24 @@ class SweepResult:
         return text
 
 
+def single_band(study, candidate_name: str):
+    """The named candidate when it has one antenna; a candidate of several bands is refused.
+
+    The sweep moves one table's reflector; with several bands it could not say whose.
+    """
+    base = study.candidate(candidate_name)
+    if len(base.band_list) > 1:
+        raise UserError(
+            f"{study.source}: --candidate: {candidate_name} has {len(base.band_list)} bands, and the sweep "
+            "rebuilds one pattern table; allowed: a candidate with a single pattern (make one from the band "
+            "to sweep)"
+        )
+    return base
+
+
 def sweep_reflector(study, candidate_name: str, spacings_wavelengths, *, progress=None) -> SweepResult:
     """Score the candidate at each reflector spacing (everything else in the scenario as it is)."""
-    base = study.candidate(candidate_name)
+    base = single_band(study, candidate_name)
     _builder_and_parameters(base.pattern)  # refuse early when the pattern cannot be rebuilt
     objective = study.criteria.objective
     rows, per_satellite = [], []

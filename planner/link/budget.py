@@ -188,7 +188,8 @@ def _threshold_terms(sat, required, theory, required_cn0) -> dict:
     )
 
 
-def _pattern_name(pattern) -> str:
+def pattern_file_name(pattern) -> str:
+    """The table's file name, as the screens name it."""
     path = getattr(pattern, "path", None)
     return path.name if path else "(built in memory)"
 
@@ -196,11 +197,11 @@ def _pattern_name(pattern) -> str:
 def check_pattern_frequency(candidate, sat, frequency_hz: float, source: str = "scenario") -> None:
     """Warn beyond :data:`PATTERN_FREQUENCY_WARNING`, refuse beyond :data:`PATTERN_FREQUENCY_LIMIT` (see there)."""
     pattern = candidate.pattern
-    offset = abs(frequency_hz / pattern.frequency_hz - 1.0)
+    offset = _frequency_offset(pattern, frequency_hz)
     if offset <= PATTERN_FREQUENCY_WARNING:
         return
     said = (
-        f"candidate {candidate.name}: pattern table {_pattern_name(pattern)} was computed at "
+        f"candidate {candidate.name}: pattern table {pattern_file_name(pattern)} was computed at "
         f"{pattern.frequency_hz / 1e6:g} MHz, but {sat.name} transmits on {frequency_hz / 1e6:g} MHz "
         f"({100.0 * offset:.1f} % away)"
     )
@@ -214,12 +215,46 @@ def check_pattern_frequency(candidate, sat, frequency_hz: float, source: str = "
     warn(f"{said}; the gains and feed VSWR used are the table's, valid within a few per cent of its frequency")
 
 
+def _frequency_offset(pattern, frequency_hz: float) -> float:
+    """How far ``frequency_hz`` lies from the table's frequency, as a fraction of it."""
+    return abs(frequency_hz / pattern.frequency_hz - 1.0)
+
+
+def nearest_band(candidate, frequency_hz: float):
+    """The single-band set-up of ``candidate`` whose table was computed nearest ``frequency_hz``.
+
+    A one-antenna candidate is its own band; ties go to the band listed first.
+    """
+    bands = getattr(candidate, "band_list", (candidate,))
+    return min(bands, key=lambda band: _frequency_offset(band.pattern, frequency_hz))
+
+
+def band_for(candidate, sat, frequency_hz: float, source: str = "scenario"):
+    """The band of ``candidate`` that receives ``sat`` on ``frequency_hz``, checked as one table is.
+
+    The nearest table in frequency is taken (:func:`nearest_band`) and held to the one-table
+    rules of :func:`check_pattern_frequency`. When a candidate of several bands has none within
+    :data:`PATTERN_FREQUENCY_LIMIT`, the error names the candidate's bands instead of one table.
+    """
+    band = nearest_band(candidate, frequency_hz)
+    bands = getattr(candidate, "band_list", (candidate,))
+    if len(bands) > 1 and _frequency_offset(band.pattern, frequency_hz) > PATTERN_FREQUENCY_LIMIT:
+        have = ", ".join(f"{pattern_file_name(b.pattern)} at {b.pattern.frequency_hz / 1e6:g} MHz" for b in bands)
+        raise UserError(
+            f"{source}: candidate {candidate.name} has no band for {sat.name} on {frequency_hz / 1e6:g} MHz; "
+            f"allowed: a satellite within {100 * PATTERN_FREQUENCY_LIMIT:g} % of one of its bands ({have}); "
+            "add a [[candidate.band]] with a table built near that frequency"
+        )
+    check_pattern_frequency(band, sat, frequency_hz, source)
+    return band
+
+
 def no_feed_data_note(candidate) -> str | None:
     """The ladder's and the comparison's note when no mismatch is charged for lack of feed data."""
     if candidate.feed_vswr_source is not None:
         return None
     return (
-        f"no feed mismatch charged for {candidate.name}: its pattern table {_pattern_name(candidate.pattern)} "
+        f"no feed mismatch charged for {candidate.name}: its pattern table {pattern_file_name(candidate.pattern)} "
         "has no feed_vswr in its header and the scenario gives none, so the feed is taken as matched "
         "(give feed_vswr in the [[candidate]] table to charge one)"
     )
@@ -227,9 +262,10 @@ def no_feed_data_note(candidate) -> str | None:
 
 def candidate_antenna_noise(candidate, frequency_hz: float, receiver, station):
     """The candidate antenna's noise temperature at this station (sky, ground, man-made), integrated
-    over its pattern: the costly part of a downlink set-up, shared by every satellite on one frequency."""
+    over its pattern: the costly part of a downlink set-up, shared by every satellite on one frequency.
+    A candidate of several bands uses the band nearest ``frequency_hz`` (:func:`nearest_band`)."""
     return antenna_noise_temperature_k(
-        candidate.pattern,
+        nearest_band(candidate, frequency_hz).pattern,
         frequency_hz,
         station.noise_environment,
         ground_temperature_k=receiver.ground_temperature_k,
@@ -248,8 +284,8 @@ def downlink_setup(
     :func:`candidate_antenna_noise` for this candidate, frequency and station when the caller has it.
     """
     frequency_hz = sat.downlink_frequency_hz
+    candidate = band_for(candidate, sat, frequency_hz, source)  # the band that hears this satellite
     pattern = candidate.pattern
-    check_pattern_frequency(candidate, sat, frequency_hz, source)
     feedline_db = _station_line_loss_db(candidate.feedline, candidate.connectors, candidate.connector_loss_db, frequency_hz)
     pre_lna_db = (
         _station_line_loss_db(candidate.pre_lna_feedline, candidate.pre_lna_connectors, candidate.connector_loss_db, frequency_hz)

@@ -119,9 +119,26 @@ def week_rows(weekly) -> list[dict]:
                 "data_volume_mbit": round(float(record["data_volume_mbit"]), 3),
                 "dropouts": int(record["dropouts"]),
                 "one_receiver_limit": False,  # every usable pass counts, overlapping or not
+                **({"pattern_table": record["pattern_table"]} if "pattern_table" in record else {}),
             }
         )
     return rows
+
+
+def _band_patterns(study, names) -> dict:
+    """Label -> pattern table of every antenna of these candidates, for the elevation cuts.
+
+    A candidate of several bands shows each band's table, labelled with its file name.
+    """
+    from planner.link.budget import pattern_file_name
+
+    patterns = {}
+    for name in names:
+        bands = study.candidate(name).band_list
+        for band in bands:
+            label = name if len(bands) == 1 else f"{name} ({pattern_file_name(band.pattern)})"
+            patterns[label] = band.pattern
+    return patterns
 
 
 def calendar_ics(outcomes, study, candidate: str) -> bytes:
@@ -250,7 +267,7 @@ def write_figures(folder, study, forecast, recommendation, *, rules=None) -> lis
             horizon_mask=study.station.mask,
         )
         written += plots.save_figure(fig, folder, f"sky-{_slug(satellite)}", rules=rules)
-    patterns = {name: study.candidate(name).pattern for name in forecast.outcomes["candidate"].unique()}
+    patterns = _band_patterns(study, forecast.outcomes["candidate"].unique())
     written += plots.save_figure(plots.elevation_cuts(patterns, colours=colours), folder, "elevation-cuts", rules=rules)
     chosen = pass_of_widest_spread(forecast)
     if chosen is not None:

@@ -306,19 +306,53 @@ class ReceiverConfig(BaseModel):
     pre_lna_loss_db: Annotated[Real, _Range(0, 10)] = 0.0
 
 
+DEFAULT_CONNECTORS = 2  # of a candidate's main run: one at each end
+
+
+class BandConfig(BaseModel):
+    """One band of a candidate: its antenna's pattern table and the run from that antenna.
+
+    A candidate with several bands (a VHF and a UHF antenna on one station) uses, for each
+    satellite, the band whose table was computed nearest the satellite's downlink frequency.
+    """
+
+    model_config = _STRICT
+
+    pattern: Path = Field(description=_ALLOWED_PATTERN)
+    feedline: list[FeedlineRun] = []
+    connectors: Annotated[int, Strict(), _Range(0, 30)] = DEFAULT_CONNECTORS
+    lna_position: LnaPosition | None = None  # overrides the candidate's and [receiver]'s
+    feed_vswr: Annotated[Real, _Range(1, 20)] | None = None  # overrides the pattern header's
+
+    @field_validator("pattern", mode="plain")
+    @classmethod
+    def _pattern(cls, value: Any, info: ValidationInfo) -> Path:
+        return _resolve_file(value, info, _ALLOWED_PATTERN)
+
+
+_SINGLE_KEYS = ("pattern", "feedline", "connectors", "feed_vswr")  # the one-antenna form
+_ALLOWED_FORMS = (
+    "either pattern (with feedline, connectors, feed_vswr) for one antenna, or one or more "
+    "[[candidate.band]] tables, each with its own pattern, feedline, connectors, lna_position, feed_vswr"
+)
+
+
 class CandidateConfig(BaseModel):
     """One antenna set-up to compare: pattern table, feedline, connectors, LNA position.
 
     ``feedline`` and ``connectors`` are the main run (after the LNA when it sits at the antenna);
-    ``pre_lna_*`` are the losses between the antenna and the LNA, charged before it.
+    ``pre_lna_*`` are the losses between the antenna and the LNA, charged before it. A set-up
+    with one antenna per band lists them as ``[[candidate.band]]`` tables instead of ``pattern``
+    (see :class:`BandConfig`); :attr:`bands` gives both forms as a list of bands.
     """
 
     model_config = _STRICT
 
     name: Name
-    pattern: Path = Field(description=_ALLOWED_PATTERN)
+    pattern: Path | None = Field(default=None, description=_ALLOWED_PATTERN)
+    band: list[BandConfig] = []
     feedline: list[FeedlineRun] = []
-    connectors: Annotated[int, Strict(), _Range(0, 30)] = 2
+    connectors: Annotated[int, Strict(), _Range(0, 30)] | None = None  # default: DEFAULT_CONNECTORS
     connector_loss_db: Annotated[Real, _Range(0, 2)] = 0.1  # each; common practice
     lna_position: LnaPosition | None = None  # overrides [receiver] for this candidate
     feed_vswr: Annotated[Real, _Range(1, 20)] | None = None  # overrides the pattern header's
@@ -329,8 +363,51 @@ class CandidateConfig(BaseModel):
 
     @field_validator("pattern", mode="plain")
     @classmethod
-    def _pattern(cls, value: Any, info: ValidationInfo) -> Path:
-        return _resolve_file(value, info, _ALLOWED_PATTERN)
+    def _pattern(cls, value: Any, info: ValidationInfo) -> Path | None:
+        # None: the band form (a dumped scenario carries the key); _one_form checks the forms.
+        return None if value is None else _resolve_file(value, info, _ALLOWED_PATTERN)
+
+    @model_validator(mode="before")
+    @classmethod
+    def _one_form(cls, data: Any) -> Any:
+        """Refuse a candidate that gives both forms (or neither), naming the key at fault.
+
+        A key counts as given when it holds a value (a dumped scenario carries every key, with
+        None or an empty list where nothing was given).
+        """
+        if not isinstance(data, dict):
+            return data
+        given = [key for key in _SINGLE_KEYS if data.get(key) not in (None, [])]
+        if "band" in data and data["band"] is not None:
+            if given and data["band"] != []:
+                raise _error(
+                    f"{given[0]} is given both for the candidate and in its [[candidate.band]] tables",
+                    _ALLOWED_FORMS,
+                    at=(given[0],),
+                )
+            if data["band"] == [] and "pattern" in given:
+                return data
+            if data["band"] == []:
+                raise _error("band is an empty list", _ALLOWED_FORMS, at=("band",))
+        elif "pattern" not in given:
+            raise _error("no pattern and no [[candidate.band]] table is given", _ALLOWED_FORMS, at=("pattern",))
+        return data
+
+    @property
+    def bands(self) -> list[BandConfig]:
+        """The candidate's antennas: its [[candidate.band]] tables, or its one pattern as one band."""
+        if self.band:
+            return list(self.band)
+        assert self.pattern is not None, "checked by _one_form"
+        return [
+            BandConfig.model_construct(
+                pattern=self.pattern,
+                feedline=self.feedline,
+                connectors=DEFAULT_CONNECTORS if self.connectors is None else self.connectors,
+                lna_position=None,
+                feed_vswr=self.feed_vswr,
+            )
+        ]
 
 
 class TransmitterConfig(BaseModel):
@@ -451,7 +528,7 @@ class Scenario(BaseModel):
         files = [] if self.source_path is None else [self.source_path]
         files += [s.elements for s in self.satellite]
         files += [] if self.catalog is None else [self.catalog.elements]
-        files += [c.pattern for c in self.candidate]
+        files += [band.pattern for c in self.candidate for band in c.bands]
         return files
 
     def station_named(self, name: str) -> StationConfig:
