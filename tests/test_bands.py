@@ -168,3 +168,21 @@ def test_compare_names_the_table_used_per_satellite():
     assert document["recommended"] == CANDIDATE
     used = {row["satellite"]: row["pattern_table"] for row in document["pattern_tables"]}
     assert used == {"TARNBECK": VHF_TABLE, "WRENLING-1": UHF_TABLE}
+
+
+def test_a_two_band_set_up_gets_one_build_sheet_per_band(study):
+    from planner.antenna.buildsheet import sheets_to_dict, study_sheets
+
+    name = next(c.name for c in study.candidates.values() if len(c.band_list) == 2)
+    sheets = study_sheets(study, name, tolerances=False)
+    frequencies_mhz = sorted(s.frequency_mhz for s in sheets)
+    assert frequencies_mhz == pytest.approx([145.9, 436.0])
+    low, high = sorted(sheets, key=lambda s: s.frequency_mhz)
+    # A resonant dipole's length scales with the wavelength (Kraus, Antennas: a half-wave dipole is
+    # about 0.47-0.49 wavelength, the shortening depending weakly on the wire's thickness in
+    # wavelengths), so the same template trimmed at both frequencies scales by about 436 / 145.9.
+    first_low, first_high = low.elements[0], high.elements[0]
+    assert first_low.name == first_high.name
+    assert first_low.value_cm / first_high.value_cm == pytest.approx(436.0 / 145.9, rel=0.05)
+    document = sheets_to_dict(sheets)
+    assert document["candidate"] == name and len(document["bands"]) == 2

@@ -48,6 +48,8 @@ __all__ = [
     "CutTolerance",
     "build_sheet",
     "study_sheet",
+    "study_sheets",
+    "sheets_to_dict",
     "has_build_data",
     "header_parameters",
     "template_parameters",
@@ -774,26 +776,43 @@ def render_markdown(sheet: BuildSheet) -> str:
     return "\n".join(body) + "\n"
 
 
-def _other_bands_line(candidate) -> str:
-    """For a candidate of several bands: the sheet is the first band's; say so and name the others."""
-    bands = getattr(candidate, "band_list", (candidate,))
-    if len(bands) < 2:
+def _band_line(band, number: int, count: int) -> str:
+    """For a candidate of several bands: which band this sheet is, by number and frequency."""
+    if count < 2:
         return ""
-    others = ", ".join(str(getattr(b.pattern, "path", None) or "(built in memory)") for b in bands[1:])
-    return (
-        f"This sheet is for the first of its {len(bands)} bands; the others ({others}) need their own "
-        "sheet: make a one-table candidate of each."
-    )
+    frequency_hz = band.pattern.frequency_hz
+    at = "" if frequency_hz is None else f" at {frequency_hz / 1e6:g} MHz"
+    return f"Band {number} of {count}{at}: each band's antenna is built and fed on its own."
+
+
+def study_sheets(study, candidate_name: str, *, selection: str = "", tolerances: bool = True, strict: bool = True):
+    """The sheets of a study's candidate, one per band (one for a one-antenna set-up)."""
+    bands = study.candidate(candidate_name).band_list
+    return [
+        _band_sheet(study, band, " ".join(filter(None, [selection, _band_line(band, k, len(bands))])), tolerances, strict)
+        for k, band in enumerate(bands, start=1)
+    ]
 
 
 def study_sheet(study, candidate_name: str, *, selection: str = "", tolerances: bool = True, strict: bool = True) -> BuildSheet:
-    """The sheet of a study's candidate, at its station's horizon mask and receiver.
+    """The sheet of a one-antenna candidate (the first band's for a candidate of several)."""
+    return study_sheets(study, candidate_name, selection=selection, tolerances=tolerances, strict=strict)[0]
+
+
+def sheets_to_dict(sheets) -> dict:
+    """The JSON contract: one sheet's object, or for several bands ``{"candidate", "bands": [...]}``."""
+    if len(sheets) == 1:
+        return sheets[0].to_dict()
+    return {"candidate": sheets[0].candidate, "bands": [sheet.to_dict() for sheet in sheets]}
+
+
+def _band_sheet(study, candidate, selection: str, tolerances: bool, strict: bool) -> BuildSheet:
+    """One band's sheet at the study's station horizon mask and receiver.
 
     ``strict=False`` (the report, written after a whole comparison) turns a table whose build data
     cannot be rebuilt into a warning and a sheet with the feedline facts only, instead of an error.
     """
-    candidate = study.candidate(candidate_name)
-    selection = " ".join(filter(None, [selection, _other_bands_line(candidate)]))
+    candidate_name = candidate.name
     try:
         return build_sheet(
             candidate,

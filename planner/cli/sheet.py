@@ -25,7 +25,7 @@ def sheet(
     force: bool = common.FORCE,
 ) -> None:
     """Build sheet: element dimensions, reflector, cut lengths, feed impedance and cut tolerances."""
-    from planner.antenna.buildsheet import render_text, study_sheet
+    from planner.antenna.buildsheet import render_text, sheets_to_dict, study_sheets
     from planner.output.export import to_json
 
     if format not in ("table", "json"):
@@ -38,8 +38,8 @@ def sheet(
         name, selection = candidate, f"Candidate {candidate}, as asked (--candidate)."
     else:
         name, selection = _recommended(study, quiet)
-    result = study_sheet(study, name, selection=selection)
-    text = to_json(result.to_dict()) if format == "json" else render_text(result)
+    sheets = study_sheets(study, name, selection=selection)
+    text = to_json(sheets_to_dict(sheets)) if format == "json" else "\n".join(render_text(s) for s in sheets)
     common.emit(text, output, rules)
 
 

@@ -426,18 +426,18 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
 
 def _write_build_sheet(folder, study, recommendation, rules) -> list:
     """The recommended set-up's build sheet as Markdown and JSON (``planner.antenna.buildsheet``)."""
-    from planner.antenna.buildsheet import render_markdown, study_sheet
+    from planner.antenna.buildsheet import render_markdown, sheets_to_dict, study_sheets
     from planner.fileio import write_atomically
 
-    sheet = study_sheet(
+    sheets = study_sheets(
         study,
         recommendation.recommended,
         selection=f"Candidate {recommendation.recommended}: recommended by this comparison.",
         strict=False,
     )
     return [
-        write_atomically(folder / "build_sheet.md", render_markdown(sheet), rules=rules),
-        write_atomically(folder / "build_sheet.json", to_json(sheet.to_dict()), rules=rules),
+        write_atomically(folder / "build_sheet.md", "\n".join(render_markdown(s) for s in sheets), rules=rules),
+        write_atomically(folder / "build_sheet.json", to_json(sheets_to_dict(sheets)), rules=rules),
     ]
 
 
