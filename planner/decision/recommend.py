@@ -2,7 +2,7 @@
 
 The score of a candidate is what a station with one receiver can actually collect in
 the window: the one-receiver schedule's value under the scenario's objective
-(``data_volume``: weight x megabits; ``usable_time``: weight x minutes). The
+(``data-volume``: weight x megabits; ``usable-time``: weight x minutes). The
 explanation compares the recommended set-up with the runner-up by maximum-elevation
 band, by dropouts (margin falling below the threshold inside a pass, the signature of
 pattern nulls) and by satellite. Robustness: every budget is shifted by -/+2 dB and by
@@ -141,12 +141,12 @@ def _utc_text(moment: datetime | None) -> str | None:
 
 
 def _score_unit(objective: str) -> str:
-    return "weighted Mbit" if objective == "data_volume" else "weighted minutes"
+    return "weighted Mbit" if objective == "data-volume" else "weighted minutes"
 
 
 def _objective_value(value: float, objective: str) -> float:
     """Schedule values are weight x bit or weight x seconds; report Mbit or minutes."""
-    return value / 1e6 if objective == "data_volume" else value / 60.0
+    return value / 1e6 if objective == "data-volume" else value / 60.0
 
 
 def score_candidates(
