@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import itertools
 import warnings
-from datetime import timedelta
+from datetime import UTC, timedelta
 from math import log10
 
 import numpy as np
@@ -23,6 +23,7 @@ from planner.decision import forecast as forecast_module
 from planner.decision.forecast import (
     ELEVATION_BAND_LABELS,
     ELEVATION_BANDS_DEG,
+    NO_RECEIVER_LIMIT_TEXT,
     PASS_COLUMNS,
     SAMPLE_COLUMNS,
     band_table,
@@ -31,11 +32,13 @@ from planner.decision.forecast import (
     hour_table,
     schedule,
     summarize_passes,
+    usable_rule_text,
     weekly_table,
     weighted_interval_schedule,
 )
 from planner.errors import PlannerWarning
 from planner.link.budget import pass_budget
+from planner.output.export import week_rows
 from planner.scenario import load_scenario
 from planner.study import Study
 from tests.conftest import DEMO
@@ -252,11 +255,11 @@ def test_progress_is_reported_per_candidate_and_satellite(study):
 
 
 def test_pass_table_local_hour_and_band(day, study):
-    # Local mean solar time = UT + east longitude / 15 h (Explanatory Supplement to the
-    # Astronomical Almanac, local mean time); recomputed here with datetime arithmetic.
-    longitude = study.scenario.station.longitude_deg
+    # The demo station names no time_zone, so local hours are UTC hours at TCA (the default;
+    # other zones and mean solar time: tests/test_timezone.py).
+    assert study.station.time_zone == "UTC"
     for row in day.passes.itertuples():
-        assert row.local_hour == (row.tca_utc + timedelta(hours=longitude / 15.0)).hour
+        assert row.local_hour == row.tca_utc.astimezone(UTC).hour
         low, high = ELEVATION_BANDS_DEG[ELEVATION_BAND_LABELS.index(row.elevation_band)]
         assert low <= row.max_elevation_deg < high or (high == 90 and row.max_elevation_deg <= 90)
         assert row.aos_s == pytest.approx((row.aos_utc - study.start_utc).total_seconds(), abs=1e-6)
@@ -412,3 +415,55 @@ def test_catalog_mode_gives_the_same_outcomes(day, study, monkeypatch, batch_row
     pd.testing.assert_frame_equal(lean.outcomes, day.outcomes)
     pd.testing.assert_frame_equal(lean.weekly, day.weekly)
     pd.testing.assert_frame_equal(lean.passes, day.passes)
+
+
+# ------------------------------------------------------------------ one dropout definition
+
+
+def test_a_pass_too_short_to_be_usable_counts_no_dropout(study):
+    # Margins 5, 5, -5, 5, 5 dB at 0..40 s: windows [0, 12] and [28, 40] s (linear crossings of
+    # 3 dB, worked by hand: 10 + 10 * 2/10 and 30 - 10 * 2/10), 24 s usable in all, below the
+    # demo's min_usable_s = 60 s. No usable pass, so no dropout (pass_dropouts' definition);
+    # stretched tenfold (windows [0, 120] and [280, 400] s) the same dip is one 160 s dropout.
+    short = (np.arange(0.0, 41.0, 10.0), [5, 5, -5, 5, 5])
+    long = (np.arange(0.0, 401.0, 100.0), [5, 5, -5, 5, 5])
+    samples, passes = synthetic(study, [short, long])
+    out = summarize_passes(samples, passes, study.criteria, study.satellites)
+    assert out.usable_windows[0] == [pytest.approx((0.0, 12.0)), pytest.approx((28.0, 40.0))]
+    assert not out.usable[0] and out.dropouts[0] == 0 and out.dropout_s[0] == 0.0
+    assert out.usable[1] and out.dropouts[1] == 1 and out.dropout_s[1] == pytest.approx(160.0)
+
+
+def test_only_the_expected_margin_decides_usable(study):
+    # The wording says the margin at the fade percentile does not decide usable passes; check the
+    # code does what the text says: moving margin_at_fade_db moves nothing.
+    t = np.arange(0.0, 501.0, 10.0)
+    margin = np.interp(t, [0, 100, 200, 250, 300, 400, 500], [-5, 6, 6, -1, 6, 6, -5])
+    samples, passes = synthetic(study, [(t, margin)])
+    before = summarize_passes(samples, passes, study.criteria, study.satellites)
+    deeper = samples.assign(margin_at_fade_db=samples["margin_db"] - 20.0)
+    after = summarize_passes(deeper, passes, study.criteria, study.satellites)
+    for column in ("usable_s", "usable", "dropouts", "dropout_s"):
+        assert before[column].tolist() == after[column].tolist()
+
+
+def test_usable_rule_names_the_fade_percentile_when_a_satellite_tumbles(study):
+    # Demo: four satellites are linear-tumbling, OSTRAVEL-2 is rhcp (scenarios/demo.toml).
+    text = usable_rule_text(study.criteria, study.satellites)
+    assert "expected margin" in text and f"{study.criteria.fade_percentile:g} % fade" in text
+    assert "criteria.fade_percentile" in text and "does not decide" in text
+    for satellite in study.satellites:
+        assert (satellite.name in text) == (satellite.polarization == "linear-tumbling")
+    circular = [s.model_copy(update={"polarization": "rhcp"}) for s in study.satellites]
+    plain = usable_rule_text(study.criteria, circular)
+    assert "plays no part" in plain and "% fade" not in plain
+
+
+def test_week_rows_say_there_is_no_receiver_limit(day):
+    rows = week_rows(day.weekly)
+    assert rows and all(row["one_receiver_limit"] is False for row in rows)
+    # Unusable passes count no dropouts, so a pair without usable passes shows none.
+    for row in rows:
+        if row["usable_passes"] == 0:
+            assert row["dropouts"] == 0
+    assert "no one-receiver limit" in NO_RECEIVER_LIMIT_TEXT

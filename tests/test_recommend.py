@@ -8,15 +8,18 @@ from __future__ import annotations
 import csv
 import io
 import json
+import re
 from datetime import timedelta
 
 import pytest
 from icalendar import Calendar
 
-from planner.decision.forecast import forecast
-from planner.decision.recommend import _band_minutes, recommend
+from planner.cli.forecast import _print_week
+from planner.decision.forecast import NO_RECEIVER_LIMIT_TEXT, ONE_RECEIVER_LIMIT_TEXT, forecast, summarize_passes
+from planner.decision.recommend import _band_minutes, checks_text, recommend, score_candidates, uncertain_terms, voice_text
 from planner.output.export import calendar_ics
 from planner.scenario import load_scenario
+from planner.scenario.schema import CandidateConfig, CriteriaConfig, SatelliteConfig, StationConfig
 from planner.study import Study
 from tests.conftest import DEMO, ROOT
 from tests.conftest import run_planner as run
@@ -73,6 +76,9 @@ def test_a_dominant_candidate_is_recommended(tmp_path):
     assert decision.robust
     by_name = {s.candidate: s for s in decision.ranking}
     assert by_name["turnstile-close"].score > by_name["close-on-thin-cable"].score
+    # A lead this large (tens of dB of cable, Friis) is beyond budget_uncertainty_db: nothing to check.
+    assert decision.lead_db > study.criteria.budget_uncertainty_db and decision.checks == []
+    assert "no uncertain term within its usual tolerance overturns it" in decision.explanation
 
 
 def test_explanation_names_the_bands_where_candidates_differ(demo_short):
@@ -128,6 +134,9 @@ def test_compare_json_follows_the_contract(demo_short, tmp_path):
     assert document["recommended"] == document["ranking"][0]["candidate"]
     for entry in document["ranking"]:
         assert {"candidate", "score", "usable_minutes", "data_volume_mbit"} <= set(entry)
+        assert {"dropouts", "dropout_s", "all_usable_passes", "all_dropouts"} <= set(entry)
+        assert entry["usable_passes"] <= entry["all_usable_passes"] and entry["dropouts"] <= entry["all_dropouts"]
+    assert {"totals_basis", "usable_rule", "lead_db", "uncertain_terms"} <= set(document)
     scores = [e["score"] for e in document["ranking"]]
     assert scores == sorted(scores, reverse=True)
     # The demo receives at 435-438 MHz, above the 0.3-250 MHz of ITU-R P.372's man-made noise lines:
@@ -160,8 +169,16 @@ def test_report_folder_holds_tables_figures_and_summary(demo_short, tmp_path):
     svgs = sorted(p.stem for p in (report / "figures").glob("*.svg"))
     assert pngs == svgs and {"elevation-cuts", "usable-minutes", "margin-by-band", "pass-margins"} <= set(pngs)
     assert sum(stem.startswith("sky-") for stem in pngs) == 5
-    assert "Recommended" in (report / "summary.md").read_text()
+    summary = " ".join((report / "summary.md").read_text().split())
+    assert "Recommended" in summary
+    assert ONE_RECEIVER_LIMIT_TEXT in " ".join(result.stdout.split())
+    assert ONE_RECEIVER_LIMIT_TEXT in summary and NO_RECEIVER_LIMIT_TEXT in summary
     assert (tmp_path / "plan.ics").read_bytes().startswith(b"BEGIN:VCALENDAR")
+    # hours.csv names its clock: the demo station gives no time_zone, so UTC.
+    hours = (report / "hours.csv").read_text().splitlines()
+    assert hours[0].split(",")[:2] == ["candidate", "local_hour"] and hours[0].endswith(",time_zone")
+    assert len(hours) > 1 and all(line.endswith(",UTC") for line in hours[1:])
+    assert "calendar times: UTC" in (report / "summary.md").read_text()
     # The recommended set-up's build sheet, and the terminal output's last line points to the command.
     sheet = json.loads((report / "build_sheet.json").read_text())
     recommended = json.loads((report / "compare.json").read_text())["recommended"]
@@ -179,3 +196,122 @@ def test_compare_needs_candidates(tmp_path):
     path.write_text(text)
     result = run("compare", path, "--quiet")
     assert result.returncode == 2 and "candidate" in result.stderr and "Traceback" not in result.stderr
+
+
+# ------------------------------------------------------------------ screens that agree
+
+
+def test_dropouts_in_the_text_are_the_table_and_json_numbers(demo_short):
+    # One definition (planner.decision.forecast.pass_dropouts), one number per screen: the
+    # explanation quotes the kept-pass dropouts that the ranking table and the JSON show.
+    _, _, _, decision = demo_short
+    document = decision.to_contract()
+    best, runner = document["ranking"][0], document["ranking"][1]
+    assert best["dropouts"] == decision.ranking[0].dropouts  # the terminal table prints this field
+    quoted = re.search(r"Mbit, (\d+) dropouts;", document["explanation"])
+    assert quoted and int(quoted.group(1)) == best["dropouts"]
+    compared = re.search(r"it has (\d+) dropouts \([\d.]+ s\) against (\d+) ", document["explanation"])
+    if best["dropouts"] != runner["dropouts"]:
+        assert compared and (int(compared.group(1)), int(compared.group(2))) == (best["dropouts"], runner["dropouts"])
+
+
+def test_kept_pass_totals_never_exceed_the_weeks(demo_short):
+    # A one-receiver schedule keeps a subset of the usable passes (weighted interval scheduling,
+    # Kleinberg & Tardos, Algorithm Design, 6.1), so compare's totals are at most week's, and its
+    # no-limit totals are week's exactly.
+    _, _, result, decision = demo_short
+    week = result.weekly.groupby("candidate")[["usable_passes", "usable_minutes", "data_volume_mbit", "dropouts"]].sum()
+    for score in decision.ranking:
+        row = week.loc[score.candidate]
+        assert score.usable_passes <= row["usable_passes"] and score.dropouts <= row["dropouts"]
+        assert score.usable_minutes <= row["usable_minutes"] + 1e-9
+        assert score.data_volume_mbit <= row["data_volume_mbit"] + 1e-9
+        assert score.all_usable_passes == row["usable_passes"] and score.all_dropouts == row["dropouts"]
+        assert score.all_usable_minutes == pytest.approx(row["usable_minutes"])
+    assert any(s.usable_passes < s.all_usable_passes for s in decision.ranking)  # the demo has overlaps
+
+
+def test_week_screen_says_no_limit_and_compare_says_the_limit(demo_short, capsys):
+    _, study, result, decision = demo_short
+    _print_week(study, result)
+    week_text = " ".join(capsys.readouterr().out.split())
+    assert NO_RECEIVER_LIMIT_TEXT in week_text and ONE_RECEIVER_LIMIT_TEXT not in week_text
+    assert "fade_percentile" in week_text  # the demo has tumbling satellites
+    document = decision.to_contract()
+    assert document["totals_basis"] == ONE_RECEIVER_LIMIT_TEXT and "one-receiver limit" in ONE_RECEIVER_LIMIT_TEXT
+    assert "without the one-receiver limit" in document["explanation"]
+
+
+def test_a_voice_satellite_scores_nothing_under_data_volume(demo_short):
+    # CALDERWISP is analog FM voice (scenarios/demo.toml): no data volume, so nothing under the
+    # data-volume objective (common practice, no published source: voice carries no bits).
+    _, study, result, decision = demo_short
+    assert decision.objective == "data-volume"
+    voice = result.outcomes[result.outcomes["satellite"] == "CALDERWISP"]
+    assert len(voice) and (voice["data_volume_bit"] == 0).all()
+    wording = 'CALDERWISP scores 0 weighted Mbit: voice has no data volume; use objective = "usable-time" to rank by contact time.'
+    assert wording in decision.explanation
+    assert not re.search(r"hears more of [^.]*CALDERWISP", decision.explanation)
+    assert voice_text(["CALDERWISP"], "usable-time") == ""
+
+
+def test_usable_margin_wording_is_in_the_recommendation(demo_short):
+    _, study, _, decision = demo_short
+    assert f"{study.criteria.fade_percentile:g} % fade (criteria.fade_percentile" in decision.explanation
+    assert decision.to_contract()["usable_rule"] == decision.usable_rule
+
+
+def test_lead_in_db_is_the_shift_that_hands_over_first_place(demo_short):
+    # The definition checked from outside lead_in_db: the leader's budget lowered by the lead
+    # loses to the runner-up, lowered by one resolution step less it does not.
+    _, study, result, decision = demo_short
+    lead = decision.lead_db
+    assert lead is not None and 0 < lead < 10
+
+    def leader_score(shift_db):
+        samples = result.samples[result.samples["candidate"] == decision.recommended]
+        shifted = summarize_passes(samples, result.passes, study.criteria, study.satellites, margin_shift_db=shift_db)
+        return score_candidates(shifted, decision.objective, [decision.recommended])[0][0].score
+
+    runner = decision.ranking[1].score
+    assert leader_score(-lead) < runner <= leader_score(-(lead - 0.05))
+
+
+def _scenario_keys(set_in: str) -> list[tuple[str, str]]:
+    """("[[satellite]]", "tx_power_w")... from a term's ``set_in`` text."""
+    pairs = []
+    for part in re.split(r",\s*(?=\[)", set_in):
+        table, _, keys = part.partition(" ")
+        pairs += [(table, key.strip()) for key in keys.split(",")]
+    return pairs
+
+
+def test_uncertain_terms_follow_the_numbers(demo_short):
+    # Differential terms when the lead (dB) is within budget_uncertainty_db; common terms only when a
+    # common shift changes the winner (here forced); every term names real scenario keys.
+    _, study, result, decision = demo_short
+    best, runner = decision.ranking[0].candidate, decision.ranking[1].candidate
+    lead = decision.lead_db
+    names = [c["term"] for c in decision.checks]
+    assert any(n.startswith("pattern table accuracy") for n in names) == (lead <= study.criteria.budget_uncertainty_db)
+    assert "satellite EIRP" not in names or not decision.robust
+    flipped = {0.0: best, -2.0: runner, 2.0: best}
+    checks = uncertain_terms(result, study.satellites, study.candidates, decision.ranking, flipped, 0.1)
+    by_name = {c["term"].split(" (")[0]: c for c in checks}
+    assert by_name["satellite EIRP"]["tolerance"] == 2.0 and by_name["satellite EIRP"]["unit"] == "dB"
+    fade = next(c for c in checks if c["term"].startswith("the tumbling fade"))
+    tumbling = [s.name for s in study.satellites if s.polarization == "linear-tumbling"]
+    mine = result.samples[(result.samples["candidate"] == best) & result.samples["satellite"].isin(tumbling)]
+    assert fade["tolerance"] == pytest.approx((mine["margin_db"] - mine["margin_at_fade_db"]).median(), abs=0.01)
+    fields = {
+        "[[satellite]]": SatelliteConfig.model_fields,
+        "[[candidate]]": CandidateConfig.model_fields,
+        "[criteria]": CriteriaConfig.model_fields,
+        "[station]": StationConfig.model_fields,
+    }
+    for check in checks:
+        for table, key in _scenario_keys(check["set_in"]):
+            assert key in fields[table], (table, key)
+    text = checks_text(decision.ranking, 0.1, study.criteria.budget_uncertainty_db, checks)
+    assert text.startswith(f"The lead of {best} over {runner} is worth 0.10 dB") and "Check the uncertain terms" in text
+    assert "satellite EIRP (+/-2 dB; set in [[satellite]] tx_power_w" in text

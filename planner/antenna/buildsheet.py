@@ -35,6 +35,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -708,7 +709,8 @@ def build_sheet(
 
 
 def _lines(sheet: BuildSheet) -> list[str]:
-    out = [f"Build sheet: {sheet.candidate} ({sheet.pattern_file})"]
+    # The file's name only: the folder is the scenario's, and a report travels without it.
+    out = [f"Build sheet: {sheet.candidate} (pattern table {Path(sheet.pattern_file).name})"]
     if sheet.selection:
         out.append(sheet.selection)
     if not sheet.build_data:

@@ -36,6 +36,16 @@ def azimuth(value_deg: float) -> str:
     return f"{round(value_deg) % 360:d}"
 
 
+def shown_path(path: Path | None) -> str:
+    """A path as a user would type it again: relative to the working folder when it lies inside."""
+    if path is None:
+        return "SCENARIO"
+    try:
+        return str(Path(path).resolve().relative_to(Path.cwd().resolve()))
+    except ValueError:
+        return str(path)
+
+
 def emit(text: str, output: Path | None, rules) -> None:
     """Write machine output to a file atomically (under the run's write rules), or to stdout."""
     from planner.fileio import write_atomically

@@ -87,13 +87,15 @@ def week(
 
 
 def _print_week(study, result) -> None:
-    from planner.decision.forecast import band_table
+    from planner.decision.forecast import NO_RECEIVER_LIMIT_TEXT, band_table, usable_rule_text
+    from planner.decision.recommend import voice_satellites, voice_text
 
     console = common.stdout()
     table = Table(
-        title=f"{result.days:g}-day forecast at {study.station.name} (usable: margin >= "
-        f"{study.scenario.criteria.min_margin_db:g} dB for >= {study.scenario.criteria.min_usable_s:g} s)",
+        title=f"{result.days:g}-day forecast at {study.station.name}, every usable pass (no one-receiver limit)",
         title_justify="left",
+        caption=NO_RECEIVER_LIMIT_TEXT,
+        caption_justify="left",
     )
     for heading in ("candidate", "satellite", "passes", "usable", "usable min", "min/day", "Mbit", "Mbit/day", "dropouts"):
         table.add_column(heading, justify="left" if heading in ("candidate", "satellite") else "right")
@@ -119,6 +121,35 @@ def _print_week(study, result) -> None:
     for name, values in pivot.iterrows():
         band_view.add_row(str(name), *[f"{v:.1f}" for v in values])
     console.print(band_view)
+    _print_hours(console, study, result)
+    console.print(usable_rule_text(study.scenario.criteria, study.satellites), soft_wrap=False, markup=False)
+    console.print(
+        "Dropouts: below-threshold gaps between the usable windows of a usable pass (a pattern null or a fade mid-pass).",
+        soft_wrap=False,
+        markup=False,
+    )
+    voice = voice_text(voice_satellites(study.satellites), study.scenario.criteria.objective)
+    if voice:
+        console.print(voice, soft_wrap=False, markup=False)
+
+
+def _print_hours(console, study, result) -> None:
+    """Usable minutes per local hour of TCA on the station's clock; hours without passes left out."""
+    from planner.decision.forecast import hour_table
+    from planner.timezones import zone_label
+
+    label = zone_label(study.station.time_zone, study.station.longitude_deg)
+    hours = hour_table(result.outcomes, label)
+    pivot = hours.pivot_table(index="local_hour", columns="candidate", values="usable_minutes", aggfunc="sum", fill_value=0.0)
+    with_passes = hours.groupby("local_hour")["passes"].sum()
+    view = Table(title=f"usable minutes by local hour of TCA ({label})", title_justify="left")
+    view.add_column("hour", justify="right")
+    for name in pivot.columns:
+        view.add_column(str(name), justify="right", overflow="fold")  # long names wrap, never cut
+    for hour, values in pivot.iterrows():
+        if with_passes.get(hour, 0) > 0:
+            view.add_row(f"{int(hour):02d}", *[f"{v:.1f}" for v in values])
+    console.print(view)
 
 
 @app.command()
@@ -195,8 +226,15 @@ def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, r
         write_report(report, study, result, decision, rules=rules)
     if format == "json":
         return decision
+    from planner.decision.forecast import ONE_RECEIVER_LIMIT_TEXT
+
     console = common.stdout()
-    table = Table(title=f"Candidates at {study.station.name}, one receiver, {result.days:g} days", title_justify="left")
+    table = Table(
+        title=f"Candidates at {study.station.name}, one receiver, {result.days:g} days",
+        title_justify="left",
+        caption=ONE_RECEIVER_LIMIT_TEXT,
+        caption_justify="left",
+    )
     for heading in (
         "rank",
         "candidate",
@@ -227,7 +265,7 @@ def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, r
     if report is not None:
         console.print(f"Report written to {report}/ (summary.md, build_sheet.md, tables, figures/, calendar.ics).")
     console.print(
-        f"What to cut and assemble for {decision.recommended}: planner sheet {study.scenario.source_path or 'SCENARIO'}",
+        f"What to cut and assemble for {decision.recommended}: planner sheet {common.shown_path(study.scenario.source_path)}",
         soft_wrap=True,
         markup=False,
     )

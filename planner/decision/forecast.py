@@ -14,9 +14,8 @@ The pipeline, all of it vectorized over samples (loops run per pass or per candi
    piecewise-linear curve is at or above the threshold: a window opens at AOS if the first
    sample is usable, otherwise at the linearly interpolated crossing between an unusable and a
    usable sample, and it closes likewise (at LOS if the last sample is usable).  ``usable_s`` is
-   the total length of the windows.  A *dropout* is a below-threshold gap between two usable
-   windows of the same pass, the signature of a pattern null or a polarization fade mid-pass;
-   the unusable low-elevation ends of a pass are not dropouts.  Data volume is
+   the total length of the windows.  Dropouts are defined once, in :func:`pass_dropouts`: a
+   below-threshold gap between two usable windows of a *usable* pass.  Data volume is
    ``usable_s * data_rate_bps * framing_efficiency`` (0 for ``fm``, which carries voice: its
    usable time still counts).  A pass is *usable* when ``usable_s >= criteria.min_usable_s``.
 3. :func:`weekly_table`, :func:`band_table` and :func:`hour_table` total the usable passes per
@@ -28,16 +27,17 @@ The pipeline, all of it vectorized over samples (loops run per pass or per candi
    compatible predecessor, dynamic programme; Kleinberg & Tardos, *Algorithm Design*, 6.1).
    :func:`dropped_for_conflicts` lists the passes it leaves out and the kept pass each overlaps.
 
-Local hour is *mean solar time* at the station's longitude (UTC hour + longitude / 15, modulo
-24) at the pass's TCA, as an integer 0..23: the sun's hour angle without the equation of time
-(within about 16 minutes of apparent solar time), and independent of civil time zones.
+Local hour is the hour (0..23) at the pass's TCA on the station's clock, its ``time_zone``
+(:mod:`planner.timezones`): the civil hour of an IANA zone, daylight saving included (UTC by
+default), or, for ``local-mean-solar``, mean solar time at the station's longitude (UTC hour +
+longitude / 15, modulo 24).
 """
 
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
-from datetime import UTC, datetime, timedelta
+from datetime import datetime, timedelta
 
 import numpy as np
 import pandas as pd
@@ -45,6 +45,7 @@ import pandas as pd
 from planner.link.budget import candidate_antenna_noise, downlink_setup, evaluate
 from planner.passes import Pass, joined_time_s
 from planner.scenario import CriteriaConfig
+from planner.timezones import DEFAULT_TIME_ZONE, LOCAL_MEAN_SOLAR, local_hours
 
 ELEVATION_BANDS_DEG = ((0, 10), (10, 30), (30, 60), (60, 90))
 ELEVATION_BAND_LABELS = tuple(f"{low}-{high}" for low, high in ELEVATION_BANDS_DEG)
@@ -112,6 +113,39 @@ WEEKLY_COLUMNS = (
 TOTAL_COLUMNS = ("passes", "usable_passes", "usable_minutes", "data_volume_mbit")
 
 _KEYS = ["candidate", "satellite", "pass_number"]
+TUMBLING_POLARIZATION = "linear-tumbling"
+
+NO_RECEIVER_LIMIT_TEXT = (
+    "These totals have no one-receiver limit: every usable pass of every satellite counts, even when passes "
+    "overlap (planner compare keeps only the passes one receiver can take)."
+)
+ONE_RECEIVER_LIMIT_TEXT = (
+    "These totals have the one-receiver limit: they count only the passes the one-receiver schedule keeps, "
+    "never two that overlap (planner week counts every usable pass)."
+)
+
+
+def usable_rule_text(criteria: CriteriaConfig, satellites) -> str:
+    """Which margin decides "usable", per satellite, as :func:`summarize_passes` applies it.
+
+    Every satellite is judged on its expected margin (``margin_db``).  For a tumbling linear
+    satellite that margin carries the polarization loss averaged over the tumble; the deeper fade
+    at ``criteria.fade_percentile`` (``margin_at_fade_db``) is computed and reported but does not
+    decide usability, and the text says so by name.
+    """
+    tumbling = [s.name for s in satellites if getattr(s, "polarization", None) == TUMBLING_POLARIZATION]
+    rule = (
+        f"Usable: the expected margin (margin_db) is at least {float(criteria.min_margin_db):g} dB for at least "
+        f"{float(criteria.min_usable_s):g} s of a pass, for every satellite."
+    )
+    if not tumbling:
+        return rule + " No satellite is tumbling linear, so criteria.fade_percentile plays no part."
+    shown = ", ".join(tumbling[:6]) + (f" and {len(tumbling) - 6} more" if len(tumbling) > 6 else "")
+    return (
+        f"{rule} For the tumbling linear satellites ({shown}) that margin carries the polarization loss averaged "
+        f"over the tumble; the margin at the {float(criteria.fade_percentile):g} % fade (criteria.fade_percentile, "
+        "margin_at_fade_db) is lower and does not decide usable passes."
+    )
 
 
 # ---------------------------------------------------------------------------- passes
@@ -140,20 +174,19 @@ def elevation_band(max_elevation_deg) -> np.ndarray:
 
 def local_mean_solar_hour(time_utc: datetime, longitude_deg: float) -> int:
     """Hour (0..23) of local mean solar time: UTC hour + longitude / 15, modulo 24."""
-    utc = time_utc.astimezone(UTC)
-    hours = utc.hour + utc.minute / 60.0 + (utc.second + utc.microsecond * 1e-6) / 3600.0
-    return int(np.floor(np.mod(hours + longitude_deg / 15.0, 24.0))) % 24
+    return int(local_hours([time_utc], LOCAL_MEAN_SOLAR, longitude_deg)[0])
 
 
 def pass_table(study, numbered: list | None = None) -> pd.DataFrame:
     """One row per (satellite, pass_number), satellites in scenario order, passes in AOS order.
 
     ``aos_utc``/``tca_utc``/``los_utc`` are timezone-aware python datetimes (UTC);
-    ``aos_s``/``los_s`` are seconds from ``study.start_utc``; ``local_hour`` is the hour of
-    local mean solar time (UTC + longitude / 15) at TCA, 0..23; ``elevation_band`` labels the
-    culmination elevation with :data:`ELEVATION_BANDS_DEG`.
+    ``aos_s``/``los_s`` are seconds from ``study.start_utc``; ``local_hour`` is the hour at TCA,
+    0..23, on the station's clock (``study.station.time_zone``, see :mod:`planner.timezones`);
+    ``elevation_band`` labels the culmination elevation with :data:`ELEVATION_BANDS_DEG`.
     """
     longitude_deg = float(study.station.longitude_deg)
+    time_zone = study.station.time_zone
     order = {s.name: i for i, s in enumerate(study.satellites)}
     numbered = sorted(
         numbered_passes(study) if numbered is None else numbered,
@@ -173,7 +206,7 @@ def pass_table(study, numbered: list | None = None) -> pd.DataFrame:
         "max_elevation_deg": np.array([p.max_elevation_deg for _, p in numbered], dtype=float),
     }
     rows["elevation_band"] = elevation_band(rows["max_elevation_deg"])
-    rows["local_hour"] = np.array([local_mean_solar_hour(p.tca_utc, longitude_deg) for _, p in numbered], dtype=np.int64)
+    rows["local_hour"] = local_hours([p.tca_utc for _, p in numbered], time_zone, longitude_deg)
     rows["aos_clipped"] = np.array([p.aos_clipped for _, p in numbered], dtype=bool)
     rows["los_clipped"] = np.array([p.los_clipped for _, p in numbered], dtype=bool)
     return pd.DataFrame({column: pd.Series(rows[column]).reset_index(drop=True) for column in PASS_COLUMNS})
@@ -370,6 +403,36 @@ def usable_windows(time_s, margin_db, threshold_db, group=None) -> tuple[np.ndar
     return start_s, end_s, g[opens]
 
 
+def is_usable_pass(usable_s, criteria: CriteriaConfig) -> np.ndarray:
+    """Whether each pass counts: at least ``criteria.min_usable_s`` of usable time."""
+    return np.asarray(usable_s, dtype=float) >= float(criteria.min_usable_s)
+
+
+def pass_dropouts(start_s, end_s, window_group, usable_pass) -> tuple[np.ndarray, np.ndarray]:
+    """Dropouts of each pass, (count, seconds): the one definition every screen and file uses.
+
+    A *dropout* is a stretch of a usable pass (``usable_pass``, one flag per pass) where the
+    margin that decides usability (``margin_db``, piecewise linear between samples) falls below
+    ``criteria.min_margin_db`` between two of the pass's usable windows and comes back: the
+    signature of a pattern null or a polarization fade mid-pass.  It runs from the window that
+    closes to the next that opens, and every such gap counts, however short.  The unusable
+    low-elevation ends of a pass (before its first and after its last window) are not dropouts,
+    and a pass that is not usable counts none: there is no contact to drop out of.  Windows are
+    given as from :func:`usable_windows` (``window_group`` is the pass index of each window, in
+    time order); totals are sums of these per-pass counts over the passes a screen counts.
+    """
+    usable_pass = np.asarray(usable_pass, dtype=bool)
+    n_groups = len(usable_pass)
+    window_group = np.asarray(window_group)
+    same = window_group[1:] == window_group[:-1]  # consecutive windows of one pass
+    gap_group = window_group[1:][same]
+    gap_s = (np.asarray(start_s, dtype=float)[1:] - np.asarray(end_s, dtype=float)[:-1])[same]
+    counted = usable_pass[gap_group]
+    dropouts = np.bincount(gap_group[counted], minlength=n_groups).astype(np.int64)
+    dropout_s = np.bincount(gap_group[counted], weights=gap_s[counted], minlength=n_groups)
+    return dropouts, dropout_s
+
+
 def _empty_outcomes(passes: pd.DataFrame) -> pd.DataFrame:
     frame = pd.DataFrame({column: pd.Series(dtype=object) for column in OUTCOME_COLUMNS})
     for column in PASS_COLUMNS:
@@ -413,11 +476,7 @@ def summarize_passes(
     length = end_s - start_s
     usable_s = np.bincount(window_group, weights=length, minlength=n_groups)
     count = np.bincount(window_group, minlength=n_groups)
-    same = window_group[1:] == window_group[:-1]  # consecutive windows of one pass
-    gap_group = window_group[1:][same]
-    gap_s = (start_s[1:] - end_s[:-1])[same]
-    dropouts = np.bincount(gap_group, minlength=n_groups)
-    dropout_s = np.bincount(gap_group, weights=gap_s, minlength=n_groups)
+    dropouts, dropout_s = pass_dropouts(start_s, end_s, window_group, is_usable_pass(usable_s, criteria))
     first_usable = np.full(n_groups, np.nan)
     last_usable = np.full(n_groups, np.nan)
     has = count > 0
@@ -457,7 +516,7 @@ def summarize_passes(
     weight = np.array([float(radio[s].weight) for s in sat_names])
     usable_time = outcomes["usable_s"].to_numpy(dtype=float)
     volume = np.where(voice, 0.0, usable_time * rate_bps * framing)
-    outcomes["usable"] = usable_time >= float(criteria.min_usable_s)
+    outcomes["usable"] = is_usable_pass(usable_time, criteria)
     outcomes["data_volume_bit"] = volume
     outcomes["weight"] = weight
     outcomes["value"] = weight * (volume if criteria.objective == "data-volume" else usable_time)
@@ -499,7 +558,9 @@ def weekly_table(
     """One row per (candidate, satellite): the ``planner week`` contract columns and per-day rates.
 
     ``passes`` counts every pass, ``usable_passes`` those with ``usable``; ``usable_minutes`` and
-    ``data_volume_mbit`` (10^6 bit) total the usable passes only; ``dropouts`` totals all passes.
+    ``data_volume_mbit`` (10^6 bit) and ``dropouts`` (:func:`pass_dropouts`) total the usable
+    passes only.  There is no one-receiver limit: every usable pass of every satellite counts, even
+    when passes overlap (:func:`schedule` applies the limit).
     Rows follow the order of appearance in ``outcomes``, or ``candidates`` x ``satellites`` when
     given (then pairs without passes get zero rows).
     """
@@ -526,12 +587,18 @@ def band_table(outcomes: pd.DataFrame) -> pd.DataFrame:
     return totals.loc[:, by + list(TOTAL_COLUMNS)]
 
 
-def hour_table(outcomes: pd.DataFrame) -> pd.DataFrame:
-    """Per (candidate, local_hour 0..23, mean solar time at TCA), every hour listed: as :func:`band_table`."""
+def hour_table(outcomes: pd.DataFrame, time_zone: str = DEFAULT_TIME_ZONE) -> pd.DataFrame:
+    """Per (candidate, local_hour 0..23 at TCA), every hour listed: as :func:`band_table`.
+
+    ``time_zone`` names the clock the outcomes' ``local_hour`` was computed on (the station's,
+    :func:`planner.timezones.zone_label`); it fills a last ``time_zone`` column so a table on
+    its own says which hours it counts.
+    """
     by = ["candidate", "local_hour"]
     totals = _full_grid(_totals(outcomes, by), by, [list(pd.unique(outcomes["candidate"])), list(HOURS)])
     totals["local_hour"] = totals["local_hour"].astype(np.int64)
-    return totals.loc[:, by + list(TOTAL_COLUMNS)]
+    totals["time_zone"] = time_zone
+    return totals.loc[:, by + list(TOTAL_COLUMNS) + ["time_zone"]]
 
 
 # ---------------------------------------------------------------------------- schedule

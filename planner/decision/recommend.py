@@ -4,10 +4,12 @@ The score of a candidate is what a station with one receiver can actually collec
 the window: the one-receiver schedule's value under the scenario's objective
 (``data-volume``: weight x megabits; ``usable-time``: weight x minutes). The
 explanation compares the recommended set-up with the runner-up by maximum-elevation
-band, by dropouts (margin falling below the threshold inside a pass, the signature of
-pattern nulls) and by satellite. Robustness: every budget is shifted by -/+2 dB and by
+band, by dropouts (planner.decision.forecast.pass_dropouts, counted in the kept passes as
+in the ranking table) and by satellite. Robustness: every budget is shifted by -/+2 dB and by
 the scenario's ``budget_uncertainty_db``; the recommendation holds when the same
-candidate ranks first under every shift.
+candidate ranks first under every shift. The leader's lead is also expressed in dB (how far
+its budget alone must drop to lose first place); with both numbers the explanation names the
+uncertain terms worth checking (:func:`uncertain_terms`).
 
 Candidates whose pattern table carries no feed data (no ``feed_vswr`` in its header, none in
 the scenario) are compared as if matched; the explanation and the ``notes`` say which.
@@ -22,11 +24,15 @@ import pandas as pd
 
 from planner.decision.forecast import (
     ELEVATION_BANDS_DEG,
+    ONE_RECEIVER_LIMIT_TEXT,
+    TUMBLING_POLARIZATION,
+    VOICE_MODULATIONS,
     Forecast,
     band_table,
     dropped_for_conflicts,
     schedule,
     summarize_passes,
+    usable_rule_text,
 )
 
 # A band or satellite difference smaller than this (minutes per week) is not worth a sentence.
@@ -41,7 +47,13 @@ class CandidateScore:
     usable_minutes: float  # scheduled usable time, minutes in the window
     data_volume_mbit: float  # scheduled data volume, megabits in the window
     usable_passes: int  # scheduled usable passes
-    dropouts: int  # dropouts inside the scheduled passes
+    dropouts: int  # dropouts (forecast.pass_dropouts) inside the scheduled passes
+    dropout_s: float = 0.0  # their total length, seconds
+    # The same totals over every usable pass, no one-receiver limit (as planner week counts them).
+    all_usable_passes: int = 0
+    all_usable_minutes: float = 0.0
+    all_data_volume_mbit: float = 0.0
+    all_dropouts: int = 0
 
     @property
     def lost_to_conflicts(self) -> float:
@@ -60,6 +72,10 @@ class Recommendation:
     schedules: dict = field(default_factory=dict)  # candidate -> ScheduleResult
     notes: list[str] = field(default_factory=list)  # e.g. candidates charged no feed mismatch
     model_notes: list[str] = field(default_factory=list)  # models used beyond their stated range
+    usable_rule: str = ""  # which margin decides "usable", per satellite
+    # dB the leader's budget alone can lose and stay first, at most _LEAD_CAP_DB (None: no lead to measure)
+    lead_db: float | None = None
+    checks: list[dict] = field(default_factory=list)  # the uncertain terms worth checking (uncertain_terms)
 
     def to_contract(self) -> dict:
         """The `planner compare --format json` document (its contract keys plus a few extra)."""
@@ -76,9 +92,18 @@ class Recommendation:
                     "usable_passes": s.usable_passes,
                     "dropouts": s.dropouts,
                     "lost_to_conflicts": round(s.lost_to_conflicts, 4),
+                    "dropout_s": round(s.dropout_s, 1),
+                    "all_usable_passes": s.all_usable_passes,
+                    "all_usable_minutes": round(s.all_usable_minutes, 2),
+                    "all_data_volume_mbit": round(s.all_data_volume_mbit, 3),
+                    "all_dropouts": s.all_dropouts,
                 }
                 for s in self.ranking
             ],
+            "totals_basis": ONE_RECEIVER_LIMIT_TEXT,
+            "usable_rule": self.usable_rule,
+            "lead_db": None if self.lead_db is None else round(self.lead_db, 2),
+            "uncertain_terms": [dict(c) for c in self.checks],
             "robust": self.robust,
             "winner_by_shift_db": {f"{k:+g}": v for k, v in sorted(self.winner_by_shift_db.items())},
             "explanation": self.explanation,
@@ -164,15 +189,21 @@ def score_candidates(
         result = schedule(rows)
         schedules[candidate] = result
         chosen = result.chosen
+        every = rows.loc[rows["usable"].astype(bool)]
         scores.append(
             CandidateScore(
                 candidate=candidate,
                 score=_objective_value(result.value, objective),
                 unconstrained_score=_objective_value(result.unconstrained_value, objective),
-                usable_minutes=float(chosen["usable_s"].sum()) / 60.0 if len(chosen) else 0.0,
-                data_volume_mbit=float(chosen["data_volume_bit"].sum()) / 1e6 if len(chosen) else 0.0,
+                usable_minutes=float(chosen["usable_s"].sum()) / 60.0,
+                data_volume_mbit=float(chosen["data_volume_bit"].sum()) / 1e6,
                 usable_passes=int(len(chosen)),
-                dropouts=int(chosen["dropouts"].sum()) if len(chosen) else 0,
+                dropouts=int(chosen["dropouts"].sum()),
+                dropout_s=float(chosen["dropout_s"].sum()),
+                all_usable_passes=int(len(every)),
+                all_usable_minutes=float(every["usable_s"].sum()) / 60.0,
+                all_data_volume_mbit=float(every["data_volume_bit"].sum()) / 1e6,
+                all_dropouts=int(every["dropouts"].sum()),
             )
         )
     scores.sort(key=lambda s: (-s.score, -s.usable_minutes, s.candidate))
@@ -201,7 +232,8 @@ def recommend(forecast: Forecast, satellites, candidates) -> Recommendation:
     """Rank the forecast's candidates and recommend one, with the reasons and the robustness check.
 
     ``satellites`` are the satellites' configurations (their radio, for the re-scored shifts);
-    ``candidates`` maps each candidate's name to its planner.study.Candidate (for the feed notes).
+    ``candidates`` maps each candidate's name to its planner.study.Candidate (for the feed notes
+    and the uncertain terms).
     """
     criteria = forecast.criteria
     objective = criteria.objective
@@ -214,20 +246,185 @@ def recommend(forecast: Forecast, satellites, candidates) -> Recommendation:
         shifted = summarize_passes(forecast.samples, forecast.passes, criteria, satellites, margin_shift_db=shift)
         winners[shift] = score_candidates(shifted, objective, forecast.candidates)[0][0].candidate
     robust = all(name == best.candidate for name in winners.values())
+    # No lead in dB without a runner-up, or when the leader collects nothing (there is no lead).
+    lead_db = lead_in_db(forecast, satellites, ranking) if len(ranking) > 1 and best.score > 0 else None
+    checks = uncertain_terms(forecast, satellites, candidates, ranking, winners, lead_db)
     notes = feed_data_notes([candidates[name] for name in forecast.candidates])
-    explanation = " ".join([explain(forecast, ranking, winners, objective, forecast.days), *notes])
+    usable_rule = usable_rule_text(criteria, satellites)
+    sentences = [
+        explain(forecast, ranking, winners, objective, forecast.days, satellites=satellites),
+        checks_text(ranking, lead_db, criteria.budget_uncertainty_db, checks),
+        usable_rule,
+        *notes,
+    ]
     return Recommendation(
         recommended=best.candidate,
         objective=objective,
         score_unit=_score_unit(objective),
         ranking=ranking,
-        explanation=explanation,
+        explanation=" ".join(s for s in sentences if s),
         robust=robust,
         winner_by_shift_db=winners,
         schedules=schedules,
         notes=notes,
         model_notes=list(forecast.model_notes),
+        usable_rule=usable_rule,
+        lead_db=lead_db,
+        checks=checks,
     )
+
+
+# The lead in dB is found to this resolution, up to this many dB (a larger lead is "more than").
+_LEAD_RESOLUTION_DB = 0.05
+_LEAD_CAP_DB = 10.0
+
+
+def lead_in_db(forecast: Forecast, satellites, ranking: list[CandidateScore]) -> float:
+    """How many dB the leader's budget alone can lose before the runner-up scores more.
+
+    The leader's margins are shifted down by x dB (the runner-up's stay) and its one-receiver score
+    recomputed; the lead is the smallest x at which the runner-up's score is higher, found by
+    bisection (a score only falls as the margin falls). Returns ``_LEAD_CAP_DB`` when the leader
+    still wins at that shift. This puts a comparison's lead on the same scale as the uncertain
+    terms of a budget (dB), which a percentage of the score does not.
+    """
+    best, runner = ranking[0], ranking[1]
+    samples = forecast.samples.loc[forecast.samples["candidate"] == best.candidate]
+    criteria, objective = forecast.criteria, forecast.criteria.objective
+
+    def leader_loses(shift_db: float) -> bool:
+        shifted = summarize_passes(samples, forecast.passes, criteria, satellites, margin_shift_db=-shift_db)
+        score = score_candidates(shifted, objective, [best.candidate])[0][0].score
+        return score < runner.score
+
+    if samples.empty or not leader_loses(_LEAD_CAP_DB):
+        return _LEAD_CAP_DB
+    low, high = 0.0, _LEAD_CAP_DB
+    while high - low > _LEAD_RESOLUTION_DB:
+        middle = 0.5 * (low + high)
+        low, high = (low, middle) if leader_loses(middle) else (middle, high)
+    return high
+
+
+# Suggested tolerances of the terms a budget is least sure of. Common practice, no published
+# source: a computed pattern is rarely better than about 1 dB overhead and 2 dB near the horizon
+# (ground and mast effects); a small satellite's EIRP is seldom known to better than 2 dB; cable
+# loss data sheets and connectors leave about 0.5 dB on a run; a surveyed horizon, about 2 deg.
+PATTERN_TOLERANCE_DB = 1.0
+PATTERN_HORIZON_TOLERANCE_DB = 2.0
+EIRP_TOLERANCE_DB = 2.0
+FEEDLINE_TOLERANCE_DB = 0.5
+HORIZON_MASK_TOLERANCE_DEG = 2.0
+LOW_BAND = f"{ELEVATION_BANDS_DEG[0][0]}-{ELEVATION_BANDS_DEG[0][1]}"
+
+
+def _term(term: str, tolerance: float, unit: str, set_in: str, why: str) -> dict:
+    return {"term": term, "tolerance": round(float(tolerance), 2), "unit": unit, "set_in": set_in, "why": why}
+
+
+def _low_band_matters(forecast: Forecast, best: str, runner: str) -> bool:
+    """Whether the two set-ups differ notably on passes peaking below the first band edge."""
+    bands = _band_minutes(forecast.outcomes) if len(forecast.outcomes) else pd.DataFrame()
+    if best not in bands.index or runner not in bands.index:
+        return False
+    return abs(float(bands.loc[best, LOW_BAND] - bands.loc[runner, LOW_BAND])) >= _NOTABLE_MINUTES
+
+
+def _cable_plan(candidate) -> tuple:
+    return (
+        candidate.feedline,
+        candidate.connectors,
+        candidate.connector_loss_db,
+        candidate.lna_position,
+        candidate.pre_lna_feedline,
+        candidate.pre_lna_connectors,
+        candidate.pre_lna_loss_db,
+    )
+
+
+def tumbling_fade_db(forecast: Forecast, satellites, candidate: str) -> float | None:
+    """Median depth (dB) of the fade at criteria.fade_percentile below the expected margin, over
+    the candidate's samples of tumbling linear satellites; None when there are none."""
+    tumbling = {s.name for s in satellites if getattr(s, "polarization", None) == TUMBLING_POLARIZATION}
+    samples = forecast.samples
+    if not tumbling or samples.empty:
+        return None
+    mine = samples.loc[(samples["candidate"] == candidate) & samples["satellite"].isin(tumbling)]
+    depth = (mine["margin_db"] - mine["margin_at_fade_db"]).to_numpy(dtype=float)
+    return float(pd.Series(depth).median()) if len(depth) else None
+
+
+def uncertain_terms(forecast, satellites, candidates, ranking, winners, lead_db) -> list[dict]:
+    """The budget terms that can overturn this comparison, each with a tolerance and its scenario key.
+
+    Terms that differ between the leader and the runner-up (pattern, cable plan, feed match) matter
+    when the lead in dB is within ``criteria.budget_uncertainty_db``; terms common to every set-up
+    (the satellites' EIRP, the tumbling fade, the horizon mask) matter when a common shift changes
+    the winner. An empty list means neither happens.
+    """
+    if len(ranking) < 2:
+        return []
+    criteria = forecast.criteria
+    best, runner = ranking[0].candidate, ranking[1].candidate
+    low_band = _low_band_matters(forecast, best, runner)
+    terms = []
+    if lead_db is not None and lead_db <= float(criteria.budget_uncertainty_db):
+        why = f"differs between {best} and {runner}; the lead is worth {lead_db:.2f} dB"
+        if low_band:
+            terms.append(
+                _term(
+                    f"pattern table accuracy near the horizon, below {ELEVATION_BANDS_DEG[0][1]} deg elevation",
+                    PATTERN_HORIZON_TOLERANCE_DB,
+                    "dB",
+                    "[[candidate]] pattern",
+                    why,
+                )
+            )
+        else:
+            terms.append(_term("pattern table accuracy", PATTERN_TOLERANCE_DB, "dB", "[[candidate]] pattern", why))
+        a, b = candidates.get(best), candidates.get(runner)
+        if a is not None and b is not None and _cable_plan(a) != _cable_plan(b):
+            terms.append(_term("feedline loss", FEEDLINE_TOLERANCE_DB, "dB", "[[candidate]] feedline, connectors", why))
+        if a is not None and b is not None and None in (a.feed_vswr_source, b.feed_vswr_source):
+            terms.append(
+                _term("feed match (VSWR)", FEEDLINE_TOLERANCE_DB, "dB", "[[candidate]] feed_vswr", why + "; no feed data for one")
+            )
+    flips = sorted(shift for shift, name in winners.items() if name != best)
+    if flips:
+        why = "common to every set-up; " + ", ".join(f"at {k:+g} dB {winners[k]} ranks first" for k in flips)
+        terms.append(
+            _term("satellite EIRP", EIRP_TOLERANCE_DB, "dB", "[[satellite]] tx_power_w, antenna_gain_dbi, line_loss_db", why)
+        )
+        fade = tumbling_fade_db(forecast, satellites, best)
+        if fade is not None and fade > 0:
+            terms.append(
+                _term(
+                    f"the tumbling fade (the {float(criteria.fade_percentile):g} % fade below the expected margin)",
+                    fade,
+                    "dB",
+                    "[criteria] fade_percentile, [[satellite]] polarization",
+                    why,
+                )
+            )
+        if low_band:
+            terms.append(_term("horizon mask", HORIZON_MASK_TOLERANCE_DEG, "deg", "[station] horizon_mask", why))
+    return terms
+
+
+def checks_text(ranking: list[CandidateScore], lead_db: float | None, uncertainty_db: float, checks: list[dict]) -> str:
+    """The "Check the uncertain terms" sentence, or why none needs checking."""
+    if lead_db is None:
+        return ""
+    best, runner = ranking[0].candidate, ranking[1].candidate
+    more = "more than " if lead_db >= _LEAD_CAP_DB else ""
+    lead = f"The lead of {best} over {runner} is worth {more}{lead_db:.2f} dB of its budget"
+    if not checks:
+        return (
+            f"{lead}, beyond budget_uncertainty_db = {float(uncertainty_db):g} dB, and no common shift changes the winner: "
+            "no uncertain term within its usual tolerance overturns it."
+        )
+    named = "; ".join(f"{c['term']} (+/-{c['tolerance']:g} {c['unit']}; set in {c['set_in']})" for c in checks)
+    return f"{lead} (budget_uncertainty_db = {float(uncertainty_db):g} dB). Check the uncertain terms before building: {named}."
 
 
 def _band_minutes(outcomes: pd.DataFrame) -> pd.DataFrame:
@@ -249,13 +446,52 @@ def _join(items: list[str]) -> str:
     return ", ".join(items[:-1]) + " and " + items[-1]
 
 
-def explain(forecast: Forecast, ranking: list[CandidateScore], winners: dict[float, str], objective: str, days: float) -> str:
+def voice_satellites(satellites) -> list[str]:
+    """Names of the satellites that carry voice (no data volume), in scenario order."""
+    return [s.name for s in satellites if getattr(s, "modulation", None) in VOICE_MODULATIONS]
+
+
+def voice_text(voice: list[str], objective: str) -> str:
+    """What a voice satellite is worth under the data-volume objective: nothing, and how to rank it."""
+    if objective != "data-volume" or not voice:
+        return ""
+    one = len(voice) == 1
+    return (
+        f"{_join(voice)} {'scores' if one else 'score'} 0 weighted Mbit: voice has no data volume; "
+        'use objective = "usable-time" to rank by contact time.'
+    )
+
+
+def _dropout_sentence(best: CandidateScore, runner: CandidateScore) -> str:
+    """Dropouts in the kept passes, the numbers of the ranking table, and the no-limit count beside them."""
+    if best.dropouts == runner.dropouts:
+        return ""
+    fewer = "fewer" if best.dropouts < runner.dropouts else "more"
+    return (
+        f"In the passes one receiver keeps it has {best.dropouts} dropouts ({best.dropout_s:.0f} s) against "
+        f"{runner.dropouts} ({runner.dropout_s:.0f} s) for {runner.candidate}: {fewer} pattern nulls along the tracks "
+        f"(over every usable pass, no one-receiver limit, {best.all_dropouts} against {runner.all_dropouts})."
+    )
+
+
+def explain(
+    forecast: Forecast,
+    ranking: list[CandidateScore],
+    winners: dict[float, str],
+    objective: str,
+    days: float,
+    *,
+    satellites=(),
+) -> str:
     """Plain sentences: why the recommended set-up wins, and what it gives up."""
     unit = _score_unit(objective)
     best = ranking[0]
     sentences = [
         f"Recommended: {best.candidate}. With one receiver it collects {best.score:.2f} {unit} in {days:g} days "
-        f"({best.usable_passes} usable passes, {best.usable_minutes:.1f} usable minutes, {best.data_volume_mbit:.1f} Mbit)."
+        f"({best.usable_passes} usable passes, {best.usable_minutes:.1f} usable minutes, {best.data_volume_mbit:.1f} Mbit, "
+        f"{best.dropouts} dropouts; without the one-receiver limit, as planner week counts, {best.all_usable_passes} "
+        f"usable passes and {best.all_usable_minutes:.1f} minutes, {best.all_usable_passes - best.usable_passes} passes "
+        "more than one receiver can take)."
     ]
     if len(ranking) == 1:
         return " ".join(sentences)
@@ -282,25 +518,21 @@ def explain(forecast: Forecast, ranking: list[CandidateScore], winners: dict[flo
         if not wins and not losses:
             sentences.append(f"By maximum-elevation band it differs from {runner.candidate} by less than {_NOTABLE_MINUTES} min.")
 
-    drops = outcomes[outcomes["usable"]].groupby("candidate")[["dropouts", "dropout_s"]].sum()
-    if best.candidate in drops.index and runner.candidate in drops.index:
-        b, r = drops.loc[best.candidate], drops.loc[runner.candidate]
-        if b["dropouts"] != r["dropouts"]:
-            fewer = "fewer" if b["dropouts"] < r["dropouts"] else "more"
-            sentences.append(
-                f"Across all its usable passes it shows {int(b['dropouts'])} dropouts ({b['dropout_s']:.0f} s) against "
-                f"{int(r['dropouts'])} ({r['dropout_s']:.0f} s) for {runner.candidate}: {fewer} pattern nulls along the tracks."
-            )
+    sentences.append(_dropout_sentence(best, runner))
 
+    voice = voice_satellites(satellites)
     sats = _satellite_minutes(outcomes)
     if best.candidate in sats.index and runner.candidate in sats.index:
         difference = sats.loc[best.candidate] - sats.loc[runner.candidate]
+        if objective == "data-volume":  # a voice satellite adds nothing to this ranking
+            difference = difference.drop(labels=[v for v in voice if v in difference.index])
         better = [s for s, d in difference.items() if d >= _NOTABLE_MINUTES]
         worse = [s for s, d in difference.items() if d <= -_NOTABLE_MINUTES]
         if better:
             sentences.append(f"It hears more of {_join(better)}.")
         if worse:
             sentences.append(f"{runner.candidate} hears more of {_join(worse)}.")
+    sentences.append(voice_text([v for v in voice if v in set(outcomes["satellite"])], objective))
 
     lost = [s for s in ranking if s.lost_to_conflicts > 0]
     if lost:
@@ -316,5 +548,5 @@ def explain(forecast: Forecast, ranking: list[CandidateScore], winners: dict[flo
         sentences.append(f"The recommendation holds with every budget shifted by {span}.")
     else:
         changes = "; ".join(f"at {k:+g} dB {name} ranks first" for k, name in sorted(others.items()))
-        sentences.append(f"The recommendation is sensitive to the budget: {changes}. Check the uncertain terms before building.")
-    return " ".join(sentences)
+        sentences.append(f"The recommendation is sensitive to the budget: {changes}.")
+    return " ".join(s for s in sentences if s)

@@ -118,6 +118,7 @@ def week_rows(weekly) -> list[dict]:
                 "usable_minutes": round(float(record["usable_minutes"]), 2),
                 "data_volume_mbit": round(float(record["data_volume_mbit"]), 3),
                 "dropouts": int(record["dropouts"]),
+                "one_receiver_limit": False,  # every usable pass counts, overlapping or not
             }
         )
     return rows
@@ -131,11 +132,18 @@ def calendar_ics(outcomes, study, candidate: str) -> bytes:
     lists them). DTSTART/DTEND are the first and last usable moments of the pass, cut to the whole
     second (both are cut alike, so passes that do not overlap still do not). The UID is stable for
     the same satellite and AOS, so re-importing a calendar updates rather than duplicates.
+
+    Times are written on the station's clock (``study.station.time_zone``, see
+    :func:`_calendar_time`) so calendar apps show the station's local time; the instants stay
+    exact.  The description gives AOS, TCA and LOS in UTC and AOS/LOS in local time with the
+    zone's abbreviation.
     """
     from icalendar import Calendar, Event
 
     from planner.decision.forecast import schedule
+    from planner.timezones import local_text, zone_label
 
+    zone_name, longitude_deg = study.station.time_zone, study.station.longitude_deg
     calendar = Calendar()
     calendar.add("prodid", "-//planner//ground-station pass plan//EN")
     calendar.add("version", "2.0")
@@ -147,8 +155,8 @@ def calendar_ics(outcomes, study, candidate: str) -> bytes:
         event = Event()
         event.add("uid", f"{record['norad_id']}-{iso_utc(record['aos_utc']).replace(':', '')}@planner")
         event.add("dtstamp", study.start_utc)
-        event.add("dtstart", start.replace(microsecond=0))
-        event.add("dtend", end.replace(microsecond=0))
+        event.add("dtstart", _calendar_time(start.replace(microsecond=0), zone_name))
+        event.add("dtend", _calendar_time(end.replace(microsecond=0), zone_name))
         event.add("summary", f"{record['satellite']} pass, max el {record['max_elevation_deg']:.0f} deg")
         event.add("location", study.station.name)
         event.add(
@@ -157,10 +165,47 @@ def calendar_ics(outcomes, study, candidate: str) -> bytes:
             f"(min {record['min_margin_db']:.1f}, median {record['median_margin_db']:.1f} dB). "
             f"AOS {iso_utc(record['aos_utc'])}, TCA {iso_utc(record['tca_utc'])}, LOS {iso_utc(record['los_utc'])}. "
             f"Usable {iso_utc(start)} to {iso_utc(end)} ({record['usable_s']:.0f} s), {record['dropouts']} dropouts, "
-            f"{record['data_volume_bit'] / 1e6:.2f} Mbit.",
+            f"{record['data_volume_bit'] / 1e6:.2f} Mbit. "
+            f"Local time, {zone_label(zone_name, longitude_deg)}: "
+            f"AOS {local_text(record['aos_utc'], zone_name, longitude_deg)}, "
+            f"LOS {local_text(record['los_utc'], zone_name, longitude_deg)}.",
         )
         calendar.add_component(event)
+    timezone = _vtimezone(zone_name, study.start_utc, study.end_utc)
+    if timezone is not None and len(kept):
+        calendar.subcomponents.insert(0, timezone)
     return calendar.to_ical()
+
+
+def _calendar_time(moment: datetime, zone_name: str) -> datetime:
+    """An instant as a calendar writes it: the station's IANA zone (DTSTART;TZID=...), else UTC.
+
+    UTC itself and ``local-mean-solar`` (a clock no calendar app knows) keep the UTC ``Z`` form.
+    """
+    from planner.timezones import is_mean_solar, zone_info
+
+    if zone_name == "UTC" or is_mean_solar(zone_name):
+        return moment.astimezone(UTC)
+    return moment.astimezone(zone_info(zone_name))
+
+
+def _vtimezone(zone_name: str, start_utc: datetime, end_utc: datetime):
+    """The VTIMEZONE (RFC 5545, 3.6.5) an event with TZID needs, covering the window; None for UTC forms.
+
+    icalendar builds it from the zoneinfo rules; a day either side of the window keeps every
+    event's local time inside the span it describes.
+    """
+    from icalendar import Timezone
+
+    from planner.timezones import is_mean_solar, zone_info
+
+    if zone_name == "UTC" or is_mean_solar(zone_name):
+        return None
+    return Timezone.from_tzinfo(
+        zone_info(zone_name),
+        first_date=(start_utc - timedelta(days=1)).date(),
+        last_date=(end_utc + timedelta(days=1)).date(),
+    )
 
 
 def pass_of_widest_spread(forecast) -> tuple[str, int] | None:
@@ -259,6 +304,13 @@ def _slug(text: str) -> str:
     return "".join(c.lower() if c.isalnum() else "-" for c in text).strip("-")
 
 
+def _hours_zone(study) -> str:
+    """The clock the hour tables count in, as their ``time_zone`` column names it."""
+    from planner.timezones import zone_label
+
+    return zone_label(study.station.time_zone, study.station.longitude_deg)
+
+
 def _markdown_table(rows: list[dict]) -> str:
     if not rows:
         return "(none)\n"
@@ -272,7 +324,7 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
     """A report folder: tables as CSV, figures, the recommended set-up's calendar, summary.md."""
     from pathlib import Path
 
-    from planner.decision.forecast import band_table, hour_table
+    from planner.decision.forecast import NO_RECEIVER_LIMIT_TEXT, ONE_RECEIVER_LIMIT_TEXT, band_table, hour_table
     from planner.decision.recommend import DROPPED_ROW_KEYS
     from planner.fileio import REPLACE_ANY, ensure_folder, write_atomically
     from planner.link.safety import STATION_CAUTIONS
@@ -285,7 +337,7 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
         "weekly.csv": (week_rows(forecast.weekly), WEEK_COLUMNS),
         "passes.csv": (_records(outcomes), list(outcomes.columns)),
         "bands.csv": (_records(band_table(forecast.outcomes)), None),
-        "hours.csv": (_records(hour_table(forecast.outcomes)), None),
+        "hours.csv": (_records(hour_table(forecast.outcomes, _hours_zone(study))), None),
         "ranking.csv": (recommendation.to_contract()["ranking"], None),
         "dropped.csv": (recommendation.dropped_rows(), DROPPED_ROW_KEYS),
     }
@@ -306,7 +358,10 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
             "usable passes": s.usable_passes,
             "usable minutes": f"{s.usable_minutes:.1f}",
             "data volume (Mbit)": f"{s.data_volume_mbit:.1f}",
+            "dropouts": s.dropouts,
             "lost to conflicts": f"{s.lost_to_conflicts:.2f}",
+            "usable passes, no limit": s.all_usable_passes,
+            "dropouts, no limit": s.all_dropouts,
         }
         for s in recommendation.ranking
     ]
@@ -324,14 +379,19 @@ def write_report(folder, study, forecast, recommendation, *, rules=None) -> list
         "",
         "## Ranking (one receiver)",
         "",
-        _markdown_table(ranking),
-        "## Per candidate and satellite",
+        ONE_RECEIVER_LIMIT_TEXT + ' The "no limit" columns count every usable pass, as planner week does.',
         "",
-        _markdown_table(week_rows(forecast.weekly)),
+        _markdown_table(ranking),
+        "## Per candidate and satellite (no one-receiver limit)",
+        "",
+        NO_RECEIVER_LIMIT_TEXT,
+        "",
+        _markdown_table([{k: v for k, v in row.items() if k != "one_receiver_limit"} for row in week_rows(forecast.weekly)]),
         "## Files",
         "",
         "- `weekly.csv`, `passes.csv`, `bands.csv`, `hours.csv`, `ranking.csv`, `compare.json`",
         f"- `calendar.ics`: the passes one receiver takes with {recommendation.recommended} (RFC 5545)",
+        f"- local hours (`hours.csv`, `local_hour` in `passes.csv`) and calendar times: {_hours_zone(study)}",
         f"- `dropped.csv`: the usable passes of {recommendation.recommended} left out for a conflict, "
         "each with the kept pass it overlaps",
         f"- `build_sheet.md`, `build_sheet.json`: what to cut and assemble for {recommendation.recommended}",

@@ -67,6 +67,7 @@ class Station:
     altitude_m: float = 0.0
     mask: HorizonMask = field(default_factory=lambda: HorizonMask.flat(0.0))
     noise_environment: str = "rural"  # ITU-R P.372 man-made noise category of the surroundings
+    time_zone: str = "UTC"  # IANA name or "local-mean-solar" (planner.timezones): the clock of local hours
 
     @classmethod
     def from_config(cls, config) -> Station:
@@ -78,6 +79,7 @@ class Station:
             altitude_m=config.altitude_m,
             mask=HorizonMask.from_points(config.horizon_mask),
             noise_environment=config.noise_environment,
+            time_zone=config.time_zone,
         )
 
     @property

@@ -31,7 +31,7 @@ from pydantic import (
 )
 
 from planner.bounds import LATEST_YEAR, MAX_OMM_CATALOG_NUMBER, SUPPORTED_YEARS, in_supported_years
-from planner.errors import UserError
+from planner.errors import UserError, quoted
 from planner.limits import NETWORK_STATIONS_LIMIT, TRACK_STEP_MIN_S, WINDOW_DAYS_LIMIT
 from planner.scenario.fields import (
     Altitude,
@@ -47,6 +47,7 @@ from planner.scenario.fields import (
     _resolve_file,
     _show,
 )
+from planner.timezones import ALLOWED_TIME_ZONES, DEFAULT_TIME_ZONE, canonical_time_zone
 
 SECONDS_PER_DAY = 86400.0
 _STRICT = ConfigDict(extra="forbid")
@@ -67,7 +68,7 @@ _MASK_ELEVATION = _Range(-10, 90)
 
 
 class StationConfig(BaseModel):
-    """The ground station: WGS84 site, horizon mask and man-made noise environment."""
+    """The ground station: WGS84 site, horizon mask, man-made noise environment and time zone."""
 
     model_config = _STRICT
 
@@ -77,6 +78,17 @@ class StationConfig(BaseModel):
     altitude_m: Altitude = 0.0  # above the WGS84 ellipsoid
     horizon_mask: float | list[tuple[float, float]] = Field(default=0.0, description=_ALLOWED_HORIZON)
     noise_environment: Choice[Literal["city", "residential", "rural", "quiet-rural"]] = "rural"
+    time_zone: str = Field(default=DEFAULT_TIME_ZONE, description=ALLOWED_TIME_ZONES)  # clock of hour tables, calendar
+
+    @field_validator("time_zone", mode="plain")
+    @classmethod
+    def _time_zone(cls, value: Any) -> str:
+        if not isinstance(value, str):
+            raise _error(f"expected a time zone name in quotes, got {_show(value)}", ALLOWED_TIME_ZONES)
+        try:
+            return canonical_time_zone(value)
+        except ValueError:
+            raise _error(f"unknown time zone {quoted(value)}", ALLOWED_TIME_ZONES) from None
 
     @field_validator("horizon_mask", mode="plain")
     @classmethod
