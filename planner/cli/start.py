@@ -32,6 +32,9 @@ altitude_m = 142                  # above the WGS84 ellipsoid, -500 to 9000
 horizon_mask = [[0, 3], [90, 5], [180, 8], [270, 2]]
 # Man-made radio noise at the site (ITU-R P.372): one of city, residential, rural, quiet-rural.
 noise_environment = "rural"
+# The clock of the hour tables and the calendar: an IANA time zone name such as
+# "Europe/London", "UTC", or "local-mean-solar".
+time_zone = "UTC"
 
 [window]
 start_utc = 2027-01-04T00:00:00Z  # first moment predicted, UTC
