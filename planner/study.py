@@ -136,7 +136,7 @@ class Study:
         window = scenario.window
         check_element_age([t.element_set for t in targets], window.start_utc, window.end_utc, allow_stale=allow_stale)
         site = scenario.station if station is None else scenario.station_named(station)
-        cables = _cable_catalog(scenario)
+        cables = cable_catalog(scenario)
         transmitter = scenario.transmitter
         return cls(
             scenario=scenario,
@@ -261,7 +261,8 @@ class Study:
 # ---------------------------------------------------------------------- resolving the scenario
 
 
-def _cable_catalog(scenario: Scenario) -> dict:
+def cable_catalog(scenario: Scenario) -> dict:
+    """The scenario's own [[cable]] tables as fitted cables, by name (they win over the catalog)."""
     from planner.link.feedline import cable_from_points
 
     return {c.name: cable_from_points(c.name, c.loss_db_per_100m, c.impedance_ohm, c.velocity_factor) for c in scenario.cable}

@@ -192,7 +192,7 @@ def test_data_volume_is_usable_time_times_rate_times_framing(day, study):
     assert (voice.data_volume_bit == 0).all()
     assert (voice.usable_s > 0).any(), "the FM repeater should have usable time on some candidate"
     # Under the usable-time objective the value is weight x usable seconds, FM included.
-    timed = study.criteria.model_copy(update={"objective": "usable_time"})
+    timed = study.criteria.model_copy(update={"objective": "usable-time"})
     again = summarize_passes(day.samples, day.passes, timed, study.satellites)
     weights = again.satellite.map({s.name: s.weight for s in study.scenario.satellite})
     np.testing.assert_allclose(again.value, weights * again.usable_s, rtol=1e-12)

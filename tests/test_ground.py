@@ -391,5 +391,5 @@ def test_pattern_build_list_shows_the_ground_parameters():
     )
     assert result.returncode == 0, result.stderr
     for name in ("ground", "ground_permittivity", "ground_conductivity_s_per_m", "mast_height_m"):
-        assert any(line.startswith(f"{name} = ") for line in result.stdout.splitlines()), name
+        assert any(line.startswith(f"{name}: ") for line in result.stdout.splitlines()), name
     assert "medium-dry-ground" in result.stdout

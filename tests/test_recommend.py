@@ -246,13 +246,13 @@ def test_a_voice_satellite_scores_nothing_under_data_volume(demo_short):
     # CALDERWISP is analog FM voice (scenarios/demo.toml): no data volume, so nothing under the
     # data-volume objective (common practice, no published source: voice carries no bits).
     _, study, result, decision = demo_short
-    assert decision.objective == "data_volume"
+    assert decision.objective == "data-volume"
     voice = result.outcomes[result.outcomes["satellite"] == "CALDERWISP"]
     assert len(voice) and (voice["data_volume_bit"] == 0).all()
-    wording = "CALDERWISP scores 0 weighted Mbit: voice has no data volume; use objective = usable_time to rank by contact time."
+    wording = 'CALDERWISP scores 0 weighted Mbit: voice has no data volume; use objective = "usable-time" to rank by contact time.'
     assert wording in decision.explanation
     assert not re.search(r"hears more of [^.]*CALDERWISP", decision.explanation)
-    assert voice_text(["CALDERWISP"], "usable_time") == ""
+    assert voice_text(["CALDERWISP"], "usable-time") == ""
 
 
 def test_usable_margin_wording_is_in_the_recommendation(demo_short):

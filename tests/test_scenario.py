@@ -357,7 +357,7 @@ BAD_CASES = [
     pytest.param(
         'noise_environment = "rural"',
         'noise_environment = "urban"',
-        ["station.noise_environment: 'urban' is not one of the choices", '"quiet_rural"'],
+        ["station.noise_environment: 'urban' is not one of the choices", '"quiet-rural"'],
         id="unknown noise environment",
     ),
     pytest.param(

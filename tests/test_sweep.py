@@ -60,7 +60,7 @@ def test_sweep_scores_each_spacing_as_a_candidate(tmp_path):
     # Each row equals a plain forecast of the shipped table at that spacing (consistency check,
     # no outside value: the forecast is checked against hand-worked windows in test_forecast.py).
     for spacing, name in ((0.25, "turnstile-close"), (0.75, "turnstile-far")):
-        expected = score_candidates(forecast(study, [name]).outcomes, "data_volume")[0][0]
+        expected = score_candidates(forecast(study, [name]).outcomes, "data-volume")[0][0]
         row = result.table[result.table["spacing_wavelengths"] == spacing].iloc[0]
         assert row["score"] == pytest.approx(expected.score, rel=1e-3)
         assert row["usable_minutes"] == pytest.approx(expected.usable_minutes, rel=1e-3)

@@ -13,7 +13,7 @@ import warnings
 
 # Importing a command module registers its commands, in the order `planner --help` lists them.
 # isort: off
-from planner.cli import passes, budget, forecast, sweep, pattern, harness, sheet  # noqa: F401
+from planner.cli import passes, budget, forecast, sweep, pattern, harness, sheet, cables, start  # noqa: F401
 
 # isort: on
 from planner.cli.app import app

@@ -21,6 +21,12 @@ def _key_values(items: list[str]) -> dict[str, str]:
         if not sep or not key.strip():
             raise UserError(f"pattern build: {item!r} is not KEY=VALUE; e.g. spacing_wavelengths=0.2")
         values[key.strip()] = value.strip()
+    if "frequency_mhz" in values:  # as --frequency-mhz and --list give it; the models take hertz
+        text = values.pop("frequency_mhz")
+        try:
+            values["frequency_hz"] = str(float(text) * 1e6)
+        except ValueError:
+            raise UserError(f"pattern build: frequency_mhz={text!r} is not a number; e.g. frequency_mhz=436") from None
     return values
 
 
@@ -61,17 +67,21 @@ def pattern_build(
     if list_parameters:
         if template in WIRE:
             from planner.antenna.synth.tables import template_options
+            from planner.antenna.synth.templates import describe_parameter
 
             specs = dict(WIRE[template][1], **template_options(template))
             for name, spec in specs.items():
-                print(f"{name} = {spec.default!r}  ({spec.allowed}) {spec.help}")
+                print(describe_parameter(name, spec))
         else:
             import inspect
 
             for name, parameter in inspect.signature(ANALYTIC[template]).parameters.items():
-                print(
-                    f"{name} = {parameter.default!r}" if parameter.default is not inspect.Parameter.empty else f"{name} (required)"
-                )
+                if parameter.default is inspect.Parameter.empty:
+                    print(f"{name}: required")
+                elif name == "frequency_hz":
+                    print(f"frequency_mhz: default {parameter.default / 1e6:g} MHz")
+                else:
+                    print(f"{name}: default {parameter.default!r}")
         return
     if out is None:
         raise UserError("--out: give the file to write the pattern table to")

@@ -519,7 +519,7 @@ def summarize_passes(
     outcomes["usable"] = is_usable_pass(usable_time, criteria)
     outcomes["data_volume_bit"] = volume
     outcomes["weight"] = weight
-    outcomes["value"] = weight * (volume if criteria.objective == "data_volume" else usable_time)
+    outcomes["value"] = weight * (volume if criteria.objective == "data-volume" else usable_time)
     return outcomes.loc[:, list(OUTCOME_COLUMNS)].reset_index(drop=True)
 
 

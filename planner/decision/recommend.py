@@ -2,7 +2,7 @@
 
 The score of a candidate is what a station with one receiver can actually collect in
 the window: the one-receiver schedule's value under the scenario's objective
-(``data_volume``: weight x megabits; ``usable_time``: weight x minutes). The
+(``data-volume``: weight x megabits; ``usable-time``: weight x minutes). The
 explanation compares the recommended set-up with the runner-up by maximum-elevation
 band, by dropouts (planner.decision.forecast.pass_dropouts, counted in the kept passes as
 in the ranking table) and by satellite. Robustness: every budget is shifted by -/+2 dB and by
@@ -168,12 +168,12 @@ def _utc_text(moment: datetime | None) -> str | None:
 
 
 def _score_unit(objective: str) -> str:
-    return "weighted Mbit" if objective == "data_volume" else "weighted minutes"
+    return "weighted Mbit" if objective == "data-volume" else "weighted minutes"
 
 
 def _objective_value(value: float, objective: str) -> float:
     """Schedule values are weight x bit or weight x seconds; report Mbit or minutes."""
-    return value / 1e6 if objective == "data_volume" else value / 60.0
+    return value / 1e6 if objective == "data-volume" else value / 60.0
 
 
 def score_candidates(
@@ -463,12 +463,12 @@ def voice_satellites(satellites) -> list[str]:
 
 def voice_text(voice: list[str], objective: str) -> str:
     """What a voice satellite is worth under the data-volume objective: nothing, and how to rank it."""
-    if objective != "data_volume" or not voice:
+    if objective != "data-volume" or not voice:
         return ""
     one = len(voice) == 1
     return (
         f"{_join(voice)} {'scores' if one else 'score'} 0 weighted Mbit: voice has no data volume; "
-        "use objective = usable_time to rank by contact time."
+        'use objective = "usable-time" to rank by contact time.'
     )
 
 
@@ -534,7 +534,7 @@ def explain(
     sats = _satellite_minutes(outcomes)
     if best.candidate in sats.index and runner.candidate in sats.index:
         difference = sats.loc[best.candidate] - sats.loc[runner.candidate]
-        if objective == "data_volume":  # a voice satellite adds nothing to this ranking
+        if objective == "data-volume":  # a voice satellite adds nothing to this ranking
             difference = difference.drop(labels=[v for v in voice if v in difference.index])
         better = [s for s, d in difference.items() if d >= _NOTABLE_MINUTES]
         worse = [s for s, d in difference.items() if d <= -_NOTABLE_MINUTES]

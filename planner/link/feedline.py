@@ -226,7 +226,11 @@ def get_cable(name: str, user_cables: Mapping[str, Cable] | None = None) -> Cabl
             if _key(candidate_name) == _key(name):
                 return cable
     allowed = sorted(set(CABLES) | set(user_cables or {}))
-    raise UserError(f"unknown cable '{name}'; allowed: {', '.join(allowed)} (or define your own cable)")
+    raise UserError(
+        f"unknown cable '{name}'; allowed: {', '.join(allowed)}; or define your own in the scenario as a "
+        "[[cable]] table with name, impedance_ohm, velocity_factor and loss_db_per_100m = "
+        "[[frequency_mhz, loss_db_per_100m], ...] (planner cables lists the catalog)"
+    )
 
 
 def cable_loss_db(cable: Cable, frequency_hz, length_m: float):

@@ -17,12 +17,13 @@ import os
 from collections.abc import Mapping
 from datetime import date, datetime, time
 from pathlib import Path
-from typing import Annotated, Any
+from typing import Annotated, Any, TypeVar
 
-from pydantic import Field, Strict, ValidationInfo
+from pydantic import BeforeValidator, Field, Strict, ValidationInfo
 from pydantic_core import PydanticCustomError, core_schema
 
 from planner.bounds import FREQUENCY_MAX_MHZ, FREQUENCY_MIN_MHZ, control_character
+from planner.choices import canonical_choice
 
 _ALLOWED_NAME = "one line of text in quotes, 1 to 80 characters"
 
@@ -157,6 +158,10 @@ class _NameCheck:
 
 
 Name = Annotated[str, Strict(), _NameCheck(), Field(description=_ALLOWED_NAME)]
+
+_Choices = TypeVar("_Choices")
+Choice = Annotated[_Choices, BeforeValidator(canonical_choice)]
+"""A choice key (``Choice[Literal["data-volume", ...]]``): the underscore spelling reads as the hyphen one."""
 
 Latitude = Annotated[Real, _Range(-90, 90)]
 Longitude = Annotated[Real, _Range(-180, 180)]

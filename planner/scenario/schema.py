@@ -35,6 +35,7 @@ from planner.errors import UserError, quoted
 from planner.limits import NETWORK_STATIONS_LIMIT, TRACK_STEP_MIN_S, WINDOW_DAYS_LIMIT
 from planner.scenario.fields import (
     Altitude,
+    Choice,
     Frequency,
     Latitude,
     Longitude,
@@ -76,7 +77,7 @@ class StationConfig(BaseModel):
     longitude_deg: Longitude  # east positive
     altitude_m: Altitude = 0.0  # above the WGS84 ellipsoid
     horizon_mask: float | list[tuple[float, float]] = Field(default=0.0, description=_ALLOWED_HORIZON)
-    noise_environment: Literal["city", "residential", "rural", "quiet_rural"] = "rural"
+    noise_environment: Choice[Literal["city", "residential", "rural", "quiet-rural"]] = "rural"
     time_zone: str = Field(default=DEFAULT_TIME_ZONE, description=ALLOWED_TIME_ZONES)  # clock of hour tables, calendar
 
     @field_validator("time_zone", mode="plain")
@@ -209,9 +210,9 @@ class RadioConfig(BaseModel):
     tx_power_w: Annotated[Real, _Range(0, 1000, lo_open=True)] = 1.0
     antenna_gain_dbi: Annotated[Real, _Range(-20, 40)] = 0.0
     line_loss_db: Annotated[Real, _Range(0, 20)] = 0.0
-    polarization: Literal["rhcp", "lhcp", "linear", "linear-tumbling"] = "linear-tumbling"
+    polarization: Choice[Literal["rhcp", "lhcp", "linear", "linear-tumbling"]] = "linear-tumbling"
     axial_ratio_db: Annotated[Real, _Range(0, 60)] = 0.0
-    modulation: Literal["bpsk", "qpsk", "dbpsk", "fsk-coherent", "fsk-noncoherent", "gmsk", "afsk-fm", "fm"] = "gmsk"
+    modulation: Choice[Literal["bpsk", "qpsk", "dbpsk", "fsk-coherent", "fsk-noncoherent", "gmsk", "afsk-fm", "fm"]] = "gmsk"
     data_rate_bps: Annotated[Real, _Range(0, lo_open=True)] = 9600.0
     target_ber: Annotated[Real, _Range(0, 0.5, lo_open=True, hi_open=True)] = 1e-5
     implementation_loss_db: Annotated[Real, _Range(0, 20)] = 2.0
@@ -223,7 +224,7 @@ class RadioConfig(BaseModel):
     # The satellite's receiver, for the uplink budget (used when uplink_mhz is given).
     uplink_rx_gain_dbi: Annotated[Real, _Range(-20, 40)] = 0.0
     uplink_rx_noise_temperature_k: Annotated[Real, _Range(10, 20000)] = 1000.0  # Earth fills its view
-    uplink_rx_polarization: Literal["rhcp", "lhcp", "linear", "linear-tumbling"] = "linear-tumbling"
+    uplink_rx_polarization: Choice[Literal["rhcp", "lhcp", "linear", "linear-tumbling"]] = "linear-tumbling"
     uplink_required_cn0_dbhz: Annotated[Real, _Range(0, lo_open=True)] | None = None
 
     @property
@@ -254,7 +255,7 @@ class SatelliteConfig(RadioConfig):
 _ALLOWED_PATTERN = (
     "the path of a pattern table (CSV, see patterns/README.md) in quotes; a relative path is taken from the scenario file's folder"
 )
-LnaPosition = Literal["antenna", "receiver", "none"]
+LnaPosition = Choice[Literal["antenna", "receiver", "none"]]
 
 
 class FeedlineRun(BaseModel):
@@ -417,7 +418,7 @@ class TransmitterConfig(BaseModel):
 
     power_w: Annotated[Real, _Range(0, 2000, lo_open=True)]
     antenna_gain_dbi: Annotated[Real, _Range(-20, 30)] = 0.0
-    polarization: Literal["rhcp", "lhcp", "linear"] = "rhcp"
+    polarization: Choice[Literal["rhcp", "lhcp", "linear"]] = "rhcp"
     feedline: list[FeedlineRun] = []
     connectors: Annotated[int, Strict(), _Range(0, 30)] = 2
     connector_loss_db: Annotated[Real, _Range(0, 2)] = 0.1
@@ -430,7 +431,7 @@ class CriteriaConfig(BaseModel):
 
     min_margin_db: Annotated[Real, _Range(-20, 40)] = 3.0
     min_usable_s: Annotated[Real, _Range(0, 3600)] = 60.0
-    objective: Literal["data_volume", "usable_time"] = "data_volume"
+    objective: Choice[Literal["data-volume", "usable-time"]] = "data-volume"
     fade_percentile: Annotated[Real, _Range(50, 99.9)] = 90.0  # for tumbling linear waves
     budget_uncertainty_db: Annotated[Real, _Range(0, 20)] = 2.0  # robustness check shifts
 

@@ -73,6 +73,7 @@ import numpy as np
 
 from planner.antenna.synth.geometry import MATERIALS, Port, Wire, WireModel
 from planner.antenna.synth.ground import GROUND_CHOICES, NOTE_KEY, check_clearance, ground_note, make_ground
+from planner.choices import canonical_choice
 from planner.constants import SPEED_OF_LIGHT_M_S
 from planner.errors import UserError
 
@@ -130,7 +131,7 @@ def _coerce(template: str, name: str, spec: Parameter, value: Any) -> Any:
             return None
         raise UserError(f"{lead} needs a value; allowed: {_allowed_text(spec)}")
     if spec.type is str:
-        text = str(value).strip().lower()
+        text = canonical_choice(str(value).lower())  # medium_dry_ground reads as medium-dry-ground
         if text not in spec.allowed:
             raise UserError(f"{lead} = {value!r} is not allowed; allowed: {_allowed_text(spec)}")
         return None if text == "none" else text
@@ -157,6 +158,28 @@ def _allowed_text(spec: Parameter) -> str:
     unit = spec.help.split(";")[0].strip() if ";" in spec.help else ""
     kind = "whole numbers " if spec.type is int else ""
     return f"{kind}{_fmt(low)}..{_fmt(high)}" + (f" {unit}" if unit else "")
+
+
+def describe_parameter(name: str, spec: Parameter) -> str:
+    """One line of ``pattern build TEMPLATE --list``: the parameter as typed, its choices or range
+    in words, its default and its meaning. A frequency is shown in MHz, as ``frequency_mhz=`` and
+    ``--frequency-mhz`` take it."""
+    unit, sep, meaning = spec.help.partition(";")
+    if not sep or len(unit.split()) > 2 or "(" in unit:  # a unit is a word or two before the ";"
+        unit, meaning = "", spec.help
+    unit, meaning, scale = unit.strip(), meaning.strip(), 1.0
+    if name == "frequency_hz":
+        name, unit, scale = "frequency_mhz", "MHz", 1e-6
+    suffix = f" {unit}" if unit else ""
+    if spec.type is str:
+        allowed = "one of: " + ", ".join(spec.allowed)
+        default = "none" if spec.default is None else str(spec.default)
+    else:
+        low, high = (value * scale for value in spec.allowed)
+        kind = "a whole number " if spec.type is int else ""
+        allowed = f"{kind}from {_fmt(low)} to {_fmt(high)}{suffix}"
+        default = "not set (see below)" if spec.default is None else f"{_fmt(spec.default * scale)}{suffix}"
+    return f"{name}: {allowed}; default {default}. {meaning}"
 
 
 def check_parameters(template: str, values: Mapping[str, Any]) -> dict[str, Any]:
