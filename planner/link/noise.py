@@ -116,7 +116,7 @@ def noise_temperature_to_figure_db(t_k):
 def _category(name: str) -> str:
     key = re.sub(r"[\s\-]+", "_", str(name).strip().lower())
     if key not in P372_CONSTANTS:
-        raise UserError(f"unknown noise environment '{name}'; allowed: {', '.join(P372_CONSTANTS)}")
+        raise UserError(f"unknown noise environment '{name}'; allowed: {', '.join(k.replace('_', '-') for k in P372_CONSTANTS)}")
     return key
 
 
