@@ -118,8 +118,8 @@ def test_man_made_extrapolation_is_noted_at_435_mhz():
 def test_unknown_environment_lists_allowed():
     with pytest.raises(UserError) as info:
         noise.man_made_noise_temperature_k(145 * MHZ, "suburban")
-    for name in noise.MAN_MADE_ENVIRONMENTS:
-        assert name in str(info.value)
+    for name in noise.MAN_MADE_ENVIRONMENTS:  # listed as a scenario spells them, with hyphens
+        assert name.replace("_", "-") in str(info.value)
     # Spelling variants of the categories are accepted.
     assert noise.p372_noise_factor_db(145 * MHZ, "Quiet rural") == noise.p372_noise_factor_db(145 * MHZ, "quiet_rural")
 

@@ -174,11 +174,11 @@ def test_report_folder_holds_tables_figures_and_summary(demo_short, tmp_path):
     assert ONE_RECEIVER_LIMIT_TEXT in " ".join(result.stdout.split())
     assert ONE_RECEIVER_LIMIT_TEXT in summary and NO_RECEIVER_LIMIT_TEXT in summary
     assert (tmp_path / "plan.ics").read_bytes().startswith(b"BEGIN:VCALENDAR")
-    # hours.csv names its clock: the demo station gives no time_zone, so UTC.
+    # hours.csv names its clock: the demo station's time_zone.
     hours = (report / "hours.csv").read_text().splitlines()
     assert hours[0].split(",")[:2] == ["candidate", "local_hour"] and hours[0].endswith(",time_zone")
-    assert len(hours) > 1 and all(line.endswith(",UTC") for line in hours[1:])
-    assert "calendar times: UTC" in (report / "summary.md").read_text()
+    assert len(hours) > 1 and all(line.endswith(",Europe/London") for line in hours[1:])
+    assert "calendar times: Europe/London" in (report / "summary.md").read_text()
     # The recommended set-up's build sheet, and the terminal output's last line points to the command.
     sheet = json.loads((report / "build_sheet.json").read_text())
     recommended = json.loads((report / "compare.json").read_text())["recommended"]

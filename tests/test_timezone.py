@@ -10,6 +10,7 @@ Astronomical Almanac, local mean time); RFC 5545 for the calendar (TZID, VTIMEZO
 from __future__ import annotations
 
 import dataclasses
+import re
 import warnings
 from datetime import UTC, datetime, timedelta
 from zoneinfo import ZoneInfo
@@ -26,6 +27,8 @@ from planner.timezones import LOCAL_MEAN_SOLAR, local_hours, local_text
 from tests.conftest import DEMO, ROOT, run_planner
 
 LONDON = "Europe/London"
+# The demo scenario with its station's time_zone line taken out: a station that names no zone.
+DEMO_WITHOUT_ZONE = re.sub(r"^time_zone = .*\n", "", DEMO.read_text(), count=1, flags=re.M)
 # EU summer time 2027 begins Sunday 28 March at 01:00 UTC (Directive 2000/84/EC, art. 2).
 LONDON_SPRING_FORWARD_UTC = datetime(2027, 3, 28, 1, 0, tzinfo=UTC)
 
@@ -100,8 +103,8 @@ def test_local_mean_solar_is_utc_plus_longitude_over_15(london):
     assert local_hours([datetime(2027, 3, 27, 0, 30, tzinfo=UTC)], LOCAL_MEAN_SOLAR, -165.0).tolist() == [13]
 
 
-def test_default_is_utc_and_the_hour_table_names_its_clock(london):
-    assert load_scenario(DEMO).station.time_zone == "UTC"
+def test_default_is_utc_and_the_hour_table_names_its_clock(london, tmp_path):
+    assert load_scenario(scenario_with_zone(tmp_path, "# no time_zone key")).station.time_zone == "UTC"
     study, numbered, result = london
     utc_table = pass_table(with_zone(study, "UTC"), numbered)
     assert list(utc_table["local_hour"]) == [t.astimezone(UTC).hour for t in utc_table["tca_utc"]]
@@ -127,7 +130,7 @@ def scenario_with_zone(tmp_path, line: str):
     for folder in ("sample_tle", "patterns"):
         (tmp_path / folder).symlink_to(ROOT / folder, target_is_directory=True)
     (tmp_path / "scenarios").mkdir()
-    text = DEMO.read_text().replace('noise_environment = "rural"\n', f'noise_environment = "rural"\n{line}\n', 1)
+    text = DEMO_WITHOUT_ZONE.replace('noise_environment = "rural"\n', f'noise_environment = "rural"\n{line}\n', 1)
     assert line in text
     path = tmp_path / "scenarios" / "zone.toml"
     path.write_text(text)
@@ -252,7 +255,7 @@ time_zone = "{zone}"
 
 def network_scenario(tmp_path, zone: str):
     path = tmp_path / "network.toml"
-    path.write_text(DEMO.read_text().replace('"../', f'"{ROOT}/') + PARTNER.format(zone=zone))
+    path.write_text(DEMO_WITHOUT_ZONE.replace('"../', f'"{ROOT}/') + PARTNER.format(zone=zone))
     return path
 
 
