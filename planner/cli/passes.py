@@ -157,7 +157,8 @@ def passes(
     several = len(studies) > 1
     rows = []
     for study in studies:
-        numbered = numbered_passes(study)
+        # The pass list prints no track; --candidate needs them for the budget along each pass.
+        numbered = numbered_passes(study, tracks=candidate is not None)
         found = [p for _, p in numbered]
         usable = usable_by_pass(study, candidate, numbered) if candidate is not None else None
         if format == "table":

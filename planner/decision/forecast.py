@@ -151,15 +151,16 @@ def usable_rule_text(criteria: CriteriaConfig, satellites) -> str:
 # ---------------------------------------------------------------------------- passes
 
 
-def numbered_passes(study) -> list[tuple[int, Pass]]:
+def numbered_passes(study, *, tracks: bool = True) -> list[tuple[int, Pass]]:
     """(pass_number, Pass) of the study's targets in AOS order; the number counts from 1 per satellite.
+    ``tracks=False``: passes without tracks (a pass list; :func:`forecast` needs them).
 
     A caller that forecasts the same study several times (the reflector sweep) predicts them
     once and hands them to :func:`forecast`.
     """
     counters: dict[str, int] = {}
     numbered = []
-    for a_pass in study.passes():
+    for a_pass in study.passes(tracks=tracks):
         counters[a_pass.satellite] = counters.get(a_pass.satellite, 0) + 1
         numbered.append((counters[a_pass.satellite], a_pass))
     return numbered
@@ -239,8 +240,9 @@ def _empty_samples() -> pd.DataFrame:
 
 def _satellite_tracks(mine: list[tuple[int, Pass]]) -> tuple:
     """One satellite's passes as flat float64 arrays: (pass_number, time_s, dt_s, azimuth, elevation, range)."""
-    lengths = np.array([len(p.track) for _, p in mine])
-    time_s = joined_time_s([p.track for _, p in mine])
+    tracks = [p.sampled_track() for _, p in mine]
+    lengths = np.array([len(track) for track in tracks])
+    time_s = joined_time_s(tracks)
     first = np.zeros(len(time_s), dtype=bool)
     first[np.cumsum(lengths)[:-1]] = True
     first[0] = True
@@ -248,9 +250,9 @@ def _satellite_tracks(mine: list[tuple[int, Pass]]) -> tuple:
         np.repeat(np.array([n for n, _ in mine], dtype=np.int64), lengths),
         time_s,
         trapezoid_weights(time_s, first),
-        np.concatenate([p.track.azimuth_deg for _, p in mine]),
-        np.concatenate([p.track.elevation_deg for _, p in mine]),
-        np.concatenate([p.track.range_km for _, p in mine]),
+        np.concatenate([track.azimuth_deg for track in tracks]),
+        np.concatenate([track.elevation_deg for track in tracks]),
+        np.concatenate([track.range_km for track in tracks]),
     )
 
 
