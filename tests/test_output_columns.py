@@ -15,7 +15,6 @@ import numpy as np
 import pytest
 
 from planner.cli.common import adhoc_study
-from planner.decision.forecast import numbered_passes
 from planner.output.columns import iso_utc_strings, pass_table, table_csv, table_json
 from planner.output.export import PASS_COLUMNS, iso_utc, pass_row, to_csv, to_json
 from planner.passes import Pass
@@ -44,7 +43,7 @@ def _invented_pass(satellite: str, aos_utc: datetime, value: float) -> Pass:
 
 def test_demo_scenario_gives_the_same_bytes():
     study = Study.from_scenario(load_scenario(DEMO))
-    passes = [p for _, p in numbered_passes(study, tracks=False)]
+    passes = study.passes(tracks=False)
     assert len(passes) > 50
     assert _column_writers(passes) == _row_writers(passes)
 
@@ -54,7 +53,7 @@ def test_elements_quick_look_gives_the_same_bytes():
     study = adhoc_study(
         ROOT / "sample_tle" / "example_catalog.tle", 47.3, 8.5, 400.0, "2027-01-04T00:00:00Z", 1.0, 5.0, 10.0, None, True
     )
-    passes = [p for _, p in numbered_passes(study, tracks=False)]
+    passes = study.passes(tracks=False)
     assert len(passes) > 1000
     assert _column_writers(passes) == _row_writers(passes)
 

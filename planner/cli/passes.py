@@ -120,7 +120,6 @@ def passes(
     force: bool = common.FORCE,
 ) -> None:
     """Predict every pass over the station, with AOS, TCA, LOS and sky track."""
-    from planner.decision.forecast import numbered_passes
     from planner.output.columns import concatenated, table_csv, table_json
     from planner.output.export import PASS_COLUMNS
 
@@ -158,10 +157,7 @@ def passes(
     several = len(studies) > 1
     tables = []
     for study in studies:
-        # The pass list prints no track; --candidate needs them for the budget along each pass.
-        numbered = numbered_passes(study, tracks=candidate is not None)
-        found = [p for _, p in numbered]
-        usable = usable_by_pass(study, candidate, numbered) if candidate is not None else None
+        found, usable = _passes_and_usable(study, candidate)
         if format == "table":
             _print_passes_table(study, found, usable, candidate)
         else:
@@ -171,6 +167,20 @@ def passes(
         common.emit(table_json(concatenated(tables, columns), columns), output, rules)
     elif format == "csv":
         common.emit(table_csv(concatenated(tables, columns), columns), output, rules)
+
+
+def _passes_and_usable(study, candidate: str | None) -> tuple[list, list[dict] | None]:
+    """The study's passes, and with a candidate the usable columns of each.
+
+    The pass list alone predicts no tracks and leaves the budget modules unimported (a
+    second of start-up); --candidate needs the tracks for the budget along each pass.
+    """
+    if candidate is None:
+        return study.passes(tracks=False), None
+    from planner.decision.forecast import numbered_passes
+
+    numbered = numbered_passes(study)
+    return [p for _, p in numbered], usable_by_pass(study, candidate, numbered)
 
 
 def _pass_columns(study, found, usable, several: bool) -> dict:

@@ -151,16 +151,15 @@ def usable_rule_text(criteria: CriteriaConfig, satellites) -> str:
 # ---------------------------------------------------------------------------- passes
 
 
-def numbered_passes(study, *, tracks: bool = True) -> list[tuple[int, Pass]]:
+def numbered_passes(study) -> list[tuple[int, Pass]]:
     """(pass_number, Pass) of the study's targets in AOS order; the number counts from 1 per satellite.
-    ``tracks=False``: passes without tracks (a pass list; :func:`forecast` needs them).
 
     A caller that forecasts the same study several times (the reflector sweep) predicts them
     once and hands them to :func:`forecast`.
     """
     counters: dict[str, int] = {}
     numbered = []
-    for a_pass in study.passes(tracks=tracks):
+    for a_pass in study.passes():
         counters[a_pass.satellite] = counters.get(a_pass.satellite, 0) + 1
         numbered.append((counters[a_pass.satellite], a_pass))
     return numbered
