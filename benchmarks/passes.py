@@ -9,13 +9,24 @@ places events to about 0.5 s) and worst maximum elevation, skyfield's culminatio
 being refined afterwards, untimed, by one parabolic step through its altitude at
 -0.5, 0 and +0.5 s.
 
+With ``--pass-list`` it times instead what a user runs: the ``planner passes --elements
+... --format csv`` command in a fresh interpreter (start-up, reading the elements and
+writing the CSV included), against the plain skyfield ``find_events`` loop without
+tracks over the same objects; each side ``--repeat`` times (fastest, median, slowest),
+with the agreement of the command's CSV (count, worst AOS/LOS difference; the CSV
+gives times to the second).
+
     .venv/bin/python benchmarks/passes.py [--satellites N] [--days D] [--step-s S]
+    .venv/bin/python benchmarks/passes.py --pass-list [--satellites N] [--days D] [--repeat R]
 """
 
 from __future__ import annotations
 
 import argparse
+import csv
 import os
+import statistics
+import subprocess
 import sys
 import tempfile
 import time
@@ -96,11 +107,82 @@ def refined_culminations(element_sets, station, reference):
     return refined
 
 
+def skyfield_events(element_sets, station, start, end):
+    """(norad_id, rise, set) of every complete pass from skyfield's find_events, no tracks."""
+    ts = load.timescale()
+    site = wgs84.latlon(station.latitude_deg, station.longitude_deg, elevation_m=station.altitude_m)
+    t0, t1 = ts.from_datetime(start), ts.from_datetime(end)
+    result = []
+    for e in element_sets:
+        sat = EarthSatellite.from_satrec(e.satrec, ts)
+        times, events = sat.find_events(site, t0, t1, altitude_degrees=0.0)
+        rise = None
+        for t, ev in zip(times, events):
+            if ev == 0:
+                rise = t
+            elif ev == 2 and rise is not None:
+                result.append((e.norad_id, rise.utc_datetime(), t.utc_datetime()))
+                rise = None
+    return result
+
+
+def _timed(run, repeat: int):
+    """(last result, wall times in s) of ``repeat`` runs."""
+    times = []
+    for _ in range(repeat):
+        t = time.perf_counter()
+        result = run()
+        times.append(time.perf_counter() - t)
+    return result, times
+
+
+def _spread(times) -> str:
+    return f"{min(times):7.2f} s fastest, {statistics.median(times):.2f} median, {max(times):.2f} slowest"
+
+
+def pass_list_mode(args, path: Path, element_sets, station, start, end) -> None:
+    """The command as a user runs it against the plain skyfield event loop (no tracks)."""
+    root = Path(__file__).resolve().parents[1]
+    out = path.with_suffix(".csv")
+    command = [sys.executable, "-m", "planner", "passes", "--elements", str(path)]
+    command += ["--lat", str(station.latitude_deg), "--lon", str(station.longitude_deg), "--alt-m", str(station.altitude_m)]
+    command += ["--start", start.strftime("%Y-%m-%dT%H:%M:%SZ"), "--days", f"{args.days:g}", "--step-s", f"{args.step_s:g}"]
+    command += ["--format", "csv", "--output", str(out), "--force", "--allow-stale"]
+    environment = dict(os.environ, PYTHONPATH=str(root) + os.pathsep + os.environ.get("PYTHONPATH", ""))
+
+    def run_command():
+        subprocess.run(command, check=True, env=environment, cwd=root, capture_output=True)
+
+    _, command_s = _timed(run_command, args.repeat)
+    reference, reference_s = _timed(lambda: skyfield_events(element_sets, station, start, end), args.repeat)
+
+    edges = {start.strftime("%Y-%m-%dT%H:%M:%SZ"), end.strftime("%Y-%m-%dT%H:%M:%SZ")}
+    with open(out, newline="") as source:
+        rows = [r for r in csv.DictReader(source) if r["aos_utc"] not in edges and r["los_utc"] not in edges]
+    parse = lambda text: datetime.strptime(text, "%Y-%m-%dT%H:%M:%SZ").replace(tzinfo=UTC)  # noqa: E731
+    ours = sorted((int(r["norad_id"]), parse(r["aos_utc"]), parse(r["los_utc"])) for r in rows)
+    ref = sorted(reference)
+    same = len(ours) == len(ref) and all(a[0] == b[0] for a, b in zip(ours, ref))
+    worst_aos = max((abs((a[1] - b[1]).total_seconds()) for a, b in zip(ours, ref)), default=0.0) if same else float("nan")
+    worst_los = max((abs((a[2] - b[2]).total_seconds()) for a, b in zip(ours, ref)), default=0.0) if same else float("nan")
+    print(f"machine: {os.cpu_count()} cores; {args.satellites} satellites x {args.days:g} days; {args.repeat} runs each")
+    print(f"planner passes --format csv : {_spread(command_s)}  ({len(ours)} complete passes in the CSV)")
+    print(f"skyfield find_events loop   : {_spread(reference_s)}  ({len(ref)} complete passes)")
+    ratio = statistics.median(reference_s) / statistics.median(command_s)
+    print(f"ratio (medians)             : {ratio:7.1f} (skyfield time / planner time)")
+    print(
+        f"agreement                   : same passes of the same satellites: {same}; worst AOS {worst_aos:.3f} s, "
+        f"LOS {worst_los:.3f} s (CSV to the second, skyfield's events to about 0.5 s)"
+    )
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--satellites", type=int, default=200)
     parser.add_argument("--days", type=float, default=7.0)
     parser.add_argument("--step-s", type=float, default=10.0)
+    parser.add_argument("--pass-list", action="store_true", help="time the planner passes command against find_events alone")
+    parser.add_argument("--repeat", type=int, default=3, help="runs of each side in --pass-list mode")
     args = parser.parse_args()
 
     folder = Path(tempfile.mkdtemp())
@@ -110,6 +192,9 @@ def main() -> None:
     station = Station("bench", 52.137, -1.804, 142.0)
     start = datetime(2027, 1, 4, tzinfo=UTC)
     end = start + timedelta(days=args.days)
+    if args.pass_list:
+        pass_list_mode(args, path, element_sets, station, start, end)
+        return
 
     t = time.perf_counter()
     ours = predict_passes(element_sets, station, start, end, step_s=args.step_s)

@@ -254,8 +254,9 @@ class Study:
             source=self.source,
         )
 
-    def passes(self) -> list[Pass]:
-        return predict_passes(list(self.targets), self.station, self.start_utc, self.end_utc, step_s=self.step_s)
+    def passes(self, *, tracks: bool = True) -> list[Pass]:
+        """Every pass of the study's targets; ``tracks=False`` for the pass figures alone (no tracks)."""
+        return predict_passes(list(self.targets), self.station, self.start_utc, self.end_utc, step_s=self.step_s, tracks=tracks)
 
 
 # ---------------------------------------------------------------------- resolving the scenario

@@ -68,14 +68,15 @@ def skyfield_passes(element_set, station, start, end, altitude_deg):
     return result
 
 
+@pytest.mark.parametrize("tracks", [True, False], ids=["tracks", "no-tracks"])
 @pytest.mark.parametrize("site_name", list(SITES))
-def test_passes_match_skyfield(element_sets, site_name):
+def test_passes_match_skyfield(element_sets, site_name, tracks):
     # Reference: skyfield EarthSatellite.find_events (rise/culminate/set) and altaz.
     # Required agreement: AOS/LOS within 1 s, maximum elevation
-    # within 0.01 deg, same number of passes.
+    # within 0.01 deg, same number of passes; with tracks and without (a pass list).
     station = SITES[site_name]
     end = START + timedelta(days=2)
-    ours_all = predict_passes(list(element_sets.values()), station, START, end, step_s=30)
+    ours_all = predict_passes(list(element_sets.values()), station, START, end, step_s=30, tracks=tracks)
     for name, element_set in element_sets.items():
         reference = skyfield_passes(element_set, station, START, end, 0.0)
         ours = [p for p in ours_all if p.norad_id == element_set.norad_id and not (p.aos_clipped or p.los_clipped)]

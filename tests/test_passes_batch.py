@@ -273,6 +273,46 @@ def test_results_do_not_depend_on_chunking_or_workers(catalog):
     _same_passes(one_chunk, predict_passes(targets, station, START, end, step_s=15, workers=1))
 
 
+_PASS_FIGURES = (
+    "satellite",
+    "norad_id",
+    "aos_utc",
+    "tca_utc",
+    "los_utc",
+    "max_elevation_deg",
+    "aos_azimuth_deg",
+    "tca_azimuth_deg",
+    "los_azimuth_deg",
+    "min_range_km",
+    "aos_clipped",
+    "los_clipped",
+)
+
+
+@pytest.mark.parametrize(
+    "mask",
+    [HorizonMask.from_points([[0, 5]]), HorizonMask.from_points([[0, 2], [80, 15], [200, 4], [300, 25]])],
+    ids=["flat", "walled"],
+)
+def test_pass_list_without_tracks_equals_the_one_with_tracks(catalog, mask):
+    # A pass list asks for no tracks; its figures must be the very numbers of the run
+    # with tracks (whose agreement with skyfield the tests above check), in this process
+    # and over worker processes.
+    station = Station("site", 52.2, -4.1, 80.0, mask)
+    end = START + timedelta(hours=18)
+    with_tracks = predict_passes(catalog[:40], station, START, end, step_s=15, workers=1)
+    assert len(with_tracks) > 100
+    for workers in (1, 2):
+        bare = predict_passes(catalog[:40], station, START, end, step_s=15, workers=workers, chunk_satellites=7, tracks=False)
+        assert len(bare) == len(with_tracks)
+        for p, q in zip(with_tracks, bare):
+            assert q.track is None
+            for name in _PASS_FIGURES:
+                assert getattr(p, name) == getattr(q, name), name
+    with pytest.raises(ValueError, match="without a track"):
+        bare[0].sampled_track()
+
+
 def _broken_element_set():
     """Elements SGP4 refuses at initialisation (eccentricity 1.2: error 1)."""
     satrec = Satrec()

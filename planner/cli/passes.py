@@ -120,8 +120,8 @@ def passes(
     force: bool = common.FORCE,
 ) -> None:
     """Predict every pass over the station, with AOS, TCA, LOS and sky track."""
-    from planner.decision.forecast import numbered_passes
-    from planner.output.export import PASS_COLUMNS, pass_row, to_csv, to_json
+    from planner.output.columns import concatenated, table_csv, table_json
+    from planner.output.export import PASS_COLUMNS
 
     common.check_format(format)
     if format == "table" and output is not None:
@@ -155,19 +155,44 @@ def passes(
     rules = common.write_rules(force, scenario=studies[0].scenario, inputs=(scenario, elements))
     common.check_outputs(rules, {"--output": output})
     several = len(studies) > 1
-    rows = []
+    tables = []
     for study in studies:
-        numbered = numbered_passes(study)
-        found = [p for _, p in numbered]
-        usable = usable_by_pass(study, candidate, numbered) if candidate is not None else None
+        found, usable = _passes_and_usable(study, candidate)
         if format == "table":
             _print_passes_table(study, found, usable, candidate)
-        mine = [pass_row(p) for p in found]
-        if usable is not None:
-            mine = [dict(row, **extra) for row, extra in zip(mine, usable)]
-        rows += common.with_station(mine, study, several)
+        else:
+            tables.append(_pass_columns(study, found, usable, several))
     columns = [*PASS_COLUMNS, *(USABLE_COLUMNS if candidate is not None else ()), *(["station"] if several else [])]
     if format == "json":
-        common.emit(to_json([{name: row[name] for name in columns} for row in rows]), output, rules)
+        common.emit(table_json(concatenated(tables, columns), columns), output, rules)
     elif format == "csv":
-        common.emit(to_csv(rows, columns), output, rules)
+        common.emit(table_csv(concatenated(tables, columns), columns), output, rules)
+
+
+def _passes_and_usable(study, candidate: str | None) -> tuple[list, list[dict] | None]:
+    """The study's passes, and with a candidate the usable columns of each.
+
+    The pass list alone predicts no tracks and leaves the budget modules unimported (a
+    second of start-up); --candidate needs the tracks for the budget along each pass.
+    """
+    if candidate is None:
+        return study.passes(tracks=False), None
+    from planner.decision.forecast import numbered_passes
+
+    numbered = numbered_passes(study)
+    return [p for _, p in numbered], usable_by_pass(study, candidate, numbered)
+
+
+def _pass_columns(study, found, usable, several: bool) -> dict:
+    """One study's passes as output columns: the contract's, then --candidate's, then the station's."""
+    import numpy as np
+
+    from planner.output.columns import pass_table
+
+    table = pass_table(found)
+    if usable is not None:
+        for name in USABLE_COLUMNS:
+            table[name] = np.array([row[name] for row in usable], dtype=object)
+    if several:
+        table["station"] = np.full(len(found), study.station.name, dtype=object)
+    return table

@@ -239,8 +239,9 @@ def _empty_samples() -> pd.DataFrame:
 
 def _satellite_tracks(mine: list[tuple[int, Pass]]) -> tuple:
     """One satellite's passes as flat float64 arrays: (pass_number, time_s, dt_s, azimuth, elevation, range)."""
-    lengths = np.array([len(p.track) for _, p in mine])
-    time_s = joined_time_s([p.track for _, p in mine])
+    tracks = [p.sampled_track() for _, p in mine]
+    lengths = np.array([len(track) for track in tracks])
+    time_s = joined_time_s(tracks)
     first = np.zeros(len(time_s), dtype=bool)
     first[np.cumsum(lengths)[:-1]] = True
     first[0] = True
@@ -248,9 +249,9 @@ def _satellite_tracks(mine: list[tuple[int, Pass]]) -> tuple:
         np.repeat(np.array([n for n, _ in mine], dtype=np.int64), lengths),
         time_s,
         trapezoid_weights(time_s, first),
-        np.concatenate([p.track.azimuth_deg for _, p in mine]),
-        np.concatenate([p.track.elevation_deg for _, p in mine]),
-        np.concatenate([p.track.range_km for _, p in mine]),
+        np.concatenate([track.azimuth_deg for track in tracks]),
+        np.concatenate([track.elevation_deg for track in tracks]),
+        np.concatenate([track.range_km for track in tracks]),
     )
 
 

@@ -43,6 +43,7 @@ class _ChunkJob:
     duration_s: float
     grid_step_s: float
     track_step_s: float
+    keep_tracks: bool = True  # False: the pass figures alone, no samples handed back
 
 
 def _recipe(satrec) -> tuple:
@@ -355,15 +356,21 @@ class _Chunk:
         )
 
     def passes(self) -> dict:
-        """The chunk's passes and tracks as flat arrays (see ``_run_chunk``)."""
+        """The chunk's passes and tracks as flat arrays (see ``_run_chunk``); with
+        ``keep_tracks`` false, ``samples`` is empty and every ``offsets`` entry 0."""
         sat, aos, los, aos_clipped, los_clipped = self.intervals()
         step = self.job.track_step_s
         time_s, offsets, pass_of_sample = _track_times(aos, los, step)
         n_pass = len(aos)
-        azimuth, elevation, range_km, range_rate, valid = self.look(sat[pass_of_sample], time_s, rate=True)
+        keep = self.job.keep_tracks
+        # Without tracks the samples still seed TCA and bound the extremes (the same
+        # elevations and ranges, so the same pass figures), but azimuth and range rate
+        # are not computed and nothing is stored.
+        azimuth, elevation, range_km, range_rate, valid = self.look(sat[pass_of_sample], time_s, azimuth=keep, rate=keep)
         if not valid.all():
             for array in (azimuth, elevation, range_km, range_rate):
-                array[~valid] = np.nan
+                if array is not None:
+                    array[~valid] = np.nan
 
         # Culmination: from the best track sample, golden section within a step of it.
         if n_pass:
@@ -382,9 +389,13 @@ class _Chunk:
             min_range = np.fmin(key_range[n_pass : 2 * n_pass], np.fmin.reduceat(range_km, starts))
         else:
             tca = max_elevation = min_range = key_azimuth = np.empty(0)
-        samples = np.empty((len(_SAMPLE_COLUMNS), len(time_s)), _SAMPLE_DTYPE)
-        for row, values in zip(samples, (azimuth, elevation, range_km, range_rate)):
-            row[:] = values
+        if keep:
+            samples = np.empty((len(_SAMPLE_COLUMNS), len(time_s)), _SAMPLE_DTYPE)
+            for row, values in zip(samples, (azimuth, elevation, range_km, range_rate)):
+                row[:] = values
+        else:
+            samples = np.empty((len(_SAMPLE_COLUMNS), 0), _SAMPLE_DTYPE)
+            offsets = np.zeros(n_pass + 1, np.int64)
         return dict(
             target_index=self.job.target_index[sat],
             aos_s=aos,

@@ -102,11 +102,17 @@ class Pass:
     min_range_km: float
     aos_clipped: bool  # the satellite was already up at the window start
     los_clipped: bool  # the satellite was still up at the window end
-    track: Track
+    track: Track | None  # None when predicted with tracks=False (a pass list)
 
     @property
     def duration_s(self) -> float:
         return (self.los_utc - self.aos_utc).total_seconds()
+
+    def sampled_track(self) -> Track:
+        """The track, for callers that need one: refused when the pass was predicted without."""
+        if self.track is None:
+            raise ValueError(f"{self.satellite} pass at {self.aos_utc:%Y-%m-%dT%H:%M:%SZ} was predicted without a track")
+        return self.track
 
 
 def _track_times(aos: np.ndarray, los: np.ndarray, step_s: float):

@@ -58,6 +58,7 @@ def predict_passes(
     step_s: float = 10.0,
     workers: int | None = None,
     chunk_satellites: int | None = None,
+    tracks: bool = True,
 ) -> list[Pass]:
     """Every pass of every target above the station's mask in [start_utc, end_utc].
 
@@ -69,6 +70,11 @@ def predict_passes(
     ``workers``: processes to spread the chunks over (default: one per core, and
     none at all below 200 satellites); ``chunk_satellites`` forces the chunk size.
     Neither changes the result.
+
+    ``tracks=False`` leaves every pass's ``track`` None, for callers that need the pass
+    figures alone (a pass list): no azimuth or range rate is computed along the passes and
+    no samples are kept or handed back between processes. AOS, TCA, LOS, the maximum
+    elevation, the azimuths and the minimum range are the same numbers either way.
     """
     target_list = _as_targets(targets)
     if not step_s > 0:
@@ -106,11 +112,13 @@ def predict_passes(
         site = _Site.of(station)
         usable_index = np.array(usable)
         jobs = [
-            _ChunkJob(usable_index[members], tuple(recipes[m] for m in members), site, clock, duration_s, grid_step, float(step_s))
+            _ChunkJob(
+                usable_index[members], tuple(recipes[m] for m in members), site, clock, duration_s, grid_step, float(step_s), tracks
+            )
             for grid_step, members in _plan_chunks(satrecs, duration_s, workers=workers, chunk_satellites=chunk_satellites)
         ]
         for result, failures in _run_all(jobs, workers):
-            passes.extend(_passes_from(result, target_list, start_utc, float(step_s)))
+            passes.extend(_passes_from(result, target_list, start_utc, float(step_s), tracks))
             for index, time_s, code in failures:
                 target = target_list[index]
                 when = start_utc + timedelta(seconds=time_s)
@@ -125,8 +133,9 @@ def predict_passes(
     return [item[1] for item in passes]
 
 
-def _passes_from(result: dict, targets: list[Target], start_utc: datetime, track_step_s: float) -> list[tuple]:
-    """(sort key, Pass) for every pass of one chunk; tracks are views of the chunk's samples."""
+def _passes_from(result: dict, targets: list[Target], start_utc: datetime, track_step_s: float, tracks: bool) -> list[tuple]:
+    """(sort key, Pass) for every pass of one chunk; tracks are views of the chunk's samples
+    (None when ``tracks`` is false)."""
     offsets = result["offsets"].tolist()
     columns = [
         result[name].tolist()
@@ -154,7 +163,11 @@ def _passes_from(result: dict, targets: list[Target], start_utc: datetime, track
         if index not in names:
             names[index] = (target.display_name, target.element_set.norad_id)
         name, norad_id = names[index]
-        track = Track(start_utc, aos_s, los_s, track_step_s, samples[:, offsets[j] : offsets[j + 1]], target.frequencies_hz)
+        track = (
+            Track(start_utc, aos_s, los_s, track_step_s, samples[:, offsets[j] : offsets[j + 1]], target.frequencies_hz)
+            if tracks
+            else None
+        )
         aos_utc = start_utc + timedelta(seconds=aos_s)
         item = Pass(
             name,
