@@ -61,10 +61,15 @@ def invented_catalog(count: int, seed: int = 7):
     return entries
 
 
-def skyfield_loop(element_sets, station, start, end, step_s):
+def _skyfield_frame(station, start, end):
+    """skyfield's time scale, the station as a WGS84 position, and the window's two ends."""
     ts = load.timescale()
     site = wgs84.latlon(station.latitude_deg, station.longitude_deg, elevation_m=station.altitude_m)
-    t0, t1 = ts.from_datetime(start), ts.from_datetime(end)
+    return ts, site, ts.from_datetime(start), ts.from_datetime(end)
+
+
+def skyfield_loop(element_sets, station, start, end, step_s):
+    ts, site, t0, t1 = _skyfield_frame(station, start, end)
     result = []
     for e in element_sets:
         sat = EarthSatellite.from_satrec(e.satrec, ts)
@@ -109,9 +114,7 @@ def refined_culminations(element_sets, station, reference):
 
 def skyfield_events(element_sets, station, start, end):
     """(norad_id, rise, set) of every complete pass from skyfield's find_events, no tracks."""
-    ts = load.timescale()
-    site = wgs84.latlon(station.latitude_deg, station.longitude_deg, elevation_m=station.altitude_m)
-    t0, t1 = ts.from_datetime(start), ts.from_datetime(end)
+    ts, site, t0, t1 = _skyfield_frame(station, start, end)
     result = []
     for e in element_sets:
         sat = EarthSatellite.from_satrec(e.satrec, ts)

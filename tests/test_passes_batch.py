@@ -227,24 +227,27 @@ def test_compact_tracks_agree_with_direct_sgp4(catalog):
     assert np.array_equal(engine.joined_time_s(mixed), np.concatenate([t.time_s for t in mixed]))
 
 
+_PASS_FIGURES = (
+    "satellite",
+    "norad_id",
+    "aos_utc",
+    "tca_utc",
+    "los_utc",
+    "max_elevation_deg",
+    "aos_azimuth_deg",
+    "tca_azimuth_deg",
+    "los_azimuth_deg",
+    "min_range_km",
+    "aos_clipped",
+    "los_clipped",
+)
+
+
 def _same_passes(a, b):
     """Field-by-field identity of two pass lists (arrays bit for bit)."""
     assert len(a) == len(b)
     for p, q in zip(a, b):
-        for name in (
-            "satellite",
-            "norad_id",
-            "aos_utc",
-            "tca_utc",
-            "los_utc",
-            "max_elevation_deg",
-            "aos_azimuth_deg",
-            "tca_azimuth_deg",
-            "los_azimuth_deg",
-            "min_range_km",
-            "aos_clipped",
-            "los_clipped",
-        ):
+        for name in _PASS_FIGURES:
             assert getattr(p, name) == getattr(q, name), name
         for name in ("time_s", "azimuth_deg", "elevation_deg", "range_km", "range_rate_km_s"):
             assert np.array_equal(getattr(p.track, name), getattr(q.track, name), equal_nan=True), name
@@ -271,22 +274,6 @@ def test_results_do_not_depend_on_chunking_or_workers(catalog):
     assert keys == sorted(keys)
     # And a second run is the same run.
     _same_passes(one_chunk, predict_passes(targets, station, START, end, step_s=15, workers=1))
-
-
-_PASS_FIGURES = (
-    "satellite",
-    "norad_id",
-    "aos_utc",
-    "tca_utc",
-    "los_utc",
-    "max_elevation_deg",
-    "aos_azimuth_deg",
-    "tca_azimuth_deg",
-    "los_azimuth_deg",
-    "min_range_km",
-    "aos_clipped",
-    "los_clipped",
-)
 
 
 @pytest.mark.parametrize(

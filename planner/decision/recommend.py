@@ -23,6 +23,7 @@ from datetime import UTC, datetime, timedelta
 import pandas as pd
 
 from planner.decision.forecast import (
+    DROPPED_COLUMNS,
     ELEVATION_BANDS_DEG,
     ONE_RECEIVER_LIMIT_TEXT,
     TUMBLING_POLARIZATION,
@@ -142,20 +143,9 @@ class Recommendation:
         return rows
 
 
-DROPPED_ROW_KEYS = (
-    "satellite",
-    "norad_id",
-    "pass_number",
-    "aos_utc",
-    "usable_start_utc",
-    "usable_end_utc",
-    "usable_s",
-    "conflicts_with_satellite",
-    "conflicts_with_pass_number",
-    "conflicts_with_aos_utc",
-    "overlap_s",
-)
-"""The keys of a ``dropped_for_conflicts`` row, in order (the columns of ``dropped.csv``)."""
+DROPPED_ROW_KEYS = tuple(column for column in DROPPED_COLUMNS if column != "value")
+"""The keys of a ``dropped_for_conflicts`` row, in order (the columns of ``dropped.csv``): the
+schedule's dropped columns without ``value``, the pass's weighted score inside the schedule."""
 
 
 def _utc_text(moment: datetime | None) -> str | None:

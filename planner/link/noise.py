@@ -68,6 +68,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from planner.choices import canonical_choice
 from planner.errors import UserError
 from planner.link.feedline import line_noise_temperature_k
 
@@ -116,7 +117,7 @@ def noise_temperature_to_figure_db(t_k):
 def _category(name: str) -> str:
     key = re.sub(r"[\s\-]+", "_", str(name).strip().lower())
     if key not in P372_CONSTANTS:
-        raise UserError(f"unknown noise environment '{name}'; allowed: {', '.join(k.replace('_', '-') for k in P372_CONSTANTS)}")
+        raise UserError(f"unknown noise environment '{name}'; allowed: {', '.join(canonical_choice(k) for k in P372_CONSTANTS)}")
     return key
 
 
