@@ -15,7 +15,7 @@ from planner.errors import UserError
 from planner.fileio import WriteRules
 
 
-def _forecast_with_progress(study, candidates, quiet: bool, *, keep_samples: bool = True):
+def forecast_with_progress(study, candidates, quiet: bool, *, keep_samples: bool = True):
     """Run the forecast with a progress bar on stderr (silenced by --quiet).
 
     ``keep_samples=False`` for commands that report per pass and per week only (catalogs).
@@ -43,7 +43,7 @@ def _forecast_with_progress(study, candidates, quiet: bool, *, keep_samples: boo
         return forecast(study, candidates, progress=report, keep_samples=keep_samples)
 
 
-def _chosen_candidates(study, candidate):
+def chosen_candidates(study, candidate):
     if not study.candidate_names:
         raise UserError(f"{study.scenario.source_path}: no [[candidate]] tables; add at least one set-up to compare")
     if candidate:
@@ -76,7 +76,7 @@ def week(
     several = len(studies) > 1
     rows = []
     for study in studies:
-        result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet, keep_samples=False)
+        result = forecast_with_progress(study, chosen_candidates(study, candidate), quiet, keep_samples=False)
         rows += common.with_station(week_rows(result.weekly), study, several)
         if format == "table":
             _print_week(study, result)
@@ -230,7 +230,7 @@ def _compare_one(study, candidate, quiet, format, rules, *, calendar, figures, r
     from planner.fileio import write_atomically
     from planner.output.export import calendar_ics, write_figures, write_report
 
-    result = _forecast_with_progress(study, _chosen_candidates(study, candidate), quiet)
+    result = forecast_with_progress(study, chosen_candidates(study, candidate), quiet)
     decision = recommend(result, study.satellites, study.candidates)
     if calendar is not None:
         write_atomically(calendar, calendar_ics(result.outcomes, study, decision.recommended), rules=rules)
@@ -341,7 +341,7 @@ def rank(
     rules = common.write_rules(force, scenario=study.scenario, inputs=(scenario,))
     common.check_outputs(rules, {"--output": output})
     study.candidate(candidate)
-    result = _forecast_with_progress(study, [candidate], quiet, keep_samples=False)
+    result = forecast_with_progress(study, [candidate], quiet, keep_samples=False)
     weekly = result.weekly.sort_values(["usable_minutes", "data_volume_mbit", "satellite"], ascending=[False, False, True])
     ids = {c.name: c.norad_id for c in study.satellites}
     rows = [

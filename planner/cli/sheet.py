@@ -45,10 +45,10 @@ def sheet(
 
 def _recommended(study, quiet: bool) -> tuple[str, str]:
     """The candidate the comparison recommends at this station, and a line saying so."""
-    from planner.cli.forecast import _chosen_candidates, _forecast_with_progress
+    from planner.cli.forecast import chosen_candidates, forecast_with_progress
     from planner.decision.recommend import recommend
 
-    result = _forecast_with_progress(study, _chosen_candidates(study, None), quiet)
+    result = forecast_with_progress(study, chosen_candidates(study, None), quiet)
     decision = recommend(result, study.satellites, study.candidates)
     return decision.recommended, (
         f"Candidate {decision.recommended}: recommended by the comparison at {study.station.name} "
